@@ -1,0 +1,3 @@
+//! tracephase
+pub mod capture;
+pub mod warning;

@@ -1,0 +1,179 @@
+//! Warnings that travel with a result.
+//!
+//! A warning never stops an analysis: it says what looks doubtful about the capture or the numbers
+//! and what the technician can do about it. Every stage may add warnings; they are collected on the
+//! final [`crate::Analysis`] and printed by every output format.
+
+use std::fmt;
+
+/// Which of the two traces a warning is about.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Trace {
+    /// The voltage trace.
+    Voltage,
+    /// The current trace.
+    Current,
+}
+
+impl fmt::Display for Trace {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            Trace::Voltage => "voltage",
+            Trace::Current => "current",
+        })
+    }
+}
+
+/// Something doubtful about a capture or its results, with advice.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Warning {
+    /// The sample interval of the time column varies by more than 1 %.
+    TimeJitter {
+        /// Largest deviation of one interval from the mean interval, in percent.
+        percent: f64,
+    },
+    /// `--rate` and the file's own time base disagree.
+    RateMismatch {
+        /// Rate given on the command line.
+        given_hz: f64,
+        /// Rate implied by the time column or preamble.
+        file_hz: f64,
+    },
+    /// Flat tops at the extremes of a trace: the instrument's range was exceeded.
+    Clipping {
+        /// Which trace.
+        trace: Trace,
+        /// Share of samples sitting on the extreme values, in percent.
+        percent: f64,
+    },
+    /// The record holds fewer than three cycles of the fundamental.
+    FewCycles {
+        /// Number of cycles in the record.
+        cycles: f64,
+    },
+    /// The phase angle is beyond ±90°: power flows from the "load" to the source.
+    ReversedCurrent {
+        /// The measured angle, degrees.
+        angle_deg: f64,
+    },
+    /// A trace uses only a few steps of its converter.
+    LowResolution {
+        /// Which trace.
+        trace: Trace,
+        /// Number of distinct sample values seen.
+        levels: usize,
+    },
+    /// A trace holds no fundamental above its noise: the phase angle and PF are undefined.
+    NoFundamental {
+        /// Which trace.
+        trace: Trace,
+        /// Fundamental RMS divided by the RMS of everything else.
+        ratio: f64,
+    },
+    /// The DFT and zero-crossing angles differ by more than their expected errors allow.
+    MethodsDisagree {
+        /// DFT angle minus zero-crossing angle, degrees.
+        difference_deg: f64,
+        /// The difference the two methods' own errors allow, degrees.
+        allowed_deg: f64,
+        /// Current THD in percent, the usual cause.
+        current_thd_percent: f64,
+        /// Voltage THD in percent.
+        voltage_thd_percent: f64,
+    },
+    /// Fewer harmonic orders fit below the Nyquist limit than were asked for.
+    HarmonicsCapped {
+        /// Orders asked for.
+        asked: usize,
+        /// Highest order below the Nyquist limit, used instead.
+        used: usize,
+    },
+    /// The fundamental frequency is far from 50, 60 or 400 Hz.
+    UnusualFrequency {
+        /// The measured frequency.
+        frequency_hz: f64,
+    },
+}
+
+impl Warning {
+    /// A short stable code for machines (CSV and JSON consumers filter on it).
+    pub fn code(&self) -> &'static str {
+        match self {
+            Warning::TimeJitter { .. } => "time-jitter",
+            Warning::RateMismatch { .. } => "rate-mismatch",
+            Warning::Clipping { .. } => "clipping",
+            Warning::FewCycles { .. } => "few-cycles",
+            Warning::ReversedCurrent { .. } => "reversed-current",
+            Warning::LowResolution { .. } => "low-resolution",
+            Warning::NoFundamental { .. } => "no-fundamental",
+            Warning::MethodsDisagree { .. } => "methods-disagree",
+            Warning::HarmonicsCapped { .. } => "harmonics-capped",
+            Warning::UnusualFrequency { .. } => "unusual-frequency",
+        }
+    }
+}
+
+impl fmt::Display for Warning {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Warning::TimeJitter { percent } => write!(
+                f,
+                "sample interval varies by up to {percent:.1} %: the time column is uneven, \
+                 results assume its mean rate; check the logger's clock or export settings"
+            ),
+            Warning::RateMismatch { given_hz, file_hz } => write!(
+                f,
+                "--rate {given_hz} Hz differs from the file's own time base ({file_hz:.6} Hz); \
+                 using --rate"
+            ),
+            Warning::Clipping { trace, percent } => write!(
+                f,
+                "{trace} trace looks clipped ({percent:.1} % of samples on flat tops): \
+                 use a larger range or probe ratio and capture again"
+            ),
+            Warning::FewCycles { cycles } => write!(
+                f,
+                "only {cycles:.2} cycles in the record: results are less certain; \
+                 capture at least 10 cycles where you can"
+            ),
+            Warning::ReversedCurrent { angle_deg } => write!(
+                f,
+                "phase angle {angle_deg:.1}° is beyond ±90°: power flows back to the source; \
+                 if this load does not generate, the current probe or clamp is probably reversed"
+            ),
+            Warning::LowResolution { trace, levels } => write!(
+                f,
+                "{trace} trace uses only {levels} distinct levels: raise the vertical gain \
+                 so the waveform fills more of the screen"
+            ),
+            Warning::NoFundamental { trace, ratio } => write!(
+                f,
+                "{trace} trace holds no fundamental above its noise (ratio {ratio:.2}): \
+                 phase angle and power factor are undefined (is the load switched off?)"
+            ),
+            Warning::MethodsDisagree {
+                difference_deg,
+                allowed_deg,
+                current_thd_percent,
+                voltage_thd_percent,
+            } => write!(
+                f,
+                "DFT and zero-crossing angles differ by {difference_deg:.2}° (their errors allow \
+                 {allowed_deg:.2}°): harmonics shift zero crossings (current THD \
+                 {current_thd_percent:.1} %, voltage THD {voltage_thd_percent:.1} %), \
+                 so the DFT angle is the one for the fundamental"
+            ),
+            Warning::HarmonicsCapped { asked, used } => write!(
+                f,
+                "harmonics up to order {asked} asked for, but only orders up to {used} lie \
+                 below the Nyquist limit of this sample rate; THD and spectrum stop at {used}"
+            ),
+            Warning::UnusualFrequency { frequency_hz } => write!(
+                f,
+                "fundamental at {frequency_hz:.3} Hz is far from 50, 60 or 400 Hz: \
+                 check the sample rate (--rate) or the time column"
+            ),
+        }
+    }
+}
