@@ -1,0 +1,223 @@
+//! Estimation: fundamental frequency, harmonic phasors and zero-crossing phases.
+//!
+//! Input: two scaled traces and their sample rate. Output: an [`Estimate`].
+//!
+//! 1. Coarse frequency from an interpolated Hann DFT ([`frequency::coarse`]).
+//! 2. When the record is heavily oversampled it is block-averaged (exact, known gain per
+//!    harmonic, no phase change at block centres; [`crate::condition::decimate`]).
+//! 3. The frequency is refined by the phase slope of harmonic fits across sub-records
+//!    ([`frequency::refine`]).
+//! 4. DC and harmonics 1..H of both traces are fitted by least squares at that frequency
+//!    ([`fit::fit`], IEEE Std 1057 sine fit extended to harmonics), giving RMS phasors that stay
+//!    exact on a non-integer number of cycles.
+//! 5. Independently, the zero-crossing phase of each raw trace ([`zero_crossing`]).
+
+pub mod fit;
+pub mod frequency;
+pub mod zero_crossing;
+
+use crate::condition::{block_average_gain, decimate};
+use crate::warning::Trace;
+use rustfft::num_complex::Complex64;
+use std::f64::consts::{PI, SQRT_2};
+pub use zero_crossing::CrossingPhase;
+
+/// Harmonic orders fitted at least (when the sample rate allows), whatever is reported: unmodelled
+/// harmonics would leak into the fundamental on a non-integer record.
+pub const MIN_FIT_ORDER: usize = 50;
+/// Highest usable harmonic frequency as a share of the Nyquist frequency.
+pub const NYQUIST_SHARE: f64 = 0.95;
+/// Decimate only while every fitted harmonic stays below 1/16 of the new sample rate.
+const OVERSAMPLE_KEEP: f64 = 16.0;
+/// A fundamental weaker than this share of the rest of the trace is taken as absent.
+pub const MIN_FUNDAMENTAL_RATIO: f64 = 0.05;
+
+/// Why no estimate could be made.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum EstimateError {
+    /// Every sample of a trace is the same value.
+    #[error("the {0} trace is flat (every sample {1}): check the channel and probe")]
+    FlatTrace(Trace, f64),
+    /// No periodic component found in either trace.
+    #[error("no fundamental frequency found in either trace: is the sample rate right?")]
+    NoPeriodicSignal,
+    /// Fewer than two cycles of the fundamental.
+    #[error("only {cycles:.2} cycles of {frequency_hz:.3} Hz in the record: at least 2 are needed")]
+    TooFewCycles {
+        /// Cycles in the record.
+        cycles: f64,
+        /// The frequency found.
+        frequency_hz: f64,
+    },
+    /// The sample rate is too low for even the fundamental.
+    #[error("sample rate {rate_hz} Hz is too low for a {frequency_hz:.3} Hz fundamental")]
+    RateTooLow {
+        /// Sample rate.
+        rate_hz: f64,
+        /// Frequency found.
+        frequency_hz: f64,
+    },
+}
+
+/// Phasors and crossing phase of one trace.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChannelPhasors {
+    /// DC level.
+    pub dc: f64,
+    /// RMS phasors of harmonics 1..=order (index h−1), angle referred to
+    /// [`Estimate::reference_sample`], cosine reference.
+    pub harmonics: Vec<Complex64>,
+    /// RMS of what the fit leaves (noise, interharmonics) in the fitted record.
+    pub residual_rms: f64,
+    /// Standard uncertainty of the fundamental's phase from the fit residual, radians.
+    pub phase_sigma_rad: f64,
+    /// Whether the fundamental stands out of the rest of the trace.
+    pub has_fundamental: bool,
+    /// Fundamental RMS over the RMS of everything else.
+    pub fundamental_ratio: f64,
+    /// Zero-crossing phase, when the fundamental exists and crossings were found.
+    pub crossing: Option<CrossingPhase>,
+}
+
+impl ChannelPhasors {
+    /// Fundamental RMS phasor.
+    pub fn fundamental(&self) -> Complex64 {
+        self.harmonics[0]
+    }
+}
+
+/// Everything the estimators found.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Estimate {
+    /// Fundamental frequency, Hz.
+    pub frequency_hz: f64,
+    /// Standard uncertainty of the frequency (Cramér-Rao bound at the fitted noise), Hz.
+    pub frequency_sigma_hz: f64,
+    /// Trace the frequency was taken from.
+    pub frequency_source: Trace,
+    /// Cycles in the record.
+    pub cycles: f64,
+    /// Highest harmonic order fitted.
+    pub order: usize,
+    /// Highest order below [`NYQUIST_SHARE`] of the Nyquist frequency.
+    pub order_limit: usize,
+    /// Block-average factor used before fitting (1 = none).
+    pub decimation: usize,
+    /// Sample index (input rate, may be fractional) the phasor angles refer to.
+    pub reference_sample: f64,
+    /// Voltage phasors.
+    pub voltage: ChannelPhasors,
+    /// Current phasors.
+    pub current: ChannelPhasors,
+}
+
+/// Estimates frequency and phasors of `v` and `i` sampled at `fs` Hz, fitting at least
+/// `wanted_order` harmonics where the sample rate allows.
+pub fn estimate(v: &[f64], i: &[f64], fs: f64, wanted_order: usize) -> Result<Estimate, EstimateError> {
+    for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
+        if let Some(&first) = y.first() {
+            if y.iter().all(|&x| x == first) {
+                return Err(EstimateError::FlatTrace(t, first));
+            }
+        }
+    }
+    let (coarse_hz, source) = match frequency::coarse(v, fs) {
+        Some(f) => (f, Trace::Voltage),
+        None => (
+            frequency::coarse(i, fs).ok_or(EstimateError::NoPeriodicSignal)?,
+            Trace::Current,
+        ),
+    };
+    let order_limit = (NYQUIST_SHARE * fs / 2.0 / coarse_hz).floor() as usize;
+    if order_limit < 1 {
+        return Err(EstimateError::RateTooLow {
+            rate_hz: fs,
+            frequency_hz: coarse_hz,
+        });
+    }
+    let order = order_limit.min(wanted_order.max(MIN_FIT_ORDER));
+    let decimation = ((fs / (OVERSAMPLE_KEEP * 2.0 * order as f64 * coarse_hz)).floor() as usize).max(1);
+    let vd = decimate(v, decimation);
+    let id = decimate(i, decimation);
+    let fsd = fs / decimation as f64;
+    let refined = frequency::refine(
+        if source == Trace::Voltage { &vd } else { &id },
+        fsd,
+        coarse_hz,
+        order,
+    );
+    let f = refined.hz;
+    let cycles = v.len() as f64 * f / fs;
+    if !(cycles >= 2.0) {
+        return Err(EstimateError::TooFewCycles {
+            cycles,
+            frequency_hz: f,
+        });
+    }
+    // Final order: the record must carry 2H+1 unknowns with room to spare.
+    let order = order.min(vd.len().saturating_sub(4) / 3).max(1);
+    let theta = 2.0 * PI * f / fsd;
+    let reference_sample = (vd.len() * decimation) as f64 / 2.0 - 0.5;
+    let omega_in = 2.0 * PI * f / fs;
+    let channel = |y: &[f64], yd: &[f64]| -> Result<ChannelPhasors, EstimateError> {
+        let fit = fit::fit(yd, theta, order).ok_or(EstimateError::NoPeriodicSignal)?;
+        let harmonics: Vec<Complex64> = fit
+            .amplitudes
+            .iter()
+            .enumerate()
+            .map(|(k, a)| a / (SQRT_2 * block_average_gain((k + 1) as f64 * omega_in, decimation)))
+            .collect();
+        let residual_rms = fit.residual_ms().sqrt();
+        let fund = harmonics[0].norm();
+        // Everything but the fundamental, from the fit: harmonics, DC and residual.
+        let rest = (fit.dc * fit.dc
+            + harmonics[1..].iter().map(|h| h.norm_sqr()).sum::<f64>()
+            + fit.residual_ms())
+        .sqrt();
+        let fundamental_ratio = if rest > 0.0 { fund / rest } else { f64::INFINITY };
+        // Noise alone leaves a fundamental of about sqrt(2/N) of its RMS; ask for four times that.
+        let noise_floor = 4.0 * (2.0 / yd.len() as f64).sqrt();
+        let has_fundamental = fundamental_ratio > MIN_FUNDAMENTAL_RATIO.max(noise_floor);
+        // var(φ) ≈ 1/(η N), η = A²/(2σ²) (Kay, vol. I; references §4), A = √2·RMS.
+        let phase_sigma_rad = if fund > 0.0 {
+            residual_rms / (fund * (yd.len() as f64).sqrt())
+        } else {
+            f64::INFINITY
+        };
+        let crossing = if has_fundamental {
+            let noise_in = residual_rms * (decimation as f64).sqrt();
+            let band = (0.03 * fund * SQRT_2).max(3.0 * noise_in).min(0.5 * fund * SQRT_2);
+            zero_crossing::crossing_phase(y, fs, f, fit.dc, band)
+        } else {
+            None
+        };
+        Ok(ChannelPhasors {
+            dc: fit.dc,
+            harmonics,
+            residual_rms,
+            phase_sigma_rad,
+            has_fundamental,
+            fundamental_ratio,
+            crossing,
+        })
+    };
+    let voltage = channel(v, &vd)?;
+    let current = channel(i, &id)?;
+    // Cramér-Rao bound for the frequency (Kay, vol. I; references §4), in cycles per sample.
+    let src = if source == Trace::Voltage { &voltage } else { &current };
+    let nd = vd.len() as f64;
+    let eta = src.fundamental().norm_sqr() / src.residual_rms.powi(2).max(f64::MIN_POSITIVE);
+    let var_f = 12.0 / ((2.0 * PI).powi(2) * eta * nd * (nd * nd - 1.0));
+    Ok(Estimate {
+        frequency_hz: f,
+        frequency_sigma_hz: var_f.sqrt() * fsd,
+        frequency_source: source,
+        cycles,
+        order,
+        order_limit,
+        decimation,
+        reference_sample,
+        voltage,
+        current,
+    })
+}
