@@ -120,12 +120,7 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         return Err(LoadErrorKind::Empty);
     }
     // Delimiter: the first of tab, ';', ',' that splits the last lines into a steady count >= 2.
-    let tail: Vec<&[u8]> = content
-        .iter()
-        .rev()
-        .take(20)
-        .map(|&k| lines[k].1)
-        .collect();
+    let tail: Vec<&[u8]> = content.iter().rev().take(20).map(|&k| lines[k].1).collect();
     // The last line and most of the tail must agree on the count (a preamble may sit in the tail).
     let mut chosen = None;
     for d in [b'\t', b';', b','] {
@@ -180,7 +175,10 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
     for &k in &content[..preamble_end] {
         let mut cells = split(lines[k].1, delimiter);
         let key = cells.next().map(unquote).unwrap_or_default().to_lowercase();
-        let Some(value) = cells.next().and_then(|v| number_with_unit(v, decimal_comma)) else {
+        let Some(value) = cells
+            .next()
+            .and_then(|v| number_with_unit(v, decimal_comma))
+        else {
             continue;
         };
         if value <= 0.0 {
@@ -316,8 +314,7 @@ pub(crate) fn load(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError
     let need = vc.max(ic).max(layout.time_col.unwrap_or(0)) + 1;
     let mut time = TimeCheck::default();
     let mut rec = ::csv::ByteRecord::new();
-    let line_of =
-        |rec: &::csv::ByteRecord| rec.position().map(|p| p.line() + layout.data_line - 1);
+    let line_of = |rec: &::csv::ByteRecord| rec.position().map(|p| p.line() + layout.data_line - 1);
     loop {
         match rdr.read_byte_record(&mut rec) {
             Ok(true) => {}

@@ -129,7 +129,9 @@ pub enum LoadErrorKind {
     #[error("sample rate {0} Hz is not usable")]
     BadRate(f64),
     /// The WAV file ends before its header says it should.
-    #[error("truncated: the header promises {expected} samples per channel, the file holds {found}")]
+    #[error(
+        "truncated: the header promises {expected} samples per channel, the file holds {found}"
+    )]
     Truncated {
         /// Samples per channel promised.
         expected: u64,

@@ -10,15 +10,24 @@
 //! fraction of a sample.
 
 use crate::capture::Capture;
+use std::f64::consts::PI;
 
 /// Multiplies the traces by the probe or clamp ratios (volts per unit, amperes per unit).
 pub fn scale(capture: &mut Capture, v_scale: f64, i_scale: f64) {
     if v_scale != 1.0 {
-        capture.voltage.samples.iter_mut().for_each(|x| *x *= v_scale);
+        capture
+            .voltage
+            .samples
+            .iter_mut()
+            .for_each(|x| *x *= v_scale);
         capture.voltage.full_scale = capture.voltage.full_scale.map(|f| f * v_scale.abs());
     }
     if i_scale != 1.0 {
-        capture.current.samples.iter_mut().for_each(|x| *x *= i_scale);
+        capture
+            .current
+            .samples
+            .iter_mut()
+            .for_each(|x| *x *= i_scale);
         capture.current.full_scale = capture.current.full_scale.map(|f| f * i_scale.abs());
     }
 }
@@ -61,10 +70,89 @@ pub fn whole_cycles(len: usize, samples_per_cycle: f64) -> (usize, usize) {
     (cycles, span)
 }
 
+/// Share of samples (percent) sitting on flat tops at the trace's extremes, when that is more
+/// than a sine digitised with the trace's own step would show; `None` when the trace looks
+/// unclipped.
+///
+/// An unclipped sine of amplitude A digitised in steps q stays on its top step for a share
+/// `acos(1 − q/A)/π` of each cycle; a clipped one for much longer. The step q is the gap between
+/// the extreme value and the next distinct value below (above) it.
+pub fn clipping(y: &[f64]) -> Option<f64> {
+    let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    for &x in y {
+        lo = lo.min(x);
+        hi = hi.max(x);
+    }
+    let amplitude = (hi - lo) / 2.0;
+    if !(amplitude > 0.0) {
+        return None;
+    }
+    let (mut n_hi, mut n_lo) = (0usize, 0usize);
+    let (mut below_hi, mut above_lo) = (lo, hi);
+    for &x in y {
+        if x == hi {
+            n_hi += 1;
+        } else {
+            below_hi = below_hi.max(x);
+        }
+        if x == lo {
+            n_lo += 1;
+        } else {
+            above_lo = above_lo.min(x);
+        }
+    }
+    let n = y.len() as f64;
+    let expected = |step: f64| (1.0 - (step / amplitude).min(2.0)).acos() / PI;
+    let flat = |count: usize, step: f64| {
+        let share = count as f64 / n;
+        count >= 3 && share > 2.5 * expected(step) + 0.005
+    };
+    let clipped = flat(n_hi, hi - below_hi) || flat(n_lo, above_lo - lo);
+    clipped.then(|| 100.0 * (n_hi + n_lo) as f64 / n)
+}
+
+/// Number of distinct values among up to 4096 evenly spread samples, when it is under 20 (a
+/// trace that uses only a few converter steps); `None` otherwise.
+pub fn few_levels(y: &[f64]) -> Option<usize> {
+    let step = (y.len() / 4096).max(1);
+    let mut s: Vec<f64> = y.iter().step_by(step).copied().collect();
+    if s.len() < 256 {
+        return None;
+    }
+    s.sort_by(f64::total_cmp);
+    s.dedup();
+    (s.len() < 20).then_some(s.len())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
-    use std::f64::consts::PI;
+
+    fn quantised_sine(n: usize, bits: u32, clip: f64) -> Vec<f64> {
+        let q = 2.0 / 2f64.powi(bits as i32);
+        (0..n)
+            .map(|k| {
+                let x = 0.9 * (2.0 * PI * k as f64 / 200.0).sin();
+                (x.clamp(-clip, clip) / q).round() * q
+            })
+            .collect()
+    }
+
+    /// Clipping at 90 % of the peak (references §8 scenario) is reported; the plain 8-bit
+    /// quantisation flats of an unclipped sine are not.
+    #[test]
+    fn clipping_is_told_apart_from_quantisation() {
+        assert_eq!(clipping(&quantised_sine(4000, 8, 1.0)), None);
+        let pct = clipping(&quantised_sine(4000, 8, 0.81)).unwrap();
+        assert!(pct > 20.0, "{pct}");
+        assert_eq!(clipping(&quantised_sine(4000, 16, 1.0)), None);
+    }
+
+    #[test]
+    fn few_levels_flags_a_trace_using_four_bits() {
+        assert_eq!(few_levels(&quantised_sine(4000, 12, 1.0)), None);
+        assert!(few_levels(&quantised_sine(4000, 4, 1.0)).is_some());
+    }
 
     /// Block averaging a cosine gives the cosine at the block centre times the Dirichlet gain.
     #[test]

@@ -131,7 +131,11 @@ pub fn fit(y: &[f64], theta: f64, order: usize) -> Option<HarmonicFit> {
         coef_sin.extend(cholesky_solve(gs, &proj_sin[1..])?);
     }
     let energy: f64 = y.iter().map(|v| v * v).sum();
-    let explained: f64 = coef_cos.iter().zip(&proj_cos).map(|(a, b)| a * b).sum::<f64>()
+    let explained: f64 = coef_cos
+        .iter()
+        .zip(&proj_cos)
+        .map(|(a, b)| a * b)
+        .sum::<f64>()
         + coef_sin
             .iter()
             .zip(&proj_sin)
@@ -256,7 +260,10 @@ mod tests {
                 .map(|k| Complex64::from_polar(1.0, alpha * (k as f64 - c)))
                 .sum();
             let closed = cis_sum(alpha, n, c);
-            assert!((direct - closed).norm() < 1e-9, "{alpha} {n}: {direct} vs {closed}");
+            assert!(
+                (direct - closed).norm() < 1e-9,
+                "{alpha} {n}: {direct} vs {closed}"
+            );
         }
     }
 
@@ -267,8 +274,16 @@ mod tests {
         let (pc, ps) = project(&y, theta, 7);
         let c = (y.len() as f64 - 1.0) / 2.0;
         for h in 0..=7 {
-            let dc: f64 = y.iter().enumerate().map(|(k, v)| v * (h as f64 * theta * (k as f64 - c)).cos()).sum();
-            let ds: f64 = y.iter().enumerate().map(|(k, v)| v * (h as f64 * theta * (k as f64 - c)).sin()).sum();
+            let dc: f64 = y
+                .iter()
+                .enumerate()
+                .map(|(k, v)| v * (h as f64 * theta * (k as f64 - c)).cos())
+                .sum();
+            let ds: f64 = y
+                .iter()
+                .enumerate()
+                .map(|(k, v)| v * (h as f64 * theta * (k as f64 - c)).sin())
+                .sum();
             assert!((pc[h] - dc).abs() < 1e-8 * dc.abs().max(1.0), "h{h} cos");
             assert!((ps[h] - ds).abs() < 1e-8 * ds.abs().max(1.0), "h{h} sin");
         }

@@ -183,7 +183,11 @@ mod tests {
         let y = wave(n, fs, f_true);
         let f0 = coarse(&y, fs).unwrap();
         let r = refine(&y, fs, f0, 10);
-        assert!(((r.hz - f_true) / f_true).abs() < 1e-9, "{} vs {f_true}", r.hz);
+        assert!(
+            ((r.hz - f_true) / f_true).abs() < 1e-9,
+            "{} vs {f_true}",
+            r.hz
+        );
     }
 
     #[test]

@@ -113,7 +113,12 @@ pub struct Estimate {
 
 /// Estimates frequency and phasors of `v` and `i` sampled at `fs` Hz, fitting at least
 /// `wanted_order` harmonics where the sample rate allows.
-pub fn estimate(v: &[f64], i: &[f64], fs: f64, wanted_order: usize) -> Result<Estimate, EstimateError> {
+pub fn estimate(
+    v: &[f64],
+    i: &[f64],
+    fs: f64,
+    wanted_order: usize,
+) -> Result<Estimate, EstimateError> {
     for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
         if let Some(&first) = y.first() {
             if y.iter().all(|&x| x == first) {
@@ -136,7 +141,8 @@ pub fn estimate(v: &[f64], i: &[f64], fs: f64, wanted_order: usize) -> Result<Es
         });
     }
     let order = order_limit.min(wanted_order.max(MIN_FIT_ORDER));
-    let decimation = ((fs / (OVERSAMPLE_KEEP * 2.0 * order as f64 * coarse_hz)).floor() as usize).max(1);
+    let decimation =
+        ((fs / (OVERSAMPLE_KEEP * 2.0 * order as f64 * coarse_hz)).floor() as usize).max(1);
     let vd = decimate(v, decimation);
     let id = decimate(i, decimation);
     let fsd = fs / decimation as f64;
@@ -174,7 +180,11 @@ pub fn estimate(v: &[f64], i: &[f64], fs: f64, wanted_order: usize) -> Result<Es
             + harmonics[1..].iter().map(|h| h.norm_sqr()).sum::<f64>()
             + fit.residual_ms())
         .sqrt();
-        let fundamental_ratio = if rest > 0.0 { fund / rest } else { f64::INFINITY };
+        let fundamental_ratio = if rest > 0.0 {
+            fund / rest
+        } else {
+            f64::INFINITY
+        };
         // Noise alone leaves a fundamental of about sqrt(2/N) of its RMS; ask for four times that.
         let noise_floor = 4.0 * (2.0 / yd.len() as f64).sqrt();
         let has_fundamental = fundamental_ratio > MIN_FUNDAMENTAL_RATIO.max(noise_floor);
@@ -186,7 +196,9 @@ pub fn estimate(v: &[f64], i: &[f64], fs: f64, wanted_order: usize) -> Result<Es
         };
         let crossing = if has_fundamental {
             let noise_in = residual_rms * (decimation as f64).sqrt();
-            let band = (0.03 * fund * SQRT_2).max(3.0 * noise_in).min(0.5 * fund * SQRT_2);
+            let band = (0.03 * fund * SQRT_2)
+                .max(3.0 * noise_in)
+                .min(0.5 * fund * SQRT_2);
             zero_crossing::crossing_phase(y, fs, f, fit.dc, band)
         } else {
             None
@@ -204,7 +216,11 @@ pub fn estimate(v: &[f64], i: &[f64], fs: f64, wanted_order: usize) -> Result<Es
     let voltage = channel(v, &vd)?;
     let current = channel(i, &id)?;
     // Cramér-Rao bound for the frequency (Kay, vol. I; references §4), in cycles per sample.
-    let src = if source == Trace::Voltage { &voltage } else { &current };
+    let src = if source == Trace::Voltage {
+        &voltage
+    } else {
+        &current
+    };
     let nd = vd.len() as f64;
     let eta = src.fundamental().norm_sqr() / src.residual_rms.powi(2).max(f64::MIN_POSITIVE);
     let var_f = 12.0 / ((2.0 * PI).powi(2) * eta * nd * (nd * nd - 1.0));

@@ -1,0 +1,124 @@
+//! The analysis pipeline for one capture: condition -> estimate -> quantities.
+
+use crate::capture::{Capture, SourceFormat};
+use crate::condition;
+use crate::estimate::{self, Estimate, EstimateError};
+use crate::quantity::{self, Quantities, QuantitySettings};
+use crate::warning::{Trace, Warning};
+use std::path::PathBuf;
+
+/// Default highest harmonic order reported (IEEE 519-2014 counts to the 50th).
+pub const DEFAULT_HARMONICS: usize = 50;
+
+/// Resolved analysis settings (what the command line or a settings file asked for).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Settings {
+    /// Voltage probe ratio: volts per unit of the file.
+    pub v_scale: f64,
+    /// Current probe or clamp ratio: amperes per unit of the file.
+    pub i_scale: f64,
+    /// Known delay of the current channel, seconds.
+    pub skew_s: f64,
+    /// Highest harmonic order to report.
+    pub harmonics: usize,
+}
+
+impl Default for Settings {
+    fn default() -> Self {
+        Settings {
+            v_scale: 1.0,
+            i_scale: 1.0,
+            skew_s: 0.0,
+            harmonics: DEFAULT_HARMONICS,
+        }
+    }
+}
+
+/// Everything known about one analysed capture.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Analysis {
+    /// The file.
+    pub path: PathBuf,
+    /// Its format.
+    pub format: SourceFormat,
+    /// Samples per second.
+    pub sample_rate_hz: f64,
+    /// Samples per trace.
+    pub samples: usize,
+    /// Name of the voltage channel in the file.
+    pub voltage_channel: String,
+    /// Name of the current channel in the file.
+    pub current_channel: String,
+    /// Settings used.
+    pub settings: Settings,
+    /// Estimator outputs.
+    pub estimate: Estimate,
+    /// Computed quantities.
+    pub quantities: Quantities,
+    /// All warnings, from loading on.
+    pub warnings: Vec<Warning>,
+}
+
+/// A capture that loaded but could not be analysed.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{}: {source}", .path.display())]
+pub struct AnalysisError {
+    /// The file.
+    pub path: PathBuf,
+    /// Why.
+    pub source: EstimateError,
+}
+
+/// Estimates and computes quantities for two traces already in volts and amperes.
+pub fn analyze_traces(
+    v: &[f64],
+    i: &[f64],
+    rate_hz: f64,
+    settings: &Settings,
+) -> Result<(Estimate, Quantities), EstimateError> {
+    let est = estimate::estimate(v, i, rate_hz, settings.harmonics)?;
+    let q = quantity::quantities(
+        v,
+        i,
+        rate_hz,
+        &est,
+        &QuantitySettings {
+            skew_s: settings.skew_s,
+            harmonics: settings.harmonics,
+        },
+    );
+    Ok((est, q))
+}
+
+/// Runs the whole pipeline on a loaded capture.
+pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, AnalysisError> {
+    condition::scale(&mut capture, settings.v_scale, settings.i_scale);
+    let (v, i) = (&capture.voltage.samples, &capture.current.samples);
+    let (estimate, quantities) =
+        analyze_traces(v, i, capture.sample_rate_hz, settings).map_err(|source| AnalysisError {
+            path: capture.path.clone(),
+            source,
+        })?;
+    let mut warnings = std::mem::take(&mut capture.warnings);
+    for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
+        if let Some(percent) = condition::clipping(y) {
+            warnings.push(Warning::Clipping { trace: t, percent });
+        }
+        if let Some(levels) = condition::few_levels(y) {
+            warnings.push(Warning::LowResolution { trace: t, levels });
+        }
+    }
+    warnings.extend(quantities.warnings.iter().cloned());
+    Ok(Analysis {
+        samples: capture.len(),
+        path: capture.path,
+        format: capture.format,
+        sample_rate_hz: capture.sample_rate_hz,
+        voltage_channel: capture.voltage.name,
+        current_channel: capture.current.name,
+        settings: *settings,
+        estimate,
+        quantities,
+        warnings,
+    })
+}
