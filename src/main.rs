@@ -1,1 +1,18 @@
-fn main() {}
+//! The `tracephase` command: parse, run, turn the outcome into an exit code.
+
+use clap::Parser;
+use std::process::ExitCode;
+use tracephase::app::{self, Outcome};
+use tracephase::cli::Cli;
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let stdout = std::io::stdout();
+    let stderr = std::io::stderr();
+    let mut out = std::io::BufWriter::new(stdout.lock());
+    let mut err = stderr.lock();
+    match app::run(cli, &mut out, &mut err) {
+        Outcome::Ok => ExitCode::SUCCESS,
+        Outcome::InputErrors => ExitCode::from(2),
+    }
+}

@@ -66,7 +66,7 @@ fn shorten(cell: &[u8]) -> String {
     }
 }
 
-fn split<'a>(line: &'a [u8], d: u8) -> impl Iterator<Item = &'a [u8]> {
+fn split(line: &[u8], d: u8) -> impl Iterator<Item = &[u8]> {
     line.split(move |&b| b == d)
 }
 

@@ -61,11 +61,13 @@ pub fn coarse(y: &[f64], fs: f64) -> Option<f64> {
         }
         let lo = centre.saturating_sub(1).max(first);
         let hi = (centre + 1).min(mag.len() - 2);
-        if let Some(c) = (lo..=hi).max_by(|&a, &b| mag[a].total_cmp(&mag[b])) {
-            if mag[c] >= 0.2 * mag[peak] && mag[c] >= mag[c - 1] && mag[c] >= mag[c + 1] {
-                k = c;
-                break;
-            }
+        if let Some(c) = (lo..=hi).max_by(|&a, &b| mag[a].total_cmp(&mag[b]))
+            && mag[c] >= 0.2 * mag[peak]
+            && mag[c] >= mag[c - 1]
+            && mag[c] >= mag[c + 1]
+        {
+            k = c;
+            break;
         }
     }
     let (left, right) = (mag[k - 1], mag[k + 1]);

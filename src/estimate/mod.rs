@@ -120,10 +120,10 @@ pub fn estimate(
     wanted_order: usize,
 ) -> Result<Estimate, EstimateError> {
     for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
-        if let Some(&first) = y.first() {
-            if y.iter().all(|&x| x == first) {
-                return Err(EstimateError::FlatTrace(t, first));
-            }
+        if let Some(&first) = y.first()
+            && y.iter().all(|&x| x == first)
+        {
+            return Err(EstimateError::FlatTrace(t, first));
         }
     }
     let (coarse_hz, source) = match frequency::coarse(v, fs) {

@@ -14,6 +14,7 @@
 
 pub mod power;
 
+use crate::analysis::DEFAULT_HARMONICS;
 use crate::condition::whole_cycles;
 use crate::estimate::fit::cis_sum;
 use crate::estimate::frequency::wrap;
@@ -58,12 +59,12 @@ pub struct HarmonicLine {
     pub frequency_hz: f64,
     /// Voltage RMS of this order.
     pub voltage_rms: f64,
-    /// Voltage in percent of the voltage fundamental.
-    pub voltage_percent: f64,
+    /// Voltage in percent of the voltage fundamental (`None` without a fundamental).
+    pub voltage_percent: Option<f64>,
     /// Current RMS of this order.
     pub current_rms: f64,
-    /// Current in percent of the current fundamental.
-    pub current_percent: f64,
+    /// Current in percent of the current fundamental (`None` without a fundamental).
+    pub current_percent: Option<f64>,
     /// Angle of the voltage minus the current of this order, degrees (skew removed).
     pub angle_deg: f64,
     /// Active power carried by this order, W.
@@ -226,7 +227,8 @@ pub fn quantities(
     let active_w = p_raw + skew_dp;
 
     let order = settings.harmonics.min(est.order).max(1);
-    if settings.harmonics > est.order_limit {
+    // Asking for more than the rate allows earns a warning; the default quietly stops lower.
+    if settings.harmonics > est.order_limit && settings.harmonics != DEFAULT_HARMONICS {
         warnings.push(Warning::HarmonicsCapped {
             asked: settings.harmonics,
             used: est.order_limit.min(order),
@@ -303,10 +305,10 @@ pub fn quantities(
             });
         }
     }
-    if let Some(d) = phase_dft {
-        if d.abs() > 90.0 {
-            warnings.push(Warning::ReversedCurrent { angle_deg: d });
-        }
+    if let Some(d) = phase_dft
+        && d.abs() > 90.0
+    {
+        warnings.push(Warning::ReversedCurrent { angle_deg: d });
     }
     if est.cycles < 3.0 {
         warnings.push(Warning::FewCycles { cycles: est.cycles });
@@ -324,9 +326,9 @@ pub fn quantities(
                 order: h,
                 frequency_hz: h as f64 * f,
                 voltage_rms: a.norm(),
-                voltage_percent: 100.0 * a.norm() / v1,
+                voltage_percent: est.voltage.has_fundamental.then(|| 100.0 * a.norm() / v1),
                 current_rms: b.norm(),
-                current_percent: 100.0 * b.norm() / i1,
+                current_percent: est.current.has_fundamental.then(|| 100.0 * b.norm() / i1),
                 angle_deg: wrap(a.arg() - b.arg()).to_degrees(),
                 active_w: (a * b.conj()).re,
             }

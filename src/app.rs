@@ -1,0 +1,139 @@
+//! Wiring: what was typed -> resolved settings -> load -> analyse -> exporters.
+
+use crate::analysis::{self, Settings};
+use crate::capture::{self, ChannelSel, LoadOptions};
+use crate::cli::{AnalyzeArgs, ChannelArgs, Cli, Command, FormatArg};
+use crate::report::{self, Format};
+use std::io::Write;
+
+/// How a run ended, for the exit code.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Outcome {
+    /// Every input was analysed.
+    Ok,
+    /// Some input could not be read or analysed (exit code 2).
+    InputErrors,
+}
+
+/// Settings for one `analyze` run, validated once.
+#[derive(Debug, Clone)]
+pub struct AnalyzeConfig {
+    /// How to load each file.
+    pub load: LoadOptions,
+    /// How to analyse it.
+    pub settings: Settings,
+    /// Output format.
+    pub format: Format,
+}
+
+/// A setting that makes no sense, found before any file is read.
+#[derive(Debug, thiserror::Error)]
+#[error("{0}")]
+pub struct ConfigError(String);
+
+/// Resolves channel options into loader options and analysis settings.
+pub fn resolve_channels(
+    c: &ChannelArgs,
+    harmonics: usize,
+) -> Result<(LoadOptions, Settings), ConfigError> {
+    let finite_nonzero = |x: f64, name: &str| {
+        if x.is_finite() && x != 0.0 {
+            Ok(x)
+        } else {
+            Err(ConfigError(format!(
+                "{name} must be a finite, non-zero number, not {x}"
+            )))
+        }
+    };
+    if let Some(r) = c.rate
+        && !(r.is_finite() && r > 0.0)
+    {
+        return Err(ConfigError(format!(
+            "--rate must be a positive number of Hz, not {r}"
+        )));
+    }
+    if !c.skew.is_finite() {
+        return Err(ConfigError(
+            "--skew must be a finite number of seconds".into(),
+        ));
+    }
+    if harmonics == 0 {
+        return Err(ConfigError("--harmonics must be at least 1".into()));
+    }
+    Ok((
+        LoadOptions {
+            voltage: c.voltage.as_deref().map(ChannelSel::parse),
+            current: c.current.as_deref().map(ChannelSel::parse),
+            rate_hz: c.rate,
+        },
+        Settings {
+            v_scale: finite_nonzero(c.v_scale, "--v-scale")?,
+            i_scale: finite_nonzero(c.i_scale, "--i-scale")?,
+            skew_s: c.skew,
+            harmonics,
+        },
+    ))
+}
+
+impl AnalyzeConfig {
+    /// Builds and checks the configuration of `analyze`.
+    pub fn from_args(a: &AnalyzeArgs) -> Result<Self, ConfigError> {
+        let (load, settings) = resolve_channels(&a.channels, a.harmonics)?;
+        let format = match a.format {
+            FormatArg::Table => Format::Table,
+            FormatArg::Json => Format::Json,
+            FormatArg::Csv => Format::Csv,
+        };
+        Ok(AnalyzeConfig {
+            load,
+            settings,
+            format,
+        })
+    }
+}
+
+/// Runs a parsed command line, writing results to `out` and one line per bad input to `err`.
+pub fn run(cli: Cli, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
+    match cli.command {
+        Command::Analyze(args) => match AnalyzeConfig::from_args(&args) {
+            Ok(cfg) => run_analyze(&args.files, &cfg, out, err),
+            Err(e) => {
+                let _ = writeln!(err, "error: {e}");
+                Outcome::InputErrors
+            }
+        },
+    }
+}
+
+/// Analyses each file in turn; a bad file is reported on `err` and the others go on.
+pub fn run_analyze(
+    files: &[std::path::PathBuf],
+    cfg: &AnalyzeConfig,
+    out: &mut dyn Write,
+    err: &mut dyn Write,
+) -> Outcome {
+    let mut exporter = report::exporter(cfg.format);
+    let mut outcome = Outcome::Ok;
+    let mut io_ok = exporter.begin(out).is_ok();
+    for path in files {
+        let result = capture::load(path, &cfg.load)
+            .map_err(|e| e.to_string())
+            .and_then(|c| analysis::analyze(c, &cfg.settings).map_err(|e| e.to_string()));
+        match result {
+            Ok(a) => io_ok &= exporter.write(out, &a).is_ok(),
+            Err(msg) => {
+                let _ = writeln!(err, "error: {msg}");
+                outcome = Outcome::InputErrors;
+            }
+        }
+    }
+    io_ok &= exporter.finish(out).is_ok();
+    if !io_ok {
+        let _ = writeln!(
+            err,
+            "error: could not write the results (is the output closed?)"
+        );
+        outcome = Outcome::InputErrors;
+    }
+    outcome
+}

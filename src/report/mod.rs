@@ -1,0 +1,47 @@
+//! Output: one [`Exporter`] trait, one module per format.
+//!
+//! Exporters stream: `begin` once, `write` per analysed capture as soon as it is ready, `finish`
+//! once. The serde types every format is built from live in [`wire`], so the JSON schema is
+//! visible in one place.
+
+mod csv;
+mod json;
+mod table;
+pub mod wire;
+
+use crate::analysis::Analysis;
+use std::io::{self, Write};
+
+/// An output format.
+pub trait Exporter {
+    /// Called once before the first capture.
+    fn begin(&mut self, _out: &mut dyn Write) -> io::Result<()> {
+        Ok(())
+    }
+    /// Called per analysed capture, in input order.
+    fn write(&mut self, out: &mut dyn Write, analysis: &Analysis) -> io::Result<()>;
+    /// Called once after the last capture.
+    fn finish(&mut self, _out: &mut dyn Write) -> io::Result<()> {
+        Ok(())
+    }
+}
+
+/// The formats `analyze` can write.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    /// A readable summary with units.
+    Table,
+    /// One JSON object per capture per line (JSON Lines).
+    Json,
+    /// One row per capture with a header.
+    Csv,
+}
+
+/// The exporter for a format.
+pub fn exporter(format: Format) -> Box<dyn Exporter> {
+    match format {
+        Format::Table => Box::new(table::TableExporter::default()),
+        Format::Json => Box::new(json::JsonExporter),
+        Format::Csv => Box::new(csv::CsvExporter::default()),
+    }
+}

@@ -1,0 +1,228 @@
+//! The JSON schema of tracephase's output, in one place.
+//!
+//! Every output format is built from these types: JSON Lines writes them as they are, CSV
+//! flattens them with dotted keys (`phase_angle_deg.dft`), the table prints them for people.
+//! Keys carry their unit (`_hz`, `_deg`, `_w`, `_var`, `_va`, `_percent`); a value that is not
+//! defined (no fundamental, so no angle) is `null`.
+
+use crate::analysis::{Analysis, Settings};
+use crate::quantity::TraceFigures;
+use crate::quantity::power::Powers;
+use serde::Serialize;
+
+/// One analysed capture.
+#[derive(Debug, Clone, Serialize)]
+pub struct AnalysisRecord {
+    /// The file as given.
+    pub file: String,
+    /// Format that was sniffed.
+    pub format: String,
+    /// Samples per second.
+    pub sample_rate_hz: f64,
+    /// Samples per trace.
+    pub samples: usize,
+    /// Channel names in the file.
+    pub channels: Channels,
+    /// Settings used.
+    pub settings: Settings,
+    /// Fundamental frequency.
+    pub frequency_hz: f64,
+    /// Cycles in the record.
+    pub cycles: f64,
+    /// Whole cycles RMS and P were averaged over.
+    pub whole_cycles: usize,
+    /// Highest harmonic order in THD and spectrum.
+    pub harmonic_order: usize,
+    /// Angle of V1 minus angle of I1, degrees in (−180, 180], positive when current lags.
+    pub phase_angle_deg: PhaseAngles,
+    /// cos θ1.
+    pub displacement_pf: Option<f64>,
+    /// P / S.
+    pub true_pf: Option<f64>,
+    /// "lagging" or "leading".
+    pub character: Option<&'static str>,
+    /// Voltage figures.
+    pub voltage: TraceRecord,
+    /// Current figures.
+    pub current: TraceRecord,
+    /// IEEE Std 1459-2010 powers.
+    pub power: Powers,
+    /// Standard uncertainties (k = 1) the estimators report.
+    pub sigma: Sigmas,
+    /// Warnings in words.
+    pub warnings: Vec<String>,
+    /// Warning codes, for filtering.
+    pub warning_codes: Vec<&'static str>,
+    /// Spectrum, orders 1..=harmonic_order.
+    pub harmonics: Vec<HarmonicRecord>,
+}
+
+/// Channel names.
+#[derive(Debug, Clone, Serialize)]
+pub struct Channels {
+    /// Voltage channel.
+    pub voltage: String,
+    /// Current channel.
+    pub current: String,
+}
+
+/// The phase angle by both methods.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct PhaseAngles {
+    /// Least-squares (DFT) phasor method.
+    pub dft: Option<f64>,
+    /// Zero-crossing method.
+    pub zero_crossing: Option<f64>,
+}
+
+/// Standard uncertainties from the estimators' own scatter.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct Sigmas {
+    /// Frequency, Hz (Cramér-Rao bound at the fitted noise).
+    pub frequency_hz: f64,
+    /// DFT angle, degrees (fit residuals).
+    pub phase_angle_dft_deg: f64,
+    /// Zero-crossing angle, degrees (scatter of the crossings).
+    pub phase_angle_zero_crossing_deg: Option<f64>,
+}
+
+/// Figures of one trace.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct TraceRecord {
+    /// True RMS over whole cycles.
+    pub rms: f64,
+    /// DC level.
+    pub dc: f64,
+    /// Fundamental RMS.
+    pub fundamental_rms: f64,
+    /// THD-F, percent of the fundamental.
+    pub thd_percent: Option<f64>,
+    /// Largest absolute sample.
+    pub peak: f64,
+    /// Peak / RMS.
+    pub crest_factor: f64,
+}
+
+impl From<&TraceFigures> for TraceRecord {
+    fn from(t: &TraceFigures) -> Self {
+        TraceRecord {
+            rms: t.rms,
+            dc: t.dc,
+            fundamental_rms: t.fundamental_rms,
+            thd_percent: t.thd_percent,
+            peak: t.peak,
+            crest_factor: t.crest_factor,
+        }
+    }
+}
+
+/// One harmonic order.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct HarmonicRecord {
+    /// Order.
+    pub order: usize,
+    /// Frequency, Hz.
+    pub frequency_hz: f64,
+    /// Voltage RMS.
+    pub voltage_rms: f64,
+    /// Voltage, percent of fundamental.
+    pub voltage_percent: Option<f64>,
+    /// Current RMS.
+    pub current_rms: f64,
+    /// Current, percent of fundamental.
+    pub current_percent: Option<f64>,
+    /// Angle of V minus angle of I at this order, degrees.
+    pub angle_deg: f64,
+    /// Active power at this order, W.
+    pub active_w: f64,
+}
+
+impl From<&Analysis> for AnalysisRecord {
+    fn from(a: &Analysis) -> Self {
+        let q = &a.quantities;
+        AnalysisRecord {
+            file: a.path.display().to_string(),
+            format: a.format.to_string(),
+            sample_rate_hz: a.sample_rate_hz,
+            samples: a.samples,
+            channels: Channels {
+                voltage: a.voltage_channel.clone(),
+                current: a.current_channel.clone(),
+            },
+            settings: a.settings,
+            frequency_hz: q.frequency_hz,
+            cycles: q.cycles,
+            whole_cycles: q.whole_cycles,
+            harmonic_order: q.harmonic_order,
+            phase_angle_deg: PhaseAngles {
+                dft: q.phase_angle_dft_deg,
+                zero_crossing: q.phase_angle_zero_crossing_deg,
+            },
+            displacement_pf: q.displacement_pf,
+            true_pf: q.true_pf,
+            character: q.character.map(|c| c.as_str()),
+            voltage: (&q.voltage).into(),
+            current: (&q.current).into(),
+            power: q.power,
+            sigma: Sigmas {
+                frequency_hz: a.estimate.frequency_sigma_hz,
+                phase_angle_dft_deg: q.phase_angle_dft_sigma_deg,
+                phase_angle_zero_crossing_deg: q.phase_angle_zero_crossing_sigma_deg,
+            },
+            warnings: a.warnings.iter().map(|w| w.to_string()).collect(),
+            warning_codes: a.warnings.iter().map(|w| w.code()).collect(),
+            harmonics: q
+                .harmonics
+                .iter()
+                .map(|h| HarmonicRecord {
+                    order: h.order,
+                    frequency_hz: h.frequency_hz,
+                    voltage_rms: h.voltage_rms,
+                    voltage_percent: h.voltage_percent,
+                    current_rms: h.current_rms,
+                    current_percent: h.current_percent,
+                    angle_deg: h.angle_deg,
+                    active_w: h.active_w,
+                })
+                .collect(),
+        }
+    }
+}
+
+/// Flattens a JSON object into `(dotted.key, value)` pairs, leaving out arrays of objects
+/// (the spectrum) and joining arrays of strings with "; ".
+pub fn flatten(value: &serde_json::Value) -> Vec<(String, String)> {
+    fn walk(prefix: &str, v: &serde_json::Value, out: &mut Vec<(String, String)>) {
+        use serde_json::Value;
+        match v {
+            Value::Object(map) => {
+                for (k, v) in map {
+                    let key = if prefix.is_empty() {
+                        k.clone()
+                    } else {
+                        format!("{prefix}.{k}")
+                    };
+                    walk(&key, v, out);
+                }
+            }
+            Value::Array(items) if items.iter().all(|x| !x.is_object()) => {
+                let joined: Vec<String> = items
+                    .iter()
+                    .map(|x| {
+                        x.as_str()
+                            .map(str::to_string)
+                            .unwrap_or_else(|| x.to_string())
+                    })
+                    .collect();
+                out.push((prefix.to_string(), joined.join("; ")));
+            }
+            Value::Array(_) => {}
+            Value::Null => out.push((prefix.to_string(), String::new())),
+            Value::String(s) => out.push((prefix.to_string(), s.clone())),
+            other => out.push((prefix.to_string(), other.to_string())),
+        }
+    }
+    let mut out = Vec::new();
+    walk("", value, &mut out);
+    out
+}
