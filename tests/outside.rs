@@ -35,7 +35,8 @@ fn thd_of_ideal_square_triangle_and_sawtooth_waves_matches_their_fourier_series(
             .sum();
         100.0 * h2.sqrt()
     };
-    let cases: [(&str, &dyn Fn(f64) -> f64, f64, f64); 3] = [
+    type Wave<'a> = &'a dyn Fn(f64) -> f64;
+    let cases: [(&str, Wave, f64, f64); 3] = [
         ("square", &square, series_thd(true, 1), 47.30),
         ("triangle", &triangle, series_thd(true, 2), 12.11),
         ("sawtooth", &sawtooth, series_thd(false, 1), 79.07),
