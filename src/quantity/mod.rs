@@ -34,7 +34,7 @@ pub struct QuantitySettings {
 }
 
 /// RMS-level figures of one trace.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct TraceFigures {
     /// True RMS over whole cycles (DC included).
     pub rms: f64,
@@ -51,7 +51,7 @@ pub struct TraceFigures {
 }
 
 /// One harmonic order of both traces.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct HarmonicLine {
     /// Harmonic order.
     pub order: usize,

@@ -1,13 +1,16 @@
 //! The JSON schema of tracephase's output, in one place.
 //!
+//! The per-trace figures ([`TraceFigures`]), the spectrum lines ([`HarmonicLine`]) and the powers
+//! ([`Powers`]) are serialised as the quantity stage defines them; their field names are the keys.
+//!
 //! Every output format is built from these types: JSON Lines writes them as they are, CSV
 //! flattens them with dotted keys (`phase_angle_deg.dft`), the table prints them for people.
 //! Keys carry their unit (`_hz`, `_deg`, `_w`, `_var`, `_va`, `_percent`); a value that is not
 //! defined (no fundamental, so no angle) is `null`.
 
 use crate::analysis::{Analysis, Settings};
-use crate::quantity::TraceFigures;
 use crate::quantity::power::Powers;
+use crate::quantity::{HarmonicLine, TraceFigures};
 use serde::Serialize;
 
 /// One analysed capture.
@@ -42,9 +45,9 @@ pub struct AnalysisRecord {
     /// "lagging" or "leading".
     pub character: Option<&'static str>,
     /// Voltage figures.
-    pub voltage: TraceRecord,
+    pub voltage: TraceFigures,
     /// Current figures.
-    pub current: TraceRecord,
+    pub current: TraceFigures,
     /// IEEE Std 1459-2010 powers.
     pub power: Powers,
     /// Standard uncertainties (k = 1) the estimators report.
@@ -54,7 +57,7 @@ pub struct AnalysisRecord {
     /// Warning codes, for filtering.
     pub warning_codes: Vec<&'static str>,
     /// Spectrum, orders 1..=harmonic_order.
-    pub harmonics: Vec<HarmonicRecord>,
+    pub harmonics: Vec<HarmonicLine>,
 }
 
 /// Channel names.
@@ -86,57 +89,6 @@ pub struct Sigmas {
     pub phase_angle_zero_crossing_deg: Option<f64>,
 }
 
-/// Figures of one trace.
-#[derive(Debug, Clone, Copy, Serialize)]
-pub struct TraceRecord {
-    /// True RMS over whole cycles.
-    pub rms: f64,
-    /// DC level.
-    pub dc: f64,
-    /// Fundamental RMS.
-    pub fundamental_rms: f64,
-    /// THD-F, percent of the fundamental.
-    pub thd_percent: Option<f64>,
-    /// Largest absolute sample.
-    pub peak: f64,
-    /// Peak / RMS.
-    pub crest_factor: f64,
-}
-
-impl From<&TraceFigures> for TraceRecord {
-    fn from(t: &TraceFigures) -> Self {
-        TraceRecord {
-            rms: t.rms,
-            dc: t.dc,
-            fundamental_rms: t.fundamental_rms,
-            thd_percent: t.thd_percent,
-            peak: t.peak,
-            crest_factor: t.crest_factor,
-        }
-    }
-}
-
-/// One harmonic order.
-#[derive(Debug, Clone, Copy, Serialize)]
-pub struct HarmonicRecord {
-    /// Order.
-    pub order: usize,
-    /// Frequency, Hz.
-    pub frequency_hz: f64,
-    /// Voltage RMS.
-    pub voltage_rms: f64,
-    /// Voltage, percent of fundamental.
-    pub voltage_percent: Option<f64>,
-    /// Current RMS.
-    pub current_rms: f64,
-    /// Current, percent of fundamental.
-    pub current_percent: Option<f64>,
-    /// Angle of V minus angle of I at this order, degrees.
-    pub angle_deg: f64,
-    /// Active power at this order, W.
-    pub active_w: f64,
-}
-
 impl From<&Analysis> for AnalysisRecord {
     fn from(a: &Analysis) -> Self {
         let q = &a.quantities;
@@ -161,8 +113,8 @@ impl From<&Analysis> for AnalysisRecord {
             displacement_pf: q.displacement_pf,
             true_pf: q.true_pf,
             character: q.character.map(|c| c.as_str()),
-            voltage: (&q.voltage).into(),
-            current: (&q.current).into(),
+            voltage: q.voltage,
+            current: q.current,
             power: q.power,
             sigma: Sigmas {
                 frequency_hz: a.estimate.frequency_sigma_hz,
@@ -171,20 +123,7 @@ impl From<&Analysis> for AnalysisRecord {
             },
             warnings: a.warnings.iter().map(|w| w.to_string()).collect(),
             warning_codes: a.warnings.iter().map(|w| w.code()).collect(),
-            harmonics: q
-                .harmonics
-                .iter()
-                .map(|h| HarmonicRecord {
-                    order: h.order,
-                    frequency_hz: h.frequency_hz,
-                    voltage_rms: h.voltage_rms,
-                    voltage_percent: h.voltage_percent,
-                    current_rms: h.current_rms,
-                    current_percent: h.current_percent,
-                    angle_deg: h.angle_deg,
-                    active_w: h.active_w,
-                })
-                .collect(),
+            harmonics: q.harmonics.clone(),
         }
     }
 }
