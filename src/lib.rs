@@ -37,6 +37,7 @@
 pub mod analysis;
 pub mod app;
 pub mod capture;
+pub mod check;
 pub mod cli;
 pub mod condition;
 pub mod estimate;

@@ -1,0 +1,1 @@
+//! Circuit model (being written).

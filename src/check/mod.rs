@@ -1,0 +1,12 @@
+//! Verdicts: does a measurement agree with what is expected of it?
+//!
+//! Input: measured quantities with their uncertainties, and an expectation (a circuit model with
+//! tolerances). Output: bands, verdicts and explanations.
+//!
+//! - [`circuit`]: the circuit model file (TOML), part values with SI prefixes and tolerances, and
+//!   the network expression (`R1 + L1 + (C1 || C2)`); impedance at any frequency.
+//! - [`tolerance`]: the band of phase angles the tolerances allow, by worst-case search over the
+//!   tolerance box and by seeded Monte Carlo.
+
+pub mod circuit;
+pub mod tolerance;

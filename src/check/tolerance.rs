@@ -1,0 +1,1 @@
+//! Tolerance bands (being written).
