@@ -3,6 +3,7 @@
 use crate::capture::{Capture, SourceFormat};
 use crate::condition;
 use crate::estimate::{self, Estimate, EstimateError};
+use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
 use crate::quantity::{self, Quantities, QuantitySettings};
 use crate::warning::{Trace, Warning};
 use std::path::PathBuf;
@@ -21,6 +22,8 @@ pub struct Settings {
     pub skew_s: f64,
     /// Highest harmonic order to report.
     pub harmonics: usize,
+    /// Instrument limits for the Type B uncertainty components.
+    pub uncertainty: UncertaintyInputs,
 }
 
 impl Default for Settings {
@@ -30,6 +33,7 @@ impl Default for Settings {
             i_scale: 1.0,
             skew_s: 0.0,
             harmonics: DEFAULT_HARMONICS,
+            uncertainty: UncertaintyInputs::default(),
         }
     }
 }
@@ -55,6 +59,8 @@ pub struct Analysis {
     pub estimate: Estimate,
     /// Computed quantities.
     pub quantities: Quantities,
+    /// Their expanded uncertainties (k = 2).
+    pub uncertainty: Uncertainty,
     /// All warnings, from loading on.
     pub warnings: Vec<Warning>,
 }
@@ -109,7 +115,16 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         }
     }
     warnings.extend(quantities.warnings.iter().cloned());
+    let uncertainty = uncertainty::uncertainty(
+        v,
+        i,
+        &estimate,
+        &quantities,
+        settings.skew_s,
+        &settings.uncertainty,
+    );
     Ok(Analysis {
+        uncertainty,
         samples: capture.len(),
         path: capture.path,
         format: capture.format,

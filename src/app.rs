@@ -2,7 +2,8 @@
 
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
-use crate::cli::{AnalyzeArgs, ChannelArgs, Cli, Command, FormatArg};
+use crate::cli::{AnalyzeArgs, ChannelArgs, Cli, Command, FormatArg, UncertaintyArgs};
+use crate::quantity::uncertainty::{Adc, UncertaintyInputs};
 use crate::report::{self, Format};
 use std::io::Write;
 
@@ -33,6 +34,7 @@ pub struct ConfigError(String);
 
 /// Resolves channel options into loader options and analysis settings.
 pub fn resolve_channels(
+    u: &UncertaintyArgs,
     c: &ChannelArgs,
     harmonics: usize,
 ) -> Result<(LoadOptions, Settings), ConfigError> {
@@ -71,14 +73,60 @@ pub fn resolve_channels(
             i_scale: finite_nonzero(c.i_scale, "--i-scale")?,
             skew_s: c.skew,
             harmonics,
+            uncertainty: resolve_uncertainty(u)?,
         },
     ))
+}
+
+/// Checks the instrument limits: each must be a finite number, zero or more.
+pub fn resolve_uncertainty(u: &UncertaintyArgs) -> Result<UncertaintyInputs, ConfigError> {
+    let limit = |x: f64, name: &str| {
+        if x.is_finite() && x >= 0.0 {
+            Ok(x)
+        } else {
+            Err(ConfigError(format!(
+                "{name} must be zero or a positive number, not {x}"
+            )))
+        }
+    };
+    let adc = match (u.adc_bits, u.v_full_scale, u.i_full_scale) {
+        (Some(bits), Some(v), Some(i)) => {
+            if !(1..=32).contains(&bits) {
+                return Err(ConfigError(format!(
+                    "--adc-bits must be 1 to 32, not {bits}"
+                )));
+            }
+            let fs = |x: f64, name: &str| {
+                if x.is_finite() && x > 0.0 {
+                    Ok(x)
+                } else {
+                    Err(ConfigError(format!(
+                        "{name} must be a positive number, not {x}"
+                    )))
+                }
+            };
+            Some(Adc {
+                bits,
+                v_full_scale: fs(v, "--v-full-scale")?,
+                i_full_scale: fs(i, "--i-full-scale")?,
+            })
+        }
+        _ => None,
+    };
+    Ok(UncertaintyInputs {
+        v_ratio_percent: limit(u.v_ratio_accuracy, "--v-ratio-accuracy")?,
+        i_ratio_percent: limit(u.i_ratio_accuracy, "--i-ratio-accuracy")?,
+        phase_error_deg: limit(u.phase_error, "--phase-error")?,
+        skew_s: limit(u.skew_uncertainty, "--skew-uncertainty")?,
+        clock_ppm: limit(u.clock_ppm, "--clock-ppm")?,
+        adc,
+    })
 }
 
 impl AnalyzeConfig {
     /// Builds and checks the configuration of `analyze`.
     pub fn from_args(a: &AnalyzeArgs) -> Result<Self, ConfigError> {
-        let (load, settings) = resolve_channels(&a.channels, a.harmonics)?;
+        let (load, settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
         let format = match a.format {
             FormatArg::Table => Format::Table,
             FormatArg::Json => Format::Json,

@@ -22,6 +22,7 @@ pub enum Command {
 
 /// Arguments of `analyze`.
 #[derive(Debug, Args)]
+#[command(allow_negative_numbers = true)]
 pub struct AnalyzeArgs {
     /// Capture files (CSV, TSV, TXT or WAV; the format is read from the content).
     #[arg(required = true, value_name = "FILE")]
@@ -29,6 +30,9 @@ pub struct AnalyzeArgs {
     /// Channel, scale and timing options.
     #[command(flatten)]
     pub channels: ChannelArgs,
+    /// Instrument limits for the uncertainty.
+    #[command(flatten)]
+    pub uncertainty: UncertaintyArgs,
     /// Highest harmonic order for THD and the spectrum (capped below the Nyquist limit).
     #[arg(long, default_value_t = 50, value_name = "N")]
     pub harmonics: usize,
@@ -75,6 +79,68 @@ pub struct ChannelArgs {
     pub skew: f64,
 }
 
+/// Instrument limits behind the Type B uncertainty components (each a ± limit).
+#[derive(Debug, Args, Clone)]
+#[command(next_help_heading = "Uncertainty (instrument limits, each ±)")]
+pub struct UncertaintyArgs {
+    /// Voltage probe ratio accuracy, % of reading.
+    #[arg(long, default_value_t = 1.0, value_name = "PCT")]
+    pub v_ratio_accuracy: f64,
+    /// Current clamp or shunt ratio accuracy, % of reading.
+    #[arg(long, default_value_t = 2.0, value_name = "PCT")]
+    pub i_ratio_accuracy: f64,
+    /// Phase error of the probe pair, degrees.
+    #[arg(long, default_value_t = 0.5, value_name = "DEG")]
+    pub phase_error: f64,
+    /// Uncertainty of the channel skew that remains after --skew, seconds.
+    #[arg(long, default_value_t = 0.0, value_name = "SECONDS")]
+    pub skew_uncertainty: f64,
+    /// Sample clock accuracy, parts per million.
+    #[arg(long, default_value_t = 50.0, value_name = "PPM")]
+    pub clock_ppm: f64,
+    /// Converter bits (with --v-full-scale and --i-full-scale); default: the step seen in the data.
+    #[arg(long, value_name = "BITS", requires_all = ["v_full_scale", "i_full_scale"])]
+    pub adc_bits: Option<u32>,
+    /// Full-scale peak of the voltage channel, volts (after --v-scale).
+    #[arg(long, value_name = "V", requires = "adc_bits")]
+    pub v_full_scale: Option<f64>,
+    /// Full-scale peak of the current channel, amperes (after --i-scale).
+    #[arg(long, value_name = "A", requires = "adc_bits")]
+    pub i_full_scale: Option<f64>,
+}
+
+/// Options whose value may be a negative number in exponent form.
+const SIGNED_OPTIONS: &[&str] = &["--skew", "--v-scale", "--i-scale"];
+
+/// Joins `--skew -5e-5` into `--skew=-5e-5`: clap reads a negative number with an exponent as
+/// short flags, so such values are attached to their option before parsing.
+pub fn attach_negative_values<I, T>(args: I) -> Vec<std::ffi::OsString>
+where
+    I: IntoIterator<Item = T>,
+    T: Into<std::ffi::OsString>,
+{
+    let mut out: Vec<std::ffi::OsString> = Vec::new();
+    let mut iter = args.into_iter().map(Into::into).peekable();
+    while let Some(arg) = iter.next() {
+        let signed = arg.to_str().is_some_and(|a| SIGNED_OPTIONS.contains(&a));
+        let next_negative = iter
+            .peek()
+            .and_then(|n| n.to_str())
+            .is_some_and(|n| n.starts_with('-') && n.parse::<f64>().is_ok());
+        if signed && next_negative {
+            let mut joined = arg;
+            joined.push("=");
+            if let Some(v) = iter.next() {
+                joined.push(v);
+            }
+            out.push(joined);
+        } else {
+            out.push(arg);
+        }
+    }
+    out
+}
+
 /// Output formats on the command line.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum FormatArg {
@@ -98,9 +164,13 @@ mod tests {
 
     #[test]
     fn negative_skew_is_accepted() {
-        let cli =
-            Cli::try_parse_from(["tracephase", "analyze", "a.csv", "--skew", "-5e-5"]).unwrap();
-        let Command::Analyze(a) = cli.command;
+        let args = attach_negative_values(["tracephase", "analyze", "a.csv", "--skew", "-5e-5"]);
+        let Command::Analyze(a) = Cli::try_parse_from(args).unwrap().command;
         assert_eq!(a.channels.skew, -5e-5);
+        // a file name after a negative value is still a file
+        let args = attach_negative_values(["tracephase", "analyze", "--v-scale", "-1e2", "b.wav"]);
+        let Command::Analyze(a) = Cli::try_parse_from(args).unwrap().command;
+        assert_eq!(a.channels.v_scale, -100.0);
+        assert_eq!(a.files, vec![std::path::PathBuf::from("b.wav")]);
     }
 }

@@ -3,10 +3,10 @@
 use clap::Parser;
 use std::process::ExitCode;
 use tracephase::app::{self, Outcome};
-use tracephase::cli::Cli;
+use tracephase::cli::{self, Cli};
 
 fn main() -> ExitCode {
-    let cli = Cli::parse();
+    let cli = Cli::parse_from(cli::attach_negative_values(std::env::args_os()));
     let stdout = std::io::stdout();
     let stderr = std::io::stderr();
     let mut out = std::io::BufWriter::new(stdout.lock());

@@ -65,7 +65,8 @@ pub fn block_average_gain(omega: f64, factor: usize) -> f64 {
 /// The whole number of cycles in a record of `len` samples and the number of samples
 /// (rounded) that spans them from the first sample.
 pub fn whole_cycles(len: usize, samples_per_cycle: f64) -> (usize, usize) {
-    let cycles = (len as f64 / samples_per_cycle).floor() as usize;
+    // a hair of slack so a record of exactly 20 cycles is not counted as 19.999999999999996
+    let cycles = (len as f64 / samples_per_cycle + 1e-9).floor() as usize;
     let span = ((cycles as f64 * samples_per_cycle).round() as usize).min(len);
     (cycles, span)
 }

@@ -32,12 +32,25 @@ const OVERSAMPLE_KEEP: f64 = 16.0;
 /// A fundamental weaker than this share of the rest of the trace is taken as absent.
 pub const MIN_FUNDAMENTAL_RATIO: f64 = 0.05;
 
+/// Fewer samples than this cannot carry a fundamental and its DC.
+pub const MIN_SAMPLES: usize = 16;
+/// Sample magnitudes outside this range would overflow or underflow squares and products.
+pub const MIN_MAGNITUDE: f64 = 1e-100;
+/// See [`MIN_MAGNITUDE`].
+pub const MAX_MAGNITUDE: f64 = 1e100;
+
 /// Why no estimate could be made.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum EstimateError {
     /// Every sample of a trace is the same value.
     #[error("the {0} trace is flat (every sample {1}): check the channel and probe")]
     FlatTrace(Trace, f64),
+    /// Too few samples.
+    #[error("only {0} samples: too short to analyse")]
+    TooShort(usize),
+    /// Samples too large or too small for the arithmetic.
+    #[error("the {0} trace peaks at {1:e}, outside what can be analysed (check the scale)")]
+    OutOfRange(Trace, f64),
     /// No periodic component found in either trace.
     #[error("no fundamental frequency found in either trace: is the sample rate right?")]
     NoPeriodicSignal,
@@ -109,6 +122,92 @@ pub struct Estimate {
     pub voltage: ChannelPhasors,
     /// Current phasors.
     pub current: ChannelPhasors,
+    /// Phasors of consecutive sub-records, for the spread of the estimates.
+    pub windows: Vec<WindowEstimate>,
+}
+
+/// Fit results of one trace in one sub-record.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WindowPhasors {
+    /// DC level.
+    pub dc: f64,
+    /// RMS phasors of harmonics 1..=order (index h−1), angles referred to the window's centre.
+    pub harmonics: Vec<Complex64>,
+    /// Mean square of what the fit leaves.
+    pub residual_ms: f64,
+}
+
+/// One sub-record: about 200 ms, the window IEC 61000-4-7 uses (10 cycles at 50 Hz, 12 at 60 Hz).
+#[derive(Debug, Clone, PartialEq)]
+pub struct WindowEstimate {
+    /// Voltage fit.
+    pub voltage: WindowPhasors,
+    /// Current fit.
+    pub current: WindowPhasors,
+    /// Mean of the product of the two residuals (the part of P the fit does not hold).
+    pub residual_cross: f64,
+}
+
+/// Seconds per sub-record (IEC 61000-4-7: 10 cycles at 50 Hz, 12 at 60 Hz, from memory).
+pub const WINDOW_SECONDS: f64 = 0.2;
+/// At most this many sub-records; longer records get longer windows.
+pub const MAX_WINDOWS: usize = 200;
+
+/// Fits both traces over consecutive windows of whole cycles (about [`WINDOW_SECONDS`] each, at
+/// least two windows). `f` is the fundamental in Hz, `fs` the rate of `vd` and `id`; `correct`
+/// undoes the decimation gain of harmonic h.
+fn window_fits(
+    vd: &[f64],
+    id: &[f64],
+    f: f64,
+    fs: f64,
+    order: usize,
+    correct: impl Fn(usize, Complex64) -> Complex64,
+) -> Vec<WindowEstimate> {
+    let per_cycle = fs / f;
+    let cycles = (vd.len() as f64 / per_cycle).floor();
+    let mut cpw = (WINDOW_SECONDS * f).round().max(1.0);
+    if (cycles / cpw).floor() > MAX_WINDOWS as f64 {
+        cpw = (cycles / MAX_WINDOWS as f64).ceil();
+    }
+    let count = ((cycles / cpw).floor() as usize).max(2);
+    let len = if (cycles / cpw).floor() >= 2.0 {
+        (cpw * per_cycle).round() as usize
+    } else {
+        vd.len() / 2
+    };
+    let order = order.min(len.saturating_sub(4) / 3);
+    let theta = 2.0 * PI * f / fs;
+    let mut out = Vec::with_capacity(count);
+    if order == 0 {
+        return out;
+    }
+    for w in 0..count {
+        let range = w * len..(w + 1) * len;
+        let (Some(fv), Some(fi)) = (
+            fit::fit(&vd[range.clone()], theta, order),
+            fit::fit(&id[range.clone()], theta, order),
+        ) else {
+            continue;
+        };
+        let sum_vi: f64 = fit::dot(&vd[range.clone()], &id[range]);
+        let phasors = |x: &fit::HarmonicFit| WindowPhasors {
+            dc: x.dc,
+            harmonics: x
+                .amplitudes
+                .iter()
+                .enumerate()
+                .map(|(k, a)| correct(k + 1, *a))
+                .collect(),
+            residual_ms: x.residual_ms(),
+        };
+        out.push(WindowEstimate {
+            voltage: phasors(&fv),
+            current: phasors(&fi),
+            residual_cross: fv.residual_cross(&fi, sum_vi) / len as f64,
+        });
+    }
+    out
 }
 
 /// Estimates frequency and phasors of `v` and `i` sampled at `fs` Hz, fitting at least
@@ -119,11 +218,18 @@ pub fn estimate(
     fs: f64,
     wanted_order: usize,
 ) -> Result<Estimate, EstimateError> {
+    if v.len() < MIN_SAMPLES {
+        return Err(EstimateError::TooShort(v.len()));
+    }
     for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
         if let Some(&first) = y.first()
             && y.iter().all(|&x| x == first)
         {
             return Err(EstimateError::FlatTrace(t, first));
+        }
+        let peak = y.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        if !(MIN_MAGNITUDE..=MAX_MAGNITUDE).contains(&peak) {
+            return Err(EstimateError::OutOfRange(t, peak));
         }
     }
     let (coarse_hz, source) = match frequency::coarse(v, fs) {
@@ -165,13 +271,16 @@ pub fn estimate(
     let theta = 2.0 * PI * f / fsd;
     let reference_sample = (vd.len() * decimation) as f64 / 2.0 - 0.5;
     let omega_in = 2.0 * PI * f / fs;
+    // Peak amplitude at the decimated rate -> RMS phasor of the input signal.
+    let correct =
+        |h: usize, a: Complex64| a / (SQRT_2 * block_average_gain(h as f64 * omega_in, decimation));
     let channel = |y: &[f64], yd: &[f64]| -> Result<ChannelPhasors, EstimateError> {
         let fit = fit::fit(yd, theta, order).ok_or(EstimateError::NoPeriodicSignal)?;
         let harmonics: Vec<Complex64> = fit
             .amplitudes
             .iter()
             .enumerate()
-            .map(|(k, a)| a / (SQRT_2 * block_average_gain((k + 1) as f64 * omega_in, decimation)))
+            .map(|(k, a)| correct(k + 1, *a))
             .collect();
         let residual_rms = fit.residual_ms().sqrt();
         let fund = harmonics[0].norm();
@@ -235,5 +344,6 @@ pub fn estimate(
         reference_sample,
         voltage,
         current,
+        windows: window_fits(&vd, &id, f, fsd, order, correct),
     })
 }

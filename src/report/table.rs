@@ -2,6 +2,7 @@
 
 use super::Exporter;
 use crate::analysis::Analysis;
+use crate::quantity::uncertainty::TraceUncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
 use std::io::{self, Write};
 
@@ -24,19 +25,27 @@ pub fn num(x: f64, sig: usize) -> String {
     format!("{x:.decimals$}")
 }
 
-fn opt(x: Option<f64>, sig: usize, unit: &str) -> String {
-    match x {
-        Some(v) => format!("{}{unit}", num(v, sig)),
-        None => "n/a".into(),
+/// `value ± U unit`, the value rounded to the uncertainty's second significant digit
+/// (GUM 7.2.6); "n/a" when the value is undefined.
+pub fn pm(value: Option<f64>, u: Option<f64>, unit: &str) -> String {
+    let Some(v) = value.filter(|v| v.is_finite()) else {
+        return "n/a".into();
+    };
+    match u.filter(|u| u.is_finite() && *u > 0.0) {
+        Some(u) => {
+            let decimals = (1 - u.log10().floor() as i64).clamp(0, 9) as usize;
+            format!("{v:.decimals$} ± {u:.decimals$}{unit}")
+        }
+        None => format!("{}{unit}", num(v, 6)),
     }
 }
 
-fn trace_row(name: &str, unit: &str, t: &TraceFigures) -> String {
+fn trace_row(name: &str, unit: &str, t: &TraceFigures, u: &TraceUncertainty) -> String {
     format!(
-        "  {name:<13}{:>12} {unit:<2}{:>12} {unit:<2}{:>10}{:>12} {unit:<2}{:>8}",
-        num(t.rms, 6),
+        "  {name:<13}{:>22}{:>14} {unit:<2}{:>16}{:>12} {unit:<2}{:>7}",
+        pm(Some(t.rms), Some(u.rms), &format!(" {unit}")),
         num(t.fundamental_rms, 6),
-        opt(t.thd_percent, 3, " %"),
+        pm(t.thd_percent, u.thd_percent, " %"),
         num(t.dc, 3),
         num(t.crest_factor, 3),
     )
@@ -45,6 +54,7 @@ fn trace_row(name: &str, unit: &str, t: &TraceFigures) -> String {
 impl Exporter for TableExporter {
     fn write(&mut self, out: &mut dyn Write, a: &Analysis) -> io::Result<()> {
         let q = &a.quantities;
+        let u = &a.uncertainty;
         if self.written > 0 {
             writeln!(out)?;
         }
@@ -61,39 +71,43 @@ impl Exporter for TableExporter {
         )?;
         writeln!(
             out,
-            "  frequency    {} Hz ± {} Hz (1σ) | {} cycles, {} whole",
-            num(q.frequency_hz, 8),
-            num(a.estimate.frequency_sigma_hz, 2),
+            "  frequency    {} | {} cycles, {} whole | uncertainties: k = {}, {} windows",
+            pm(Some(q.frequency_hz), Some(u.frequency_hz), " Hz"),
             num(q.cycles, 4),
-            q.whole_cycles
+            q.whole_cycles,
+            u.coverage_factor,
+            u.windows,
         )?;
         let lag = q.character.map(|c| c.as_str()).unwrap_or("undefined");
         writeln!(
             out,
-            "  phase angle  {} (DFT, ±{}° 1σ) | {} (zero crossing) | current {lag}",
-            opt(q.phase_angle_dft_deg, 5, "°"),
-            num(q.phase_angle_dft_sigma_deg, 2),
-            opt(q.phase_angle_zero_crossing_deg, 5, "°"),
+            "  phase angle  {} (DFT) | {} (zero crossing) | current {lag}",
+            pm(q.phase_angle_dft_deg, u.phase_angle_deg.dft, "°"),
+            pm(
+                q.phase_angle_zero_crossing_deg,
+                u.phase_angle_deg.zero_crossing,
+                "°"
+            ),
         )?;
         writeln!(
             out,
             "  power factor displacement {} | true {}",
-            opt(q.displacement_pf, 5, ""),
-            opt(q.true_pf, 5, ""),
+            pm(q.displacement_pf, u.displacement_pf, ""),
+            pm(q.true_pf, u.true_pf, ""),
         )?;
         writeln!(
             out,
-            "  {:<13}{:>15}{:>15}{:>10}{:>15}{:>8}",
+            "  {:<13}{:>22}{:>17}{:>16}{:>15}{:>7}",
             "", "rms", "fundamental", "THD", "dc", "crest"
         )?;
-        writeln!(out, "{}", trace_row("voltage", "V", &q.voltage))?;
-        writeln!(out, "{}", trace_row("current", "A", &q.current))?;
+        writeln!(out, "{}", trace_row("voltage", "V", &q.voltage, &u.voltage))?;
+        writeln!(out, "{}", trace_row("current", "A", &q.current, &u.current))?;
         let p = &q.power;
         writeln!(
             out,
-            "  power        P {} W | Q1 {} var | S {} VA | P1 {} W | S1 {} VA",
-            num(p.active_w, 6),
-            num(p.reactive_var, 6),
+            "  power        P {} | Q1 {} | S {} VA | P1 {} W | S1 {} VA",
+            pm(Some(p.active_w), Some(u.power.active_w), " W"),
+            pm(Some(p.reactive_var), Some(u.power.reactive_var), " var"),
             num(p.apparent_va, 6),
             num(p.fundamental_active_w, 6),
             num(p.fundamental_apparent_va, 6),
@@ -165,5 +179,15 @@ mod tests {
         assert_eq!(num(0.0012345, 3), "0.00123");
         assert_eq!(num(12345.6, 3), "12346");
         assert_eq!(num(f64::NAN, 3), "n/a");
+    }
+
+    #[test]
+    fn values_are_rounded_to_two_digits_of_their_uncertainty() {
+        assert_eq!(
+            super::pm(Some(37.996391), Some(0.5774), "°"),
+            "38.00 ± 0.58°"
+        );
+        assert_eq!(super::pm(Some(1746.4589), Some(47.15), " W"), "1746 ± 47 W");
+        assert_eq!(super::pm(None, Some(1.0), " W"), "n/a");
     }
 }

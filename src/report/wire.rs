@@ -10,6 +10,7 @@
 
 use crate::analysis::{Analysis, Settings};
 use crate::quantity::power::Powers;
+use crate::quantity::uncertainty::Uncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
 use serde::Serialize;
 
@@ -50,8 +51,8 @@ pub struct AnalysisRecord {
     pub current: TraceFigures,
     /// IEEE Std 1459-2010 powers.
     pub power: Powers,
-    /// Standard uncertainties (k = 1) the estimators report.
-    pub sigma: Sigmas,
+    /// Expanded uncertainties (k = 2), keys mirroring the results.
+    pub uncertainty: Uncertainty,
     /// Warnings in words.
     pub warnings: Vec<String>,
     /// Warning codes, for filtering.
@@ -76,17 +77,6 @@ pub struct PhaseAngles {
     pub dft: Option<f64>,
     /// Zero-crossing method.
     pub zero_crossing: Option<f64>,
-}
-
-/// Standard uncertainties from the estimators' own scatter.
-#[derive(Debug, Clone, Copy, Serialize)]
-pub struct Sigmas {
-    /// Frequency, Hz (Cramér-Rao bound at the fitted noise).
-    pub frequency_hz: f64,
-    /// DFT angle, degrees (fit residuals).
-    pub phase_angle_dft_deg: f64,
-    /// Zero-crossing angle, degrees (scatter of the crossings).
-    pub phase_angle_zero_crossing_deg: Option<f64>,
 }
 
 impl From<&Analysis> for AnalysisRecord {
@@ -116,11 +106,7 @@ impl From<&Analysis> for AnalysisRecord {
             voltage: q.voltage,
             current: q.current,
             power: q.power,
-            sigma: Sigmas {
-                frequency_hz: a.estimate.frequency_sigma_hz,
-                phase_angle_dft_deg: q.phase_angle_dft_sigma_deg,
-                phase_angle_zero_crossing_deg: q.phase_angle_zero_crossing_sigma_deg,
-            },
+            uncertainty: a.uncertainty,
             warnings: a.warnings.iter().map(|w| w.to_string()).collect(),
             warning_codes: a.warnings.iter().map(|w| w.code()).collect(),
             harmonics: q.harmonics.clone(),

@@ -1,0 +1,138 @@
+//! The analytic uncertainty (GUM law of propagation, JCGM 100:2008) checked against a Monte Carlo
+//! propagation of the same inputs (JCGM 101:2008, GUM Supplement 1): many captures of one
+//! synthetic case, each with fresh noise and fresh instrument errors drawn from the distributions
+//! the analytic budget assumes; the standard deviation of the results must match the analytic
+//! standard uncertainty.
+
+use rand::{RngExt, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use tracephase::quantity::uncertainty::{UncertaintyInputs, uncertainty};
+use tracephase::synth::{Spec, Waveform, synthesize};
+use tracephase::{Settings, analyze_traces};
+
+/// Monte Carlo trials. The relative standard error of a standard deviation from n trials is about
+/// 1/√(2n): 4 % at 300, so a ±25 % agreement band is over 6 standard errors wide.
+const TRIALS: usize = 300;
+const AGREE: f64 = 0.25;
+
+struct Run {
+    angle: f64,
+    p: f64,
+    v_rms: f64,
+    pf1: f64,
+    u_angle: f64,
+    u_p: f64,
+    u_v: f64,
+    u_pf1: f64,
+}
+
+fn one(cycles: f64, inputs: &UncertaintyInputs, errors: (f64, f64, f64), seed: u64) -> Run {
+    let f = 50.0;
+    let rate = 6_400.0;
+    let (ev, ei, phase) = errors;
+    let v = Waveform::sine(230.0 * (1.0 + ev), 0.0).with(5, 6.0, 20.0);
+    let i = Waveform::sine(10.0 * (1.0 + ei), -30.0 - phase).with(3, 1.0, 70.0);
+    let mut spec = Spec::clean(rate, f, (cycles * rate / f) as usize, v, i);
+    spec.snr_db = Some(46.0);
+    spec.seed = seed;
+    let (vs, is) = synthesize(&spec);
+    let (est, q) = analyze_traces(&vs, &is, rate, &Settings::default()).unwrap();
+    let u = uncertainty(&vs, &is, &est, &q, 0.0, inputs);
+    let k = u.coverage_factor;
+    Run {
+        angle: q.phase_angle_dft_deg.unwrap(),
+        p: q.power.active_w,
+        v_rms: q.voltage.rms,
+        pf1: q.displacement_pf.unwrap(),
+        u_angle: u.phase_angle_deg.dft.unwrap() / k,
+        u_p: u.power.active_w / k,
+        u_v: u.voltage.rms / k,
+        u_pf1: u.displacement_pf.unwrap() / k,
+    }
+}
+
+fn std(x: &[f64]) -> f64 {
+    let n = x.len() as f64;
+    let m = x.iter().sum::<f64>() / n;
+    (x.iter().map(|v| (v - m) * (v - m)).sum::<f64>() / (n - 1.0)).sqrt()
+}
+
+fn mean(x: &[f64]) -> f64 {
+    x.iter().sum::<f64>() / x.len() as f64
+}
+
+fn compare(cycles: f64, inputs: UncertaintyInputs, seed: u64) {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let mut runs = Vec::new();
+    for _ in 0..TRIALS {
+        // Rectangular draws within the stated ± limits, as the budget assumes (GUM 4.3.7).
+        let mut draw = |limit: f64| {
+            if limit > 0.0 {
+                rng.random_range(-limit..limit)
+            } else {
+                0.0
+            }
+        };
+        let errors = (
+            draw(inputs.v_ratio_percent / 100.0),
+            draw(inputs.i_ratio_percent / 100.0),
+            draw(inputs.phase_error_deg),
+        );
+        runs.push(one(cycles, &inputs, errors, rng.random()));
+    }
+    let check = |name: &str, values: Vec<f64>, analytic: Vec<f64>| {
+        let (mc, an) = (std(&values), mean(&analytic));
+        eprintln!("{name}: Monte Carlo {mc:.4e}, analytic {an:.4e}");
+        assert!(
+            (an / mc - 1.0).abs() < AGREE,
+            "{name}: analytic {an} vs Monte Carlo {mc}"
+        );
+    };
+    check(
+        "angle",
+        runs.iter().map(|r| r.angle).collect(),
+        runs.iter().map(|r| r.u_angle).collect(),
+    );
+    check(
+        "P",
+        runs.iter().map(|r| r.p).collect(),
+        runs.iter().map(|r| r.u_p).collect(),
+    );
+    check(
+        "V rms",
+        runs.iter().map(|r| r.v_rms).collect(),
+        runs.iter().map(|r| r.u_v).collect(),
+    );
+    check(
+        "PF1",
+        runs.iter().map(|r| r.pf1).collect(),
+        runs.iter().map(|r| r.u_pf1).collect(),
+    );
+}
+
+#[test]
+fn analytic_budget_matches_monte_carlo_with_instrument_errors() {
+    let inputs = UncertaintyInputs {
+        v_ratio_percent: 1.0,
+        i_ratio_percent: 2.0,
+        phase_error_deg: 0.5,
+        skew_s: 0.0,
+        clock_ppm: 0.0,
+        adc: None,
+    };
+    compare(10.3, inputs, 101);
+}
+
+#[test]
+fn analytic_noise_term_matches_monte_carlo_on_a_long_record() {
+    // No instrument errors: only the noise, seen through the spread of 200 ms windows (6 here).
+    let inputs = UncertaintyInputs {
+        v_ratio_percent: 0.0,
+        i_ratio_percent: 0.0,
+        phase_error_deg: 0.0,
+        skew_s: 0.0,
+        clock_ppm: 0.0,
+        adc: None,
+    };
+    compare(60.7, inputs, 202);
+}
