@@ -1,6 +1,7 @@
 //! The analysis pipeline for one capture: condition -> estimate -> quantities.
 
 use crate::capture::{Capture, SourceFormat};
+use crate::check::expected::Expected;
 use crate::condition;
 use crate::estimate::{self, Estimate, EstimateError};
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
@@ -39,7 +40,7 @@ impl Default for Settings {
 }
 
 /// Everything known about one analysed capture.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone)]
 pub struct Analysis {
     /// The file.
     pub path: PathBuf,
@@ -63,6 +64,8 @@ pub struct Analysis {
     pub uncertainty: Uncertainty,
     /// All warnings, from loading on.
     pub warnings: Vec<Warning>,
+    /// Comparison with a circuit model, when one was given.
+    pub expected: Option<Expected>,
 }
 
 /// A capture that loaded but could not be analysed.
@@ -135,5 +138,6 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         estimate,
         quantities,
         warnings,
+        expected: None,
     })
 }

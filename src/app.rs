@@ -2,7 +2,13 @@
 
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
-use crate::cli::{AnalyzeArgs, ChannelArgs, Cli, Command, FormatArg, UncertaintyArgs};
+use crate::check::circuit::Circuit;
+use crate::check::expected::{self, expectation};
+use crate::check::tolerance::{Distribution, MonteCarloConfig};
+use crate::cli::{
+    AnalyzeArgs, ChannelArgs, Cli, Command, DistributionArg, ExpectArgs, FormatArg, MonteCarloArgs,
+    UncertaintyArgs,
+};
 use crate::quantity::uncertainty::{Adc, UncertaintyInputs};
 use crate::report::{self, Format};
 use std::io::Write;
@@ -10,10 +16,31 @@ use std::io::Write;
 /// How a run ended, for the exit code.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Outcome {
-    /// Every input was analysed.
+    /// Every input was analysed and no verdict failed (exit code 0).
     Ok,
+    /// Every input was analysed and some verdict was `outside` (exit code 1).
+    VerdictFailed,
     /// Some input could not be read or analysed (exit code 2).
     InputErrors,
+}
+
+impl Outcome {
+    /// The process exit code: 0, 1 or 2.
+    pub fn code(self) -> u8 {
+        match self {
+            Outcome::Ok => 0,
+            Outcome::VerdictFailed => 1,
+            Outcome::InputErrors => 2,
+        }
+    }
+
+    fn worst(self, other: Outcome) -> Outcome {
+        if other.code() > self.code() {
+            other
+        } else {
+            self
+        }
+    }
 }
 
 /// Settings for one `analyze` run, validated once.
@@ -25,6 +52,8 @@ pub struct AnalyzeConfig {
     pub settings: Settings,
     /// Output format.
     pub format: Format,
+    /// A circuit model to compare with, and how to sample its tolerances.
+    pub expect: Option<(Circuit, MonteCarloConfig)>,
 }
 
 /// A setting that makes no sense, found before any file is read.
@@ -127,17 +156,66 @@ impl AnalyzeConfig {
     /// Builds and checks the configuration of `analyze`.
     pub fn from_args(a: &AnalyzeArgs) -> Result<Self, ConfigError> {
         let (load, settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
-        let format = match a.format {
-            FormatArg::Table => Format::Table,
-            FormatArg::Json => Format::Json,
-            FormatArg::Csv => Format::Csv,
+        let expect = match &a.expect {
+            Some(path) => Some((
+                Circuit::load(path).map_err(|e| ConfigError(e.to_string()))?,
+                resolve_monte_carlo(&a.monte_carlo)?,
+            )),
+            None => None,
         };
         Ok(AnalyzeConfig {
             load,
             settings,
-            format,
+            format: format(a.format),
+            expect,
         })
     }
+}
+
+fn format(f: FormatArg) -> Format {
+    match f {
+        FormatArg::Table => Format::Table,
+        FormatArg::Json => Format::Json,
+        FormatArg::Csv => Format::Csv,
+    }
+}
+
+/// Checks the Monte Carlo settings.
+pub fn resolve_monte_carlo(m: &MonteCarloArgs) -> Result<MonteCarloConfig, ConfigError> {
+    if m.draws == 0 {
+        return Err(ConfigError("--draws must be at least 1".into()));
+    }
+    Ok(MonteCarloConfig {
+        draws: m.draws,
+        seed: m.seed,
+        distribution: match m.distribution {
+            DistributionArg::Uniform => Distribution::Uniform,
+            DistributionArg::Normal => Distribution::Normal,
+        },
+    })
+}
+
+/// Runs `expect`: what a model predicts at a frequency.
+pub fn run_expect(a: &ExpectArgs, out: &mut dyn Write) -> Result<Outcome, ConfigError> {
+    let circuit = Circuit::load(&a.model).map_err(|e| ConfigError(e.to_string()))?;
+    let f = match a.freq.or(circuit.frequency_hz) {
+        Some(f) if f.is_finite() && f > 0.0 => f,
+        Some(f) => {
+            return Err(ConfigError(format!(
+                "--freq must be a positive number of Hz, not {f}"
+            )));
+        }
+        None => {
+            return Err(ConfigError(format!(
+                "{}: no frequency: give --freq HZ or frequency_hz in the model",
+                a.model.display()
+            )));
+        }
+    };
+    let e = expectation(&circuit, f, &resolve_monte_carlo(&a.monte_carlo)?);
+    report::expect::write(out, &e, format(a.format))
+        .map_err(|e| ConfigError(format!("could not write the results: {e}")))?;
+    Ok(Outcome::Ok)
 }
 
 /// Runs a parsed command line, writing results to `out` and one line per bad input to `err`.
@@ -150,6 +228,10 @@ pub fn run(cli: Cli, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
                 Outcome::InputErrors
             }
         },
+        Command::Expect(args) => run_expect(&args, out).unwrap_or_else(|e| {
+            let _ = writeln!(err, "error: {e}");
+            Outcome::InputErrors
+        }),
     }
 }
 
@@ -168,10 +250,18 @@ pub fn run_analyze(
             .map_err(|e| e.to_string())
             .and_then(|c| analysis::analyze(c, &cfg.settings).map_err(|e| e.to_string()));
         match result {
-            Ok(a) => io_ok &= exporter.write(out, &a).is_ok(),
+            Ok(mut a) => {
+                if let Some((circuit, mc)) = &cfg.expect {
+                    compare_with_model(&mut a, circuit, mc);
+                    if a.expected.as_ref().is_some_and(|e| e.failed()) {
+                        outcome = outcome.worst(Outcome::VerdictFailed);
+                    }
+                }
+                io_ok &= exporter.write(out, &a).is_ok()
+            }
             Err(msg) => {
                 let _ = writeln!(err, "error: {msg}");
-                outcome = Outcome::InputErrors;
+                outcome = outcome.worst(Outcome::InputErrors);
             }
         }
     }
@@ -184,4 +274,22 @@ pub fn run_analyze(
         outcome = Outcome::InputErrors;
     }
     outcome
+}
+
+/// Adds the comparison with a circuit model to an analysis, at the measured frequency, when the
+/// angle is defined.
+pub fn compare_with_model(a: &mut analysis::Analysis, circuit: &Circuit, mc: &MonteCarloConfig) {
+    let q = &a.quantities;
+    if let (Some(angle), Some(u)) = (q.phase_angle_dft_deg, a.uncertainty.phase_angle_deg.dft) {
+        let (v1, i1) = q.fundamentals;
+        a.expected = Some(expected::compare(
+            circuit,
+            q.frequency_hz,
+            v1,
+            i1,
+            angle,
+            u,
+            mc,
+        ));
+    }
 }

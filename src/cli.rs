@@ -18,6 +18,8 @@ pub struct Cli {
 pub enum Command {
     /// Analyse captures: frequency, phase angle (DFT and zero crossing), PF, THD, powers.
     Analyze(AnalyzeArgs),
+    /// What a circuit model predicts: impedance, phase angle, PF and the band its tolerances allow.
+    Expect(ExpectArgs),
 }
 
 /// Arguments of `analyze`.
@@ -36,9 +38,56 @@ pub struct AnalyzeArgs {
     /// Highest harmonic order for THD and the spectrum (capped below the Nyquist limit).
     #[arg(long, default_value_t = 50, value_name = "N")]
     pub harmonics: usize,
+    /// Compare the measured angle with a circuit model (TOML) and give a verdict.
+    #[arg(long, value_name = "MODEL.toml")]
+    pub expect: Option<PathBuf>,
+    /// Monte Carlo settings for --expect.
+    #[command(flatten)]
+    pub monte_carlo: MonteCarloArgs,
     /// Output format.
     #[arg(long, value_enum, default_value_t = FormatArg::Table)]
     pub format: FormatArg,
+}
+
+/// Arguments of `expect`.
+#[derive(Debug, Args)]
+pub struct ExpectArgs {
+    /// The circuit model file (TOML).
+    #[arg(value_name = "MODEL.toml")]
+    pub model: PathBuf,
+    /// Frequency in Hz [default: the model's `frequency_hz`].
+    #[arg(long, value_name = "HZ")]
+    pub freq: Option<f64>,
+    /// Monte Carlo settings.
+    #[command(flatten)]
+    pub monte_carlo: MonteCarloArgs,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
+}
+
+/// How the tolerance band is sampled.
+#[derive(Debug, Args, Clone)]
+#[command(next_help_heading = "Tolerance Monte Carlo")]
+pub struct MonteCarloArgs {
+    /// Random circuits drawn within the tolerances.
+    #[arg(long, default_value_t = 100_000, value_name = "N")]
+    pub draws: usize,
+    /// Seed of the random draws (the same seed gives the same result).
+    #[arg(long, default_value_t = 1, value_name = "N")]
+    pub seed: u64,
+    /// How part values are drawn within their tolerance.
+    #[arg(long, value_enum, default_value_t = DistributionArg::Uniform)]
+    pub distribution: DistributionArg,
+}
+
+/// Part value distributions on the command line.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum DistributionArg {
+    /// Uniform between the tolerance limits.
+    Uniform,
+    /// Normal with the limits at ±3σ, truncated to them.
+    Normal,
 }
 
 /// How to read the traces: which channels, their scales and timing.
@@ -165,11 +214,15 @@ mod tests {
     #[test]
     fn negative_skew_is_accepted() {
         let args = attach_negative_values(["tracephase", "analyze", "a.csv", "--skew", "-5e-5"]);
-        let Command::Analyze(a) = Cli::try_parse_from(args).unwrap().command;
+        let Command::Analyze(a) = Cli::try_parse_from(args).unwrap().command else {
+            panic!("not analyze")
+        };
         assert_eq!(a.channels.skew, -5e-5);
         // a file name after a negative value is still a file
         let args = attach_negative_values(["tracephase", "analyze", "--v-scale", "-1e2", "b.wav"]);
-        let Command::Analyze(a) = Cli::try_parse_from(args).unwrap().command;
+        let Command::Analyze(a) = Cli::try_parse_from(args).unwrap().command else {
+            panic!("not analyze")
+        };
         assert_eq!(a.channels.v_scale, -100.0);
         assert_eq!(a.files, vec![std::path::PathBuf::from("b.wav")]);
     }

@@ -2,7 +2,7 @@
 
 use clap::Parser;
 use std::process::ExitCode;
-use tracephase::app::{self, Outcome};
+use tracephase::app;
 use tracephase::cli::{self, Cli};
 
 fn main() -> ExitCode {
@@ -11,8 +11,5 @@ fn main() -> ExitCode {
     let stderr = std::io::stderr();
     let mut out = std::io::BufWriter::new(stdout.lock());
     let mut err = stderr.lock();
-    match app::run(cli, &mut out, &mut err) {
-        Outcome::Ok => ExitCode::SUCCESS,
-        Outcome::InputErrors => ExitCode::from(2),
-    }
+    ExitCode::from(app::run(cli, &mut out, &mut err).code())
 }

@@ -7,6 +7,10 @@
 //!   the network expression (`R1 + L1 + (C1 || C2)`); impedance at any frequency.
 //! - [`tolerance`]: the band of phase angles the tolerances allow, by worst-case search over the
 //!   tolerance box and by seeded Monte Carlo.
+//! - [`decision`]: the guarded decision rule (ILAC-G8:09/2019) shared by every verdict.
+//! - [`expected`]: a measured angle against a model's band, and which part would explain a gap.
 
 pub mod circuit;
+pub mod decision;
+pub mod expected;
 pub mod tolerance;

@@ -126,6 +126,9 @@ pub struct Quantities {
     pub phase_angle_zero_crossing_sigma_deg: Option<f64>,
     /// Warnings this stage found.
     pub warnings: Vec<Warning>,
+    /// RMS phasors of the voltage and current fundamentals (current with the skew removed), for
+    /// the impedance V1/I1.
+    pub fundamentals: (Complex64, Complex64),
 }
 
 /// Sums over the whole-cycle span that need the samples.
@@ -354,6 +357,7 @@ pub fn quantities(
         power,
         harmonics,
         phase_angle_dft_sigma_deg: sigma_dft,
+        fundamentals: (vh[0], ih[0]),
         phase_angle_zero_crossing_sigma_deg: zc.map(|z| z.1),
         warnings,
     }

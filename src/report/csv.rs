@@ -8,7 +8,8 @@ use std::io::{self, Write};
 /// Writes CSV rows, the header before the first.
 #[derive(Debug, Default)]
 pub struct CsvExporter {
-    header_written: bool,
+    /// Columns, fixed by the first row; later rows are matched to them by key.
+    columns: Option<Vec<String>>,
 }
 
 fn io_err(e: ::csv::Error) -> io::Error {
@@ -20,13 +21,22 @@ impl Exporter for CsvExporter {
         let value = serde_json::to_value(AnalysisRecord::from(analysis))?;
         let cells = flatten(&value);
         let mut w = ::csv::Writer::from_writer(&mut *out);
-        if !self.header_written {
-            w.write_record(cells.iter().map(|(k, _)| k.as_str()))
-                .map_err(io_err)?;
-            self.header_written = true;
-        }
-        w.write_record(cells.iter().map(|(_, v)| v.as_str()))
-            .map_err(io_err)?;
+        let columns = match &self.columns {
+            Some(c) => c,
+            None => {
+                let c: Vec<String> = cells.iter().map(|(k, _)| k.clone()).collect();
+                w.write_record(&c).map_err(io_err)?;
+                self.columns.insert(c)
+            }
+        };
+        let row = columns.iter().map(|col| {
+            cells
+                .iter()
+                .find(|(k, _)| k == col)
+                .map(|(_, v)| v.as_str())
+                .unwrap_or("")
+        });
+        w.write_record(row).map_err(io_err)?;
         w.flush()?;
         drop(w);
         out.flush()

@@ -5,6 +5,7 @@
 //! visible in one place.
 
 mod csv;
+pub mod expect;
 mod json;
 mod table;
 pub mod wire;

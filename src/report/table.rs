@@ -2,6 +2,7 @@
 
 use super::Exporter;
 use crate::analysis::Analysis;
+use crate::check::expected::Expected;
 use crate::quantity::uncertainty::TraceUncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
 use std::io::{self, Write};
@@ -157,6 +158,9 @@ impl Exporter for TableExporter {
                 }
             )?;
         }
+        if let Some(e) = &a.expected {
+            expected_block(out, e)?;
+        }
         if a.warnings.is_empty() {
             writeln!(out, "  warnings     none")?;
         } else {
@@ -167,6 +171,66 @@ impl Exporter for TableExporter {
         }
         out.flush()
     }
+}
+
+fn expected_block(out: &mut dyn Write, e: &Expected) -> io::Result<()> {
+    writeln!(
+        out,
+        "  expected     {}: nominal {}°, tolerance band {}° to {}° (worst case), \
+         Monte Carlo 95 % {}° to {}°",
+        e.model.as_deref().unwrap_or("circuit model"),
+        num(e.nominal_phase_deg, 4),
+        num(e.band_deg[0], 4),
+        num(e.band_deg[1], 4),
+        num(e.monte_carlo_95_deg[0], 4),
+        num(e.monte_carlo_95_deg[1], 4),
+    )?;
+    let where_ = if e.margin_deg > 0.0 {
+        format!("outside the band by {}°", num(e.margin_deg, 2))
+    } else {
+        format!("inside the band by {}°", num(-e.margin_deg, 2))
+    };
+    writeln!(
+        out,
+        "  verdict      {} (measured {} is {where_})",
+        e.verdict.as_str().to_uppercase(),
+        pm(
+            Some(e.measured_phase_deg),
+            Some(e.measured_uncertainty_deg),
+            "°"
+        ),
+    )?;
+    writeln!(out, "  rule         {}", e.decision_rule)?;
+    let x = &e.explanation;
+    let (value, unit) = if x.equivalent == "inductance" {
+        (x.equivalent_value * 1e3, "mH")
+    } else {
+        (x.equivalent_value * 1e6, "µF")
+    };
+    writeln!(
+        out,
+        "  measured Z   {} Ω = {} Ω {} j{} Ω (series {} of {} {unit} at {} Hz)",
+        num(x.impedance_ohm, 5),
+        num(x.series_resistance_ohm, 5),
+        if x.series_reactance_ohm < 0.0 {
+            "−"
+        } else {
+            "+"
+        },
+        num(x.series_reactance_ohm.abs(), 5),
+        x.equivalent,
+        num(value, 4),
+        num(e.frequency_hz, 6),
+    )?;
+    for (k, p) in x.parts.iter().enumerate() {
+        let head = if k == 0 { "which part" } else { "" };
+        let z = p
+            .impedance_ohm_if_so
+            .map(|z| format!(" (|Z| would be {} Ω)", num(z, 4)))
+            .unwrap_or_default();
+        writeln!(out, "  {head:<13}- {}{z}", p.note)?;
+    }
+    Ok(())
 }
 
 #[cfg(test)]

@@ -9,6 +9,7 @@
 //! defined (no fundamental, so no angle) is `null`.
 
 use crate::analysis::{Analysis, Settings};
+use crate::check::expected::Expected;
 use crate::quantity::power::Powers;
 use crate::quantity::uncertainty::Uncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
@@ -53,6 +54,9 @@ pub struct AnalysisRecord {
     pub power: Powers,
     /// Expanded uncertainties (k = 2), keys mirroring the results.
     pub uncertainty: Uncertainty,
+    /// Comparison with a circuit model (`--expect`); absent without one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub expected: Option<Expected>,
     /// Warnings in words.
     pub warnings: Vec<String>,
     /// Warning codes, for filtering.
@@ -107,6 +111,7 @@ impl From<&Analysis> for AnalysisRecord {
             current: q.current,
             power: q.power,
             uncertainty: a.uncertainty,
+            expected: a.expected.clone(),
             warnings: a.warnings.iter().map(|w| w.to_string()).collect(),
             warning_codes: a.warnings.iter().map(|w| w.code()).collect(),
             harmonics: q.harmonics.clone(),
