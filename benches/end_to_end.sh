@@ -65,9 +65,9 @@ read -r TP_MEDIAN TP_MIN TP_RSS < <(measure tracephase "$RUNS" "$BIN" analyze "$
 if command -v hyperfine >/dev/null; then
     hyperfine --warmup 2 --runs "$RUNS" --style basic --export-json target/bench-data/hyperfine.json \
         "$BIN analyze $FILE --format json"
-    TP_MEDIAN=$(python3 -c 'import json,sys; print("%.4f" % json.load(open(sys.argv[1]))["results"][0]["median"])' \
+    read -r TP_MEDIAN TP_MIN < <(python3 -c 'import json,sys; r = json.load(open(sys.argv[1]))["results"][0]; print("%.4f %.4f" % (r["median"], r["min"]))' \
         target/bench-data/hyperfine.json)
-    echo "(median from hyperfine; peak RSS from the timing loop)"
+    echo "(times from hyperfine; peak RSS from the timing loop)"
 fi
 
 PANDAS_MEDIAN=""
