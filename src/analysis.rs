@@ -109,8 +109,13 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             source,
         })?;
     let mut warnings = std::mem::take(&mut capture.warnings);
-    for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
-        if let Some(percent) = condition::clipping(y) {
+    let (clip_v, clip_i) = std::thread::scope(|s| {
+        let h = s.spawn(|| condition::clipping(v));
+        let ci = condition::clipping(i);
+        (h.join().ok().flatten(), ci)
+    });
+    for (y, t, clip) in [(v, Trace::Voltage, clip_v), (i, Trace::Current, clip_i)] {
+        if let Some(percent) = clip {
             warnings.push(Warning::Clipping { trace: t, percent });
         }
         if let Some(levels) = condition::few_levels(y) {

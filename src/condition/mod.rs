@@ -81,8 +81,12 @@ pub fn whole_cycles(len: usize, samples_per_cycle: f64) -> (usize, usize) {
 pub fn clipping(y: &[f64]) -> Option<f64> {
     let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
     for &x in y {
-        lo = lo.min(x);
-        hi = hi.max(x);
+        if x < lo {
+            lo = x;
+        }
+        if x > hi {
+            hi = x;
+        }
     }
     let amplitude = (hi - lo) / 2.0;
     if !(amplitude > 0.0) {
@@ -93,13 +97,13 @@ pub fn clipping(y: &[f64]) -> Option<f64> {
     for &x in y {
         if x == hi {
             n_hi += 1;
-        } else {
-            below_hi = below_hi.max(x);
+        } else if x > below_hi {
+            below_hi = x;
         }
         if x == lo {
             n_lo += 1;
-        } else {
-            above_lo = above_lo.min(x);
+        } else if x < above_lo {
+            above_lo = x;
         }
     }
     let n = y.len() as f64;

@@ -20,7 +20,7 @@ use rustfft::num_complex::Complex64;
 use std::f64::consts::PI;
 
 /// Samples per projection block; the trig table holds `2·(H+1)·BLOCK` values.
-const BLOCK: usize = 512;
+const BLOCK: usize = 256;
 
 /// Result of one fit.
 #[derive(Debug, Clone, PartialEq)]
@@ -97,23 +97,138 @@ fn dirichlet(alpha: f64, n: usize) -> f64 {
 /// Fits DC and harmonics 1..=`order` at `theta` rad/sample to `y`.
 ///
 /// Returns `None` when the normal equations are singular (too few samples for the order).
+/// Fitting many records at one frequency is cheaper through one [`Basis`].
 pub fn fit(y: &[f64], theta: f64, order: usize) -> Option<HarmonicFit> {
-    let n = y.len();
-    if n < 2 * order + 2 {
-        return None;
+    Basis::new(theta, order).fit(y)
+}
+
+/// Cholesky factors of the two normal-equation blocks for one record length.
+#[derive(Debug, Clone)]
+struct Factors {
+    cos: Array2<f64>,
+    sin: Array2<f64>,
+}
+
+/// Everything a fit at one frequency and order can share between records: the table of
+/// `cos/sin(hθm)` and the factored normal equations of the last record length seen.
+#[derive(Debug, Clone)]
+pub struct Basis {
+    theta: f64,
+    order: usize,
+    tcos: Vec<f64>,
+    tsin: Vec<f64>,
+    /// Record length and its factors (`None` when singular).
+    factors: Option<(usize, Option<Factors>)>,
+}
+
+/// `e^{jhx}` for h = 0..=order by repeated multiplication (one `sin_cos` per call).
+fn powers(x: f64, order: usize, out: &mut Vec<Complex64>) {
+    out.clear();
+    let step = Complex64::from_polar(1.0, x);
+    let mut z = Complex64::new(1.0, 0.0);
+    for _ in 0..=order {
+        out.push(z);
+        z *= step;
     }
-    let (proj_cos, proj_sin) = project(y, theta, order);
-    // Cosine block: indices 0..=H (0 = DC). Sine block: indices 1..=H.
+}
+
+impl Basis {
+    /// Prepares fits of DC and harmonics 1..=`order` at `theta` rad/sample.
+    pub fn new(theta: f64, order: usize) -> Self {
+        let mut tcos = vec![0.0; (order + 1) * BLOCK];
+        let mut tsin = vec![0.0; (order + 1) * BLOCK];
+        let mut p = Vec::with_capacity(order + 1);
+        for m in 0..BLOCK {
+            powers(theta * m as f64, order, &mut p);
+            for (h, z) in p.iter().enumerate() {
+                tcos[h * BLOCK + m] = z.re;
+                tsin[h * BLOCK + m] = z.im;
+            }
+        }
+        Basis {
+            theta,
+            order,
+            tcos,
+            tsin,
+            factors: None,
+        }
+    }
+
+    /// Fits one record; `None` when the normal equations are singular.
+    pub fn fit(&mut self, y: &[f64]) -> Option<HarmonicFit> {
+        let (n, order) = (y.len(), self.order);
+        if n < 2 * order + 2 {
+            return None;
+        }
+        let (proj_cos, proj_sin) = self.project(y);
+        if !matches!(&self.factors, Some((len, _)) if *len == n) {
+            self.factors = Some((n, factor_gram(self.theta, order, n)));
+        }
+        let f = self.factors.as_ref()?.1.as_ref()?;
+        let coef_cos = solve(&f.cos, &proj_cos);
+        let mut coef_sin = vec![0.0];
+        if order > 0 {
+            coef_sin.extend(solve(&f.sin, &proj_sin[1..]));
+        }
+        let energy: f64 = dot(y, y);
+        let explained: f64 = dot(&coef_cos, &proj_cos) + dot(&coef_sin[1..], &proj_sin[1..]);
+        let amplitudes = (1..=order)
+            .map(|h| Complex64::new(coef_cos[h], -coef_sin[h]))
+            .collect();
+        Some(HarmonicFit {
+            len: n,
+            dc: coef_cos[0],
+            amplitudes,
+            residual_ss: (energy - explained).max(0.0),
+            energy,
+            proj_cos,
+            proj_sin,
+            coef_cos,
+            coef_sin,
+        })
+    }
+
+    /// Σ y·cos(hθτ) and Σ y·sin(hθτ) for h = 0..=order, τ centred.
+    fn project(&self, y: &[f64]) -> (Vec<f64>, Vec<f64>) {
+        let order = self.order;
+        let n = y.len();
+        let centre = (n as f64 - 1.0) / 2.0;
+        let mut pc = vec![0.0; order + 1];
+        let mut ps = vec![0.0; order + 1];
+        let mut rot = Vec::with_capacity(order + 1);
+        let mut n0 = 0;
+        while n0 < n {
+            let len = BLOCK.min(n - n0);
+            let seg = &y[n0..n0 + len];
+            // Σ y e^{jhθ(start+m)} = e^{jhθ·start} (c + js)
+            powers(self.theta * (n0 as f64 - centre), order, &mut rot);
+            for (h, r) in rot.iter().enumerate() {
+                let c = dot(seg, &self.tcos[h * BLOCK..h * BLOCK + len]);
+                let s = dot(seg, &self.tsin[h * BLOCK..h * BLOCK + len]);
+                pc[h] += r.re * c - r.im * s;
+                ps[h] += r.im * c + r.re * s;
+            }
+            n0 += len;
+        }
+        (pc, ps)
+    }
+}
+
+/// Builds and factors the two normal-equation blocks for a record of `n` samples; `None` when
+/// either is not positive definite.
+fn factor_gram(theta: f64, order: usize, n: usize) -> Option<Factors> {
     let hc = order + 1;
     let mut gc = Array2::<f64>::zeros((hc, hc));
     let mut gs = Array2::<f64>::zeros((order, order));
+    let d: Vec<f64> = (0..=2 * order)
+        .map(|m| dirichlet(m as f64 * theta, n))
+        .collect();
     for h in 0..=order {
         for k in 0..=h {
-            let dm = dirichlet((h - k) as f64 * theta, n);
-            let dp = dirichlet((h + k) as f64 * theta, n);
+            let (dm, dp) = (d[h - k], d[h + k]);
             let c = match (h, k) {
                 (0, 0) => n as f64,
-                (_, 0) => dirichlet(h as f64 * theta, n),
+                (_, 0) => d[h],
                 _ => 0.5 * (dm + dp),
             };
             gc[[h, k]] = c;
@@ -125,71 +240,10 @@ pub fn fit(y: &[f64], theta: f64, order: usize) -> Option<HarmonicFit> {
             }
         }
     }
-    let coef_cos = cholesky_solve(gc, &proj_cos)?;
-    let mut coef_sin = vec![0.0];
-    if order > 0 {
-        coef_sin.extend(cholesky_solve(gs, &proj_sin[1..])?);
-    }
-    let energy: f64 = y.iter().map(|v| v * v).sum();
-    let explained: f64 = coef_cos
-        .iter()
-        .zip(&proj_cos)
-        .map(|(a, b)| a * b)
-        .sum::<f64>()
-        + coef_sin
-            .iter()
-            .zip(&proj_sin)
-            .skip(1)
-            .map(|(a, b)| a * b)
-            .sum::<f64>();
-    let amplitudes = (1..=order)
-        .map(|h| Complex64::new(coef_cos[h], -coef_sin[h]))
-        .collect();
-    Some(HarmonicFit {
-        len: n,
-        dc: coef_cos[0],
-        amplitudes,
-        residual_ss: (energy - explained).max(0.0),
-        energy,
-        proj_cos,
-        proj_sin,
-        coef_cos,
-        coef_sin,
+    Some(Factors {
+        cos: cholesky(gc)?,
+        sin: cholesky(gs)?,
     })
-}
-
-/// Σ y·cos(hθτ) and Σ y·sin(hθτ) for h = 0..=order, τ centred.
-pub(crate) fn project(y: &[f64], theta: f64, order: usize) -> (Vec<f64>, Vec<f64>) {
-    let n = y.len();
-    let centre = (n as f64 - 1.0) / 2.0;
-    let block = BLOCK.min(n);
-    let mut tcos = vec![0.0; (order + 1) * block];
-    let mut tsin = vec![0.0; (order + 1) * block];
-    for h in 0..=order {
-        for m in 0..block {
-            let (s, c) = (h as f64 * theta * m as f64).sin_cos();
-            tcos[h * block + m] = c;
-            tsin[h * block + m] = s;
-        }
-    }
-    let mut pc = vec![0.0; order + 1];
-    let mut ps = vec![0.0; order + 1];
-    let mut n0 = 0;
-    while n0 < n {
-        let len = block.min(n - n0);
-        let seg = &y[n0..n0 + len];
-        let start = n0 as f64 - centre;
-        for h in 0..=order {
-            let c = dot(seg, &tcos[h * block..h * block + len]);
-            let s = dot(seg, &tsin[h * block..h * block + len]);
-            // Σ y e^{jhθ(start+m)} = e^{jhθ·start} (c + js)
-            let (rs, rc) = (h as f64 * theta * start).sin_cos();
-            pc[h] += rc * c - rs * s;
-            ps[h] += rs * c + rc * s;
-        }
-        n0 += len;
-    }
-    (pc, ps)
 }
 
 /// Dot product with four accumulators (lets the compiler use SIMD without `-ffast-math`).
@@ -209,9 +263,10 @@ pub(crate) fn dot(a: &[f64], b: &[f64]) -> f64 {
     (acc[0] + acc[1]) + (acc[2] + acc[3]) + tail
 }
 
-/// Solves `a·x = b` for symmetric positive-definite `a` by Cholesky; `None` if not positive.
-fn cholesky_solve(mut a: Array2<f64>, b: &[f64]) -> Option<Vec<f64>> {
-    let n = b.len();
+/// Cholesky factor (lower triangle, in place) of a symmetric positive-definite matrix; `None`
+/// when it is not positive definite to working precision.
+fn cholesky(mut a: Array2<f64>) -> Option<Array2<f64>> {
+    let n = a.nrows();
     for j in 0..n {
         let mut d = a[[j, j]];
         for k in 0..j {
@@ -230,22 +285,28 @@ fn cholesky_solve(mut a: Array2<f64>, b: &[f64]) -> Option<Vec<f64>> {
             a[[i, j]] = s / d;
         }
     }
+    Some(a)
+}
+
+/// Solves `L·Lᵀ·x = b` with the factor from [`cholesky`].
+fn solve(l: &Array2<f64>, b: &[f64]) -> Vec<f64> {
+    let n = b.len();
     let mut x = b.to_vec();
     for i in 0..n {
         let mut s = x[i];
         for k in 0..i {
-            s -= a[[i, k]] * x[k];
+            s -= l[[i, k]] * x[k];
         }
-        x[i] = s / a[[i, i]];
+        x[i] = s / l[[i, i]];
     }
     for i in (0..n).rev() {
         let mut s = x[i];
         for k in i + 1..n {
-            s -= a[[k, i]] * x[k];
+            s -= l[[k, i]] * x[k];
         }
-        x[i] = s / a[[i, i]];
+        x[i] = s / l[[i, i]];
     }
-    Some(x)
+    x
 }
 
 #[cfg(test)]
@@ -271,7 +332,7 @@ mod tests {
     fn block_projection_matches_direct_sums() {
         let y: Vec<f64> = (0..1300).map(|k| ((k * 37 % 101) as f64) - 50.0).collect();
         let theta = 0.0123;
-        let (pc, ps) = project(&y, theta, 7);
+        let (pc, ps) = Basis::new(theta, 7).project(&y);
         let c = (y.len() as f64 - 1.0) / 2.0;
         for h in 0..=7 {
             let dc: f64 = y

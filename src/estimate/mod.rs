@@ -27,8 +27,8 @@ pub use zero_crossing::CrossingPhase;
 pub const MIN_FIT_ORDER: usize = 50;
 /// Highest usable harmonic frequency as a share of the Nyquist frequency.
 pub const NYQUIST_SHARE: f64 = 0.95;
-/// Decimate only while every fitted harmonic stays below 1/16 of the new sample rate.
-const OVERSAMPLE_KEEP: f64 = 16.0;
+/// Decimate only while every fitted harmonic stays below 1/8 of the new sample rate.
+const OVERSAMPLE_KEEP: f64 = 8.0;
 /// A fundamental weaker than this share of the rest of the trace is taken as absent.
 pub const MIN_FUNDAMENTAL_RATIO: f64 = 0.05;
 
@@ -182,12 +182,11 @@ fn window_fits(
     if order == 0 {
         return out;
     }
+    let mut basis = fit::Basis::new(theta, order);
     for w in 0..count {
         let range = w * len..(w + 1) * len;
-        let (Some(fv), Some(fi)) = (
-            fit::fit(&vd[range.clone()], theta, order),
-            fit::fit(&id[range.clone()], theta, order),
-        ) else {
+        let (Some(fv), Some(fi)) = (basis.fit(&vd[range.clone()]), basis.fit(&id[range.clone()]))
+        else {
             continue;
         };
         let sum_vi: f64 = fit::dot(&vd[range.clone()], &id[range]);
@@ -249,8 +248,8 @@ pub fn estimate(
     let order = order_limit.min(wanted_order.max(MIN_FIT_ORDER));
     let decimation =
         ((fs / (OVERSAMPLE_KEEP * 2.0 * order as f64 * coarse_hz)).floor() as usize).max(1);
-    let vd = decimate(v, decimation);
-    let id = decimate(i, decimation);
+    // The two traces are independent until the angle: each gets its own thread.
+    let (vd, id) = both(|| decimate(v, decimation), || decimate(i, decimation));
     let fsd = fs / decimation as f64;
     let refined = frequency::refine(
         if source == Trace::Voltage { &vd } else { &id },
@@ -275,7 +274,9 @@ pub fn estimate(
     let correct =
         |h: usize, a: Complex64| a / (SQRT_2 * block_average_gain(h as f64 * omega_in, decimation));
     let channel = |y: &[f64], yd: &[f64]| -> Result<ChannelPhasors, EstimateError> {
-        let fit = fit::fit(yd, theta, order).ok_or(EstimateError::NoPeriodicSignal)?;
+        let fit = fit::Basis::new(theta, order)
+            .fit(yd)
+            .ok_or(EstimateError::NoPeriodicSignal)?;
         let harmonics: Vec<Complex64> = fit
             .amplitudes
             .iter()
@@ -322,8 +323,8 @@ pub fn estimate(
             crossing,
         })
     };
-    let voltage = channel(v, &vd)?;
-    let current = channel(i, &id)?;
+    let (voltage, current) = both(|| channel(v, &vd), || channel(i, &id));
+    let (voltage, current) = (voltage?, current?);
     // Cramér-Rao bound for the frequency (Kay, vol. I; references §4), in cycles per sample.
     let src = if source == Trace::Voltage {
         &voltage
@@ -345,5 +346,17 @@ pub fn estimate(
         voltage,
         current,
         windows: window_fits(&vd, &id, f, fsd, order, correct),
+    })
+}
+
+/// Runs `a` on a second thread and `b` on this one, and returns both results.
+fn both<A: Send, B: Send>(a: impl FnOnce() -> A + Send, b: impl FnOnce() -> B + Send) -> (A, B) {
+    std::thread::scope(|scope| {
+        let handle = scope.spawn(a);
+        let rb = b();
+        match handle.join() {
+            Ok(ra) => (ra, rb),
+            Err(panic) => std::panic::resume_unwind(panic),
+        }
     })
 }
