@@ -29,24 +29,24 @@ pub struct AnalyzeArgs {
     /// Capture files (CSV, TSV, TXT or WAV; the format is read from the content).
     #[arg(required = true, value_name = "FILE")]
     pub files: Vec<PathBuf>,
+    /// Highest harmonic order for THD and the spectrum (capped below the Nyquist limit).
+    #[arg(long, default_value_t = 50, value_name = "N")]
+    pub harmonics: usize,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
+    /// Compare the measured angle with a circuit model (TOML) and give a verdict.
+    #[arg(long, value_name = "MODEL.toml")]
+    pub expect: Option<PathBuf>,
     /// Channel, scale and timing options.
     #[command(flatten)]
     pub channels: ChannelArgs,
     /// Instrument limits for the uncertainty.
     #[command(flatten)]
     pub uncertainty: UncertaintyArgs,
-    /// Highest harmonic order for THD and the spectrum (capped below the Nyquist limit).
-    #[arg(long, default_value_t = 50, value_name = "N")]
-    pub harmonics: usize,
-    /// Compare the measured angle with a circuit model (TOML) and give a verdict.
-    #[arg(long, value_name = "MODEL.toml")]
-    pub expect: Option<PathBuf>,
     /// Monte Carlo settings for --expect.
     #[command(flatten)]
     pub monte_carlo: MonteCarloArgs,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
-    pub format: FormatArg,
 }
 
 /// Arguments of `expect`.
@@ -92,6 +92,7 @@ pub enum DistributionArg {
 
 /// How to read the traces: which channels, their scales and timing.
 #[derive(Debug, Args, Clone)]
+#[command(next_help_heading = "Channels, scales and timing")]
 pub struct ChannelArgs {
     /// Voltage channel: 1-based column/channel number or header name [default: by name, else first].
     #[arg(long, value_name = "COL")]
