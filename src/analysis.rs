@@ -25,7 +25,13 @@ pub struct Settings {
     pub harmonics: usize,
     /// Instrument limits for the Type B uncertainty components.
     pub uncertainty: UncertaintyInputs,
+    /// True PF below which a utility penalty is flagged.
+    pub pf_threshold: f64,
 }
+
+/// Default PF penalty threshold (0.90 is a common utility threshold, 0.95 also common: common
+/// practice).
+pub const DEFAULT_PF_THRESHOLD: f64 = 0.90;
 
 impl Default for Settings {
     fn default() -> Self {
@@ -35,6 +41,7 @@ impl Default for Settings {
             skew_s: 0.0,
             harmonics: DEFAULT_HARMONICS,
             uncertainty: UncertaintyInputs::default(),
+            pf_threshold: DEFAULT_PF_THRESHOLD,
         }
     }
 }
@@ -123,6 +130,14 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         }
     }
     warnings.extend(quantities.warnings.iter().cloned());
+    if let Some(pf) = quantities.true_pf
+        && pf.abs() < settings.pf_threshold
+    {
+        warnings.push(Warning::PfBelowThreshold {
+            pf: pf.abs(),
+            threshold: settings.pf_threshold,
+        });
+    }
     let uncertainty = uncertainty::uncertainty(
         v,
         i,

@@ -38,6 +38,9 @@ pub struct AnalyzeArgs {
     /// Compare the measured angle with a circuit model (TOML) and give a verdict.
     #[arg(long, value_name = "MODEL.toml")]
     pub expect: Option<PathBuf>,
+    /// Flag a true PF below this (a utility penalty threshold).
+    #[arg(long, default_value_t = 0.90, value_name = "PF")]
+    pub pf_threshold: f64,
     /// Channel, scale and timing options.
     #[command(flatten)]
     pub channels: ChannelArgs,

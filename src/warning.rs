@@ -89,6 +89,13 @@ pub enum Warning {
         /// Highest order below the Nyquist limit, used instead.
         used: usize,
     },
+    /// The true PF is below the utility's penalty threshold.
+    PfBelowThreshold {
+        /// |P/S|.
+        pf: f64,
+        /// The threshold.
+        threshold: f64,
+    },
     /// The fundamental frequency is far from 50, 60 or 400 Hz.
     UnusualFrequency {
         /// The measured frequency.
@@ -110,6 +117,7 @@ impl Warning {
             Warning::MethodsDisagree { .. } => "methods-disagree",
             Warning::HarmonicsCapped { .. } => "harmonics-capped",
             Warning::UnusualFrequency { .. } => "unusual-frequency",
+            Warning::PfBelowThreshold { .. } => "pf-below-threshold",
         }
     }
 }
@@ -168,6 +176,11 @@ impl fmt::Display for Warning {
                 f,
                 "harmonics up to order {asked} asked for, but only orders up to {used} lie \
                  below the Nyquist limit of this sample rate; THD and spectrum stop at {used}"
+            ),
+            Warning::PfBelowThreshold { pf, threshold } => write!(
+                f,
+                "power factor {pf:.3} is below the {threshold:.2} threshold: a utility may \
+                 charge a penalty; see `tracephase bank` for the correction needed"
             ),
             Warning::UnusualFrequency { frequency_hz } => write!(
                 f,

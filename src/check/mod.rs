@@ -10,7 +10,9 @@
 //! - [`decision`]: the guarded decision rule (ILAC-G8:09/2019) shared by every verdict.
 //! - [`expected`]: a measured angle against a model's band, and which part would explain a gap.
 
+pub mod bank;
 pub mod circuit;
 pub mod decision;
 pub mod expected;
+pub mod meter;
 pub mod tolerance;

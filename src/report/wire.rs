@@ -46,6 +46,8 @@ pub struct AnalysisRecord {
     pub true_pf: Option<f64>,
     /// "lagging" or "leading".
     pub character: Option<&'static str>,
+    /// |true PF| is below `settings.pf_threshold` (a utility penalty); `None` without a PF.
+    pub pf_below_threshold: Option<bool>,
     /// Voltage figures.
     pub voltage: TraceFigures,
     /// Current figures.
@@ -107,6 +109,7 @@ impl From<&Analysis> for AnalysisRecord {
             displacement_pf: q.displacement_pf,
             true_pf: q.true_pf,
             character: q.character.map(|c| c.as_str()),
+            pf_below_threshold: q.true_pf.map(|pf| pf.abs() < a.settings.pf_threshold),
             voltage: q.voltage,
             current: q.current,
             power: q.power,

@@ -103,6 +103,7 @@ pub fn resolve_channels(
             skew_s: c.skew,
             harmonics,
             uncertainty: resolve_uncertainty(u)?,
+            pf_threshold: analysis::DEFAULT_PF_THRESHOLD,
         },
     ))
 }
@@ -155,7 +156,14 @@ pub fn resolve_uncertainty(u: &UncertaintyArgs) -> Result<UncertaintyInputs, Con
 impl AnalyzeConfig {
     /// Builds and checks the configuration of `analyze`.
     pub fn from_args(a: &AnalyzeArgs) -> Result<Self, ConfigError> {
-        let (load, settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
+        let (load, mut settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
+        if !(a.pf_threshold > 0.0 && a.pf_threshold <= 1.0) {
+            return Err(ConfigError(format!(
+                "--pf-threshold must be above 0 and at most 1, not {}",
+                a.pf_threshold
+            )));
+        }
+        settings.pf_threshold = a.pf_threshold;
         let expect = match &a.expect {
             Some(path) => Some((
                 Circuit::load(path).map_err(|e| ConfigError(e.to_string()))?,

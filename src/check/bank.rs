@@ -1,0 +1,637 @@
+//! Capacitor bank verification: does the bank deliver its rated kvar at this site's voltage and
+//! frequency, has a step failed, is the site over-corrected, how much correction a target PF needs,
+//! and is the bank near a parallel resonance with the supply?
+//!
+//! Inputs: the fundamental figures of a capture taken before the bank is switched in and one taken
+//! after ([`BankSide`]), and the bank's [`Nameplate`]. Definitions used:
+//!
+//! - delivered reactive power = Q1(before) − Q1(after) (IEEE 1459 fundamental Q; load convention,
+//!   so a capacitor lowers Q1);
+//! - expected at the site: `Q = Q_rated·(V/V_rated)²·(f/f_rated)`, since `Q = V²·2πf·C` across a
+//!   capacitance (textbook); for a three-phase bank the rated voltage is line-to-line and a capture
+//!   on one phase (line-to-neutral voltage, line current) is scaled by √3 in voltage and by 3 in
+//!   power;
+//! - acceptance band of delivered/rated: IEEE Std 18 100 % to 110 % (older editions 115 %), or
+//!   IEC 60831-1 −5 %/+10 % for units up to 100 kvar (both from memory), decided by the guarded
+//!   rule of [`super::decision`];
+//! - correction for a target PF: `Qc = P·(tan θ1 − tan θ2)` (handbook arithmetic);
+//! - parallel resonance order with the supply: `h = √(Ssc/Qc)` (a rule of thumb of the trade,
+//!   common practice), with `Ssc = S_transformer / z` when only a transformer is known.
+
+use super::decision::{Verdict, decide};
+use serde::{Deserialize, Serialize};
+use std::fmt;
+use std::path::{Path, PathBuf};
+
+/// Which capacitor standard sets the acceptance band of delivered/rated kvar.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+pub enum CapacitorStandard {
+    /// IEEE Std 18: 100 % to 110 % of rated kvar (from memory; older editions allowed 115 %).
+    #[default]
+    #[serde(rename = "ieee-18")]
+    Ieee18,
+    /// IEC 60831-1: −5 % to +10 % for units up to 100 kvar (from memory).
+    #[serde(rename = "iec-60831")]
+    Iec60831,
+}
+
+impl CapacitorStandard {
+    /// Accepted names on the command line and in a nameplate file.
+    pub const NAMES: [&'static str; 2] = ["ieee-18", "iec-60831"];
+
+    /// Reads a name.
+    pub fn parse(text: &str) -> Option<Self> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "ieee-18" | "ieee18" => Some(CapacitorStandard::Ieee18),
+            "iec-60831" | "iec60831" => Some(CapacitorStandard::Iec60831),
+            _ => None,
+        }
+    }
+
+    /// Lower and upper limit of delivered/rated (at rated voltage and frequency).
+    pub fn band(self) -> (f64, f64) {
+        match self {
+            CapacitorStandard::Ieee18 => (1.00, 1.10),
+            CapacitorStandard::Iec60831 => (0.95, 1.10),
+        }
+    }
+
+    /// The standard's name and band in words.
+    pub fn describe(self) -> &'static str {
+        match self {
+            CapacitorStandard::Ieee18 => "IEEE Std 18: 100 % to 110 % of rated kvar",
+            CapacitorStandard::Iec60831 => "IEC 60831-1: -5 % to +10 % of rated kvar",
+        }
+    }
+}
+
+/// What is known of the supply, for the resonance check.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub enum Supply {
+    /// Short-circuit power at the bank's bus, MVA.
+    ShortCircuitMva(f64),
+    /// The supplying transformer: rating in kVA and impedance in percent.
+    Transformer {
+        /// Rating, kVA.
+        kva: f64,
+        /// Short-circuit impedance, percent.
+        z_percent: f64,
+    },
+}
+
+impl Supply {
+    /// Short-circuit power in kVA (a transformer alone: S/z, the source taken as infinite).
+    pub fn short_circuit_kva(self) -> f64 {
+        match self {
+            Supply::ShortCircuitMva(s) => s * 1000.0,
+            Supply::Transformer { kva, z_percent } => kva / (z_percent / 100.0),
+        }
+    }
+}
+
+/// The bank as rated.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Nameplate {
+    /// Rated reactive power of the whole bank, kvar.
+    pub rated_kvar: f64,
+    /// Rated voltage, V (line-to-line for a three-phase bank).
+    pub rated_voltage: f64,
+    /// Rated frequency, Hz.
+    pub rated_frequency_hz: f64,
+    /// Rated kvar of each step (they add up to `rated_kvar`).
+    pub steps_kvar: Vec<f64>,
+    /// The captures are of one phase of a balanced three-phase system.
+    pub three_phase: bool,
+    /// The acceptance band's standard.
+    pub standard: CapacitorStandard,
+    /// The supply, when known.
+    pub supply: Option<Supply>,
+    /// Target PF for the correction advice.
+    pub target_pf: f64,
+}
+
+/// Figures of one capture, as the bank check needs them (per captured phase, SI units).
+#[derive(Debug, Clone, PartialEq)]
+pub struct BankSide {
+    /// Active power P, W.
+    pub p_w: f64,
+    /// Fundamental reactive power Q1, var (positive inductive).
+    pub q_var: f64,
+    /// Expanded uncertainty of Q1, var.
+    pub u_q_var: f64,
+    /// Fundamental voltage V1, V.
+    pub v1: f64,
+    /// Fundamental frequency, Hz.
+    pub frequency_hz: f64,
+    /// Fundamental angle θ1, degrees (positive: current lags).
+    pub angle_deg: f64,
+    /// Current RMS per harmonic order (index h − 1), A.
+    pub current_harmonics: Vec<f64>,
+}
+
+/// A harmonic current before and after switching.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct HarmonicChange {
+    /// Order.
+    pub order: usize,
+    /// Current before, A.
+    pub before_a: f64,
+    /// Current after, A.
+    pub after_a: f64,
+    /// Change, percent of the value before.
+    pub change_percent: f64,
+    /// Grew by more than 20 % and is above 1 % of the fundamental: a resonance symptom.
+    pub grows: bool,
+}
+
+/// pass / fail / inconclusive, from the guarded decision rule.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum BankVerdict {
+    /// Delivered kvar within the band, uncertainty included.
+    Pass,
+    /// Delivered kvar outside the band, uncertainty included.
+    Fail,
+    /// The uncertainty straddles a limit.
+    Inconclusive,
+}
+
+impl From<Verdict> for BankVerdict {
+    fn from(v: Verdict) -> Self {
+        match v {
+            Verdict::Consistent => BankVerdict::Pass,
+            Verdict::Outside => BankVerdict::Fail,
+            Verdict::Inconclusive => BankVerdict::Inconclusive,
+        }
+    }
+}
+
+impl fmt::Display for BankVerdict {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            BankVerdict::Pass => "pass",
+            BankVerdict::Fail => "fail",
+            BankVerdict::Inconclusive => "inconclusive",
+        })
+    }
+}
+
+/// Everything the bank check found.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BankReport {
+    /// 3 for one phase of a three-phase bank, else 1.
+    pub power_scale: f64,
+    /// Delivered reactive power, kvar.
+    pub delivered_kvar: f64,
+    /// Its expanded uncertainty, kvar.
+    pub delivered_uncertainty_kvar: f64,
+    /// Site voltage compared with the rating (line-to-line for three-phase), V.
+    pub site_voltage: f64,
+    /// Site frequency, Hz.
+    pub site_frequency_hz: f64,
+    /// Rated kvar scaled to the site voltage and frequency.
+    pub expected_kvar: f64,
+    /// The scaling, written out.
+    pub expected_arithmetic: String,
+    /// delivered / expected.
+    pub ratio: f64,
+    /// Expanded uncertainty of the ratio.
+    pub ratio_uncertainty: f64,
+    /// Acceptance band of the ratio [low, high].
+    pub band: [f64; 2],
+    /// The standard behind the band.
+    pub standard: &'static str,
+    /// pass / fail / inconclusive.
+    pub verdict: BankVerdict,
+    /// The most likely number of failed steps when the bank falls short.
+    pub failed_steps: Option<usize>,
+    /// How that number was found.
+    pub failed_steps_arithmetic: Option<String>,
+    /// The after-capture leads: the site is over-corrected.
+    pub over_corrected: bool,
+    /// PF before and after (displacement, cos θ1).
+    pub pf_before: f64,
+    /// PF after.
+    pub pf_after: f64,
+    /// Target PF of the correction advice.
+    pub target_pf: f64,
+    /// Correction needed from the before-capture to reach the target, kvar.
+    pub kvar_for_target_pf: f64,
+    /// The combination of steps nearest to that, by step number (1-based).
+    pub nearest_steps: Vec<usize>,
+    /// Their kvar at the site.
+    pub nearest_steps_kvar: f64,
+    /// Parallel resonance order with the supply; `None` without supply data.
+    pub resonance_order: Option<f64>,
+    /// A harmonic present in the current within ±0.5 of the resonance order.
+    pub resonance_near_harmonic: Option<usize>,
+    /// Harmonic currents before and after.
+    pub harmonic_changes: Vec<HarmonicChange>,
+    /// Warnings in words.
+    pub warnings: Vec<String>,
+}
+
+/// A harmonic counts as present above this share of the fundamental current.
+const PRESENT_SHARE: f64 = 0.01;
+/// A harmonic current that grows by more than this share after switching is a resonance symptom.
+const GROWTH: f64 = 0.20;
+/// Orders compared before and after.
+const COMPARED_ORDERS: usize = 25;
+
+/// Checks a bank from captures before and after it is switched in.
+pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> BankReport {
+    let scale = if plate.three_phase { 3.0 } else { 1.0 };
+    let delivered = scale * (before.q_var - after.q_var) / 1000.0;
+    let u_delivered = scale * before.u_q_var.hypot(after.u_q_var) / 1000.0;
+    let site_v = if plate.three_phase {
+        3f64.sqrt() * after.v1
+    } else {
+        after.v1
+    };
+    let f = after.frequency_hz;
+    let expected =
+        plate.rated_kvar * (site_v / plate.rated_voltage).powi(2) * (f / plate.rated_frequency_hz);
+    let expected_arithmetic = format!(
+        "{:.2} kvar × ({:.1} V / {:.1} V)² × ({:.3} Hz / {:.3} Hz) = {:.2} kvar",
+        plate.rated_kvar, site_v, plate.rated_voltage, f, plate.rated_frequency_hz, expected
+    );
+    let ratio = delivered / expected;
+    let u_ratio = u_delivered / expected;
+    let (low, high) = plate.standard.band();
+    let decision = decide(ratio, u_ratio, low, high);
+    let verdict = BankVerdict::from(decision.verdict);
+    let mut warnings = Vec::new();
+
+    // Failed steps: the subset of steps whose loss best explains what is missing.
+    let site_scale = expected / plate.rated_kvar;
+    let site_steps: Vec<f64> = plate.steps_kvar.iter().map(|q| q * site_scale).collect();
+    let (failed_steps, failed_steps_arithmetic) = if ratio < low && !site_steps.is_empty() {
+        let missing = expected - delivered;
+        let set = nearest_subset(&site_steps, missing);
+        let lost: f64 = set.iter().map(|&k| site_steps[k - 1]).sum();
+        let equal = site_steps
+            .iter()
+            .all(|q| (q - site_steps[0]).abs() < 1e-9 * q.abs().max(1.0));
+        let text = if equal {
+            format!(
+                "{expected:.2} kvar expected − {delivered:.2} kvar delivered = {missing:.2} kvar \
+                 missing; one step = {expected:.2} / {} = {:.2} kvar; {missing:.2} / {:.2} = {:.2} \
+                 → {} step(s)",
+                site_steps.len(),
+                site_steps[0],
+                site_steps[0],
+                missing / site_steps[0],
+                set.len()
+            )
+        } else {
+            format!(
+                "{expected:.2} kvar expected − {delivered:.2} kvar delivered = {missing:.2} kvar \
+                 missing; steps {set:?} together hold {lost:.2} kvar at this site, the nearest match"
+            )
+        };
+        (Some(set.len()), Some(text))
+    } else {
+        (None, None)
+    };
+
+    let over_corrected = after.angle_deg < 0.0;
+    if over_corrected {
+        warnings.push(format!(
+            "the site is over-corrected: after switching the current leads by {:.1}° \
+             (PF {:.3} leading); switch out a step",
+            -after.angle_deg,
+            after.angle_deg.to_radians().cos()
+        ));
+    }
+    if delivered <= 0.0 {
+        warnings.push(
+            "the bank delivers no reactive power: is it switched in, are the fuses intact, \
+             are before and after the right way round?"
+                .into(),
+        );
+    }
+
+    // Correction for the target PF from the before-capture: Qc = P·(tan θ1 − tan θ2).
+    let p_kw = scale * before.p_w / 1000.0;
+    let theta1 = before.angle_deg.to_radians();
+    let theta2 = plate.target_pf.clamp(-1.0, 1.0).acos();
+    let kvar_for_target_pf = (p_kw * (theta1.tan() - theta2.tan())).max(0.0);
+    let nearest_steps = nearest_subset(&site_steps, kvar_for_target_pf);
+    let nearest_steps_kvar = nearest_steps.iter().map(|&k| site_steps[k - 1]).sum();
+
+    // Harmonic currents before and after switching.
+    let i1_after = after.current_harmonics.first().copied().unwrap_or(0.0);
+    let orders = COMPARED_ORDERS
+        .min(before.current_harmonics.len())
+        .min(after.current_harmonics.len());
+    let harmonic_changes: Vec<HarmonicChange> = (2..=orders)
+        .map(|h| {
+            let (b, a) = (
+                before.current_harmonics[h - 1],
+                after.current_harmonics[h - 1],
+            );
+            let change = if b > 0.0 { 100.0 * (a / b - 1.0) } else { 0.0 };
+            HarmonicChange {
+                order: h,
+                before_a: b,
+                after_a: a,
+                change_percent: change,
+                grows: a > (1.0 + GROWTH) * b && a > PRESENT_SHARE * i1_after,
+            }
+        })
+        .collect();
+    for c in harmonic_changes.iter().filter(|c| c.grows) {
+        warnings.push(format!(
+            "harmonic {} current grew from {:.3} A to {:.3} A ({:+.0} %) when the bank switched \
+             in: a sign of resonance between the bank and the supply",
+            c.order, c.before_a, c.after_a, c.change_percent
+        ));
+    }
+
+    // Parallel resonance order h = √(Ssc/Qc) (common practice).
+    let qc = if delivered > 0.0 { delivered } else { expected };
+    let resonance_order = plate.supply.map(|s| (s.short_circuit_kva() / qc).sqrt());
+    let present = |h: usize| {
+        let share = |side: &BankSide| {
+            let i1 = side.current_harmonics.first().copied().unwrap_or(0.0);
+            side.current_harmonics.get(h - 1).copied().unwrap_or(0.0) > PRESENT_SHARE * i1
+        };
+        share(before) || share(after)
+    };
+    let resonance_near_harmonic = resonance_order.and_then(|h| {
+        let n = h.round() as usize;
+        (n >= 2 && (h - n as f64).abs() <= 0.5 && present(n)).then_some(n)
+    });
+    if let (Some(h), Some(n)) = (resonance_order, resonance_near_harmonic) {
+        warnings.push(format!(
+            "parallel resonance at order {h:.2} lies within ±0.5 of harmonic {n}, which is \
+             present in the current: consider a detuned (reactor) bank"
+        ));
+    }
+
+    BankReport {
+        power_scale: scale,
+        delivered_kvar: delivered,
+        delivered_uncertainty_kvar: u_delivered,
+        site_voltage: site_v,
+        site_frequency_hz: f,
+        expected_kvar: expected,
+        expected_arithmetic,
+        ratio,
+        ratio_uncertainty: u_ratio,
+        band: [low, high],
+        standard: plate.standard.describe(),
+        verdict,
+        failed_steps,
+        failed_steps_arithmetic,
+        over_corrected,
+        pf_before: theta1.cos(),
+        pf_after: after.angle_deg.to_radians().cos(),
+        target_pf: plate.target_pf,
+        kvar_for_target_pf,
+        nearest_steps,
+        nearest_steps_kvar,
+        resonance_order,
+        resonance_near_harmonic,
+        harmonic_changes,
+        warnings,
+    }
+}
+
+/// The steps (1-based numbers) whose kvar add up nearest to `target`; the fewest steps on a tie.
+fn nearest_subset(steps: &[f64], target: f64) -> Vec<usize> {
+    let n = steps.len().min(20);
+    let mut best: (f64, usize, u32) = (target.abs(), 0, 0);
+    for mask in 1u32..(1u32 << n) {
+        let sum: f64 = (0..n)
+            .filter(|k| mask & (1 << k) != 0)
+            .map(|k| steps[k])
+            .sum();
+        let miss = (sum - target).abs();
+        let count = mask.count_ones() as usize;
+        if miss < best.0 - 1e-9 || (miss - best.0).abs() <= 1e-9 && count < best.1 {
+            best = (miss, count, mask);
+        }
+    }
+    (0..n)
+        .filter(|k| best.2 & (1 << k) != 0)
+        .map(|k| k + 1)
+        .collect()
+}
+
+/// The nameplate as a file may give it (TOML, our own keys); every key optional, command-line
+/// options fill or override them.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct NameplateFile {
+    /// Rated kvar of the whole bank.
+    pub rated_kvar: Option<f64>,
+    /// Rated voltage (line-to-line for three-phase), V.
+    pub rated_voltage: Option<f64>,
+    /// Rated frequency, Hz.
+    pub rated_frequency_hz: Option<f64>,
+    /// Number of equal steps.
+    pub steps: Option<usize>,
+    /// Rated kvar of each step, when unequal.
+    pub step_kvar: Option<Vec<f64>>,
+    /// One phase of a balanced three-phase bank.
+    pub three_phase: Option<bool>,
+    /// "ieee-18" or "iec-60831".
+    pub standard: Option<String>,
+    /// Target PF.
+    pub target_pf: Option<f64>,
+    /// Supply short-circuit power, MVA.
+    pub supply_mva: Option<f64>,
+    /// Supplying transformer rating, kVA.
+    pub transformer_kva: Option<f64>,
+    /// Supplying transformer impedance, percent.
+    pub transformer_z_percent: Option<f64>,
+}
+
+/// A nameplate file that cannot be used.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{}: {}{message}", .path.display(), .line.map(|l| format!("line {l}: ")).unwrap_or_default())]
+pub struct NameplateError {
+    /// The file.
+    pub path: PathBuf,
+    /// 1-based line, where known.
+    pub line: Option<usize>,
+    /// What is wrong.
+    pub message: String,
+}
+
+impl NameplateFile {
+    /// Reads a nameplate file.
+    pub fn load(path: &Path) -> Result<Self, NameplateError> {
+        let text = std::fs::read_to_string(path).map_err(|e| NameplateError {
+            path: path.to_path_buf(),
+            line: None,
+            message: format!("cannot read the file: {e}"),
+        })?;
+        Self::parse(&text, path)
+    }
+
+    /// Parses nameplate TOML.
+    pub fn parse(text: &str, path: &Path) -> Result<Self, NameplateError> {
+        toml::from_str(text).map_err(|e: toml::de::Error| NameplateError {
+            path: path.to_path_buf(),
+            line: e
+                .span()
+                .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1),
+            message: e.message().trim().to_string(),
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn side(p: f64, q: f64, v1: f64, f: f64) -> BankSide {
+        BankSide {
+            p_w: p,
+            q_var: q,
+            u_q_var: 0.002 * q.abs().max(1.0),
+            v1,
+            frequency_hz: f,
+            angle_deg: q.atan2(p).to_degrees(),
+            current_harmonics: vec![10.0, 0.1, 0.5, 0.0, 0.3, 0.0, 0.2],
+        }
+    }
+
+    fn plate(kvar: f64, v: f64, steps: usize) -> Nameplate {
+        Nameplate {
+            rated_kvar: kvar,
+            rated_voltage: v,
+            rated_frequency_hz: 50.0,
+            steps_kvar: vec![kvar / steps as f64; steps],
+            three_phase: false,
+            standard: CapacitorStandard::Ieee18,
+            supply: None,
+            target_pf: 0.95,
+        }
+    }
+
+    /// Handbook arithmetic (references §7): a 100 kW load from PF 0.75 to 0.95 needs
+    /// 100·(tan(acos 0.75) − tan(acos 0.95)) = 100·(0.882 − 0.329) = 55.3 kvar.
+    #[test]
+    fn kvar_for_a_target_pf_is_the_handbook_arithmetic() {
+        let theta = 0.75f64.acos();
+        let before = side(100_000.0, 100_000.0 * theta.tan(), 400.0, 50.0);
+        let after = side(100_000.0, 100_000.0 * theta.tan() - 50_000.0, 400.0, 50.0);
+        let r = check_bank(&before, &after, &plate(50.0, 400.0, 5));
+        let hand = 100.0 * (0.75f64.acos().tan() - 0.95f64.acos().tan());
+        assert!((hand - 55.32).abs() < 0.01, "{hand}");
+        assert!((r.kvar_for_target_pf - hand).abs() < 1e-9);
+        // five 10 kvar steps: all five (50 kvar) come nearest to 55.3 kvar
+        assert_eq!(r.nearest_steps, vec![1, 2, 3, 4, 5]);
+    }
+
+    /// Q = V²·2πf·C: a 50 kvar, 400 V, 50 Hz bank at 380 V delivers 50·(380/400)² = 45.125 kvar
+    /// (references §6, computed).
+    #[test]
+    fn expected_kvar_scales_with_voltage_squared_and_frequency() {
+        let expected = 50.0 * (380.0f64 / 400.0).powi(2);
+        assert!((expected - 45.125).abs() < 1e-9);
+        let before = side(20_000.0, 30_000.0, 380.0, 50.0);
+        let after = side(20_000.0, 30_000.0 - 45_125.0, 380.0, 50.0);
+        let r = check_bank(&before, &after, &plate(50.0, 400.0, 1));
+        assert!((r.expected_kvar - expected).abs() < 1e-9);
+        assert!((r.ratio - 1.0).abs() < 1e-9);
+        // and with f: at 60 Hz the same bank gives 60/50 more
+        let after60 = side(20_000.0, 30_000.0 - 45_125.0 * 1.2, 380.0, 60.0);
+        let r60 = check_bank(&before, &after60, &plate(50.0, 400.0, 1));
+        assert!((r60.expected_kvar - expected * 1.2).abs() < 1e-9);
+    }
+
+    #[test]
+    fn a_bank_with_one_of_three_equal_steps_failed_is_named_as_such() {
+        // 3 × 10 kvar at 400 V; one step open: 20 kvar delivered
+        let before = side(30_000.0, 25_000.0, 400.0, 50.0);
+        let after = side(30_000.0, 5_000.0, 400.0, 50.0);
+        let r = check_bank(&before, &after, &plate(30.0, 400.0, 3));
+        assert_eq!(r.verdict, BankVerdict::Fail);
+        assert_eq!(r.failed_steps, Some(1));
+        let text = r.failed_steps_arithmetic.unwrap();
+        assert!(text.contains("→ 1 step"), "{text}");
+    }
+
+    #[test]
+    fn a_healthy_bank_passes_and_one_on_the_limit_is_inconclusive() {
+        let before = side(30_000.0, 25_000.0, 400.0, 50.0);
+        let r = check_bank(
+            &before,
+            &side(30_000.0, -6_000.0, 400.0, 50.0),
+            &plate(30.0, 400.0, 3),
+        );
+        assert_eq!(r.verdict, BankVerdict::Pass, "{}", r.ratio);
+        assert!(r.over_corrected);
+        assert!(r.warnings.iter().any(|w| w.contains("over-corrected")));
+        // exactly 100 %: the uncertainty straddles the lower limit
+        let r = check_bank(
+            &before,
+            &side(30_000.0, -5_000.0, 400.0, 50.0),
+            &plate(30.0, 400.0, 3),
+        );
+        assert_eq!(r.verdict, BankVerdict::Inconclusive);
+    }
+
+    /// h = √(Ssc/Qc) (common practice); references §6: Ssc 20 MVA with Qc 300 kvar gives 8.165.
+    #[test]
+    fn resonance_order_is_the_square_root_of_ssc_over_qc() {
+        let before = side(200_000.0, 400_000.0, 400.0, 50.0);
+        let after = side(200_000.0, 100_000.0, 400.0, 50.0);
+        let mut p = plate(300.0, 400.0, 3);
+        p.supply = Some(Supply::ShortCircuitMva(20.0));
+        let r = check_bank(&before, &after, &p);
+        assert!((r.resonance_order.unwrap() - 8.165).abs() < 1e-3);
+        assert_eq!(r.resonance_near_harmonic, None); // no 8th in the current
+        // a 1000 kVA, 6 % transformer: Ssc = 16.67 MVA
+        p.supply = Some(Supply::Transformer {
+            kva: 1000.0,
+            z_percent: 6.0,
+        });
+        let r = check_bank(&before, &after, &p);
+        assert!((r.resonance_order.unwrap() - (1000.0 / 0.06 / 300.0f64).sqrt()).abs() < 1e-9);
+        // 7.45: within 0.5 of the 7th, which is present (0.2 A of 10 A)
+        assert_eq!(r.resonance_near_harmonic, Some(7));
+    }
+
+    #[test]
+    fn a_harmonic_that_grows_after_switching_is_flagged() {
+        let before = side(30_000.0, 25_000.0, 400.0, 50.0);
+        let mut after = side(30_000.0, -5_000.0, 400.0, 50.0);
+        after.current_harmonics[4] = 1.2; // 5th from 0.3 A to 1.2 A
+        let r = check_bank(&before, &after, &plate(30.0, 400.0, 3));
+        let c = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
+        assert!(c.grows && (c.change_percent - 300.0).abs() < 1e-9);
+        assert!(r.warnings.iter().any(|w| w.contains("harmonic 5")));
+    }
+
+    #[test]
+    fn one_phase_of_a_three_phase_bank_scales_by_three() {
+        // 230 V line-to-neutral = 398.4 V line-to-line; 3 × 10 kvar per phase
+        let before = side(10_000.0, 12_000.0, 230.0, 50.0);
+        let after = side(10_000.0, 2_000.0, 230.0, 50.0);
+        let mut p = plate(30.0, 400.0, 1);
+        p.three_phase = true;
+        let r = check_bank(&before, &after, &p);
+        assert!((r.delivered_kvar - 30.0).abs() < 1e-9);
+        assert!((r.site_voltage - 230.0 * 3f64.sqrt()).abs() < 1e-9);
+    }
+
+    #[test]
+    fn nameplate_files_are_read_and_their_mistakes_named() {
+        let ok = NameplateFile::parse(
+            "rated_kvar = 30\nrated_voltage = 400\nrated_frequency_hz = 50\nsteps = 3\n",
+            Path::new("plate.toml"),
+        )
+        .unwrap();
+        assert_eq!(ok.steps, Some(3));
+        let e = NameplateFile::parse("rated_kvar = 30\nrated_kvars = 4\n", Path::new("p.toml"))
+            .unwrap_err();
+        assert!(e.to_string().starts_with("p.toml: line 2: "), "{e}");
+        assert!(e.to_string().contains("rated_kvars"), "{e}");
+        assert!(!e.to_string().contains('\n'));
+    }
+}
