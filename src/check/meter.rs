@@ -1,0 +1,615 @@
+//! A panel or revenue meter's reading against our measurement of the same circuit, within the
+//! meter's accuracy class.
+//!
+//! Input: what the meter shows ([`Reading`]), its [`AccuracyClass`], how it signs PF
+//! ([`PfSign`]) and our measurement with its expanded uncertainties ([`Measured`], load
+//! convention, k = 2). Output: a [`MeterReport`] with one [`MeterCheck`] per quantity the meter
+//! shows, the quadrant, and plain-language wiring hints.
+//!
+//! # Rules
+//!
+//! - **Error and verdict.** `error_percent = 100·(meter − measured)/|measured|`, judged by the
+//!   guarded decision rule [`decide`] against `±limit`, with our own expanded uncertainty
+//!   `U_percent = 100·U/|measured|` as the guard band: consistent → pass, outside → fail,
+//!   straddling a limit → inconclusive.
+//! - **Near-zero values.** When |P| or |Q| is below [`LOW_SHARE`] of S, its error (and U) is taken
+//!   in percent of S instead (common practice in meter testing at low PF); likewise a |PF| below
+//!   [`LOW_SHARE`] is compared in percent of PF 1. The check's note says so. With no apparent
+//!   power (or V, I) measured at all there is nothing to compare: the check is inconclusive and
+//!   its error is NaN (null in JSON).
+//! - **Limits.** P: the class's active limit at the measured |PF|
+//!   ([`AccuracyClass::active_limit_percent`]). Q: the reactive limit at the measured |sin φ|
+//!   ([`AccuracyClass::reactive_limit_percent`]). S: the active limit at the measured |PF| (our
+//!   rule). PF: the active limit, in percent of reading (our rule, common practice). V and I: the
+//!   classes set no limit for them; the active limit at unity PF is used (our rule: V and I feed
+//!   the energy figure that limit holds).
+//! - **PF sign.** Our PF (P/S, signed by P) is signed the meter's way before comparing
+//!   ([`PfSign::apply`]): power-flow by the sign of P, lead-negative negative when Q < 0, unsigned
+//!   |PF|. Where our P (power-flow) or Q (lead-negative) is within its uncertainty of zero the
+//!   sign cannot be told and magnitudes are compared. A PF whose sign is wrong while the sign is
+//!   certain fails, with a note naming a convention that would fit, or a reversed CT.
+//! - **Quadrant** (IEC 60375 style, load convention, from memory): I +P +Q, II −P +Q, III −P −Q,
+//!   IV +P −Q; a zero P or Q counts as positive.
+//! - **Wiring hints**, in plain language, only where some check fails:
+//!   - *angle faults*: a reversed CT turns the current by 180°, voltage and current from
+//!     different phases of a three-phase supply by ±120°. A turn by α makes the meter see
+//!     `P' = P·cos α − Q·sin α`, `Q' = Q·cos α + P·sin α`, S unchanged (handbook phasor
+//!     arithmetic). The hint is given when every P, Q and PF the meter shows fits the turned values
+//!     within the class limit (in percent of S) plus our uncertainty. Where a reversed CT and a
+//!     current from another phase fit the same readings, the reversed CT is named and the other
+//!     mentioned;
+//!   - *scale faults*, while PF agrees: P, Q and S off by one factor k with I off by k (CT ratio
+//!     set wrong) or V off by k (VT ratio); k = 3 with V and I agreeing (one phase against a
+//!     three-phase total); V alone off by √3 (line-to-line against line-to-neutral voltage).
+//!     Ratios count as equal within twice the class limit at unity plus twice our largest relative
+//!     uncertainty, never closer than 2 % (our rule). A single quantity off alone gets no hint: it
+//!     is an inaccurate meter as far as we can tell.
+
+mod error;
+mod hints;
+mod input;
+
+pub use error::MeterError;
+pub use input::{AccuracyClass, CLASS_NAMES, LOW_POINT, PfSign, Reading, UNITY_POINT};
+
+use super::decision::{Verdict, decide};
+use serde::Serialize;
+
+/// Below this share of S, P and Q errors are taken in percent of S, and a |PF| below it is
+/// compared in percent of PF 1 (our rule).
+pub const LOW_SHARE: f64 = 0.2;
+
+/// Our measurement of the circuit the meter measures (load convention), with expanded
+/// uncertainties U (k = 2) in the same units.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Measured {
+    /// Active power P, W (positive when importing).
+    pub p_w: f64,
+    /// Reactive power Q, var (positive when inductive: current lags).
+    pub q_var: f64,
+    /// Apparent power S, VA.
+    pub s_va: f64,
+    /// True power factor P/S, signed by P.
+    pub pf: f64,
+    /// Phase angle V1 − I1, degrees, positive lagging.
+    pub angle_deg: f64,
+    /// Voltage RMS, V.
+    pub v_rms: f64,
+    /// Current RMS, A.
+    pub i_rms: f64,
+    /// U of P, W.
+    pub u_p_w: f64,
+    /// U of Q, var.
+    pub u_q_var: f64,
+    /// U of S, VA.
+    pub u_s_va: f64,
+    /// U of PF.
+    pub u_pf: f64,
+    /// U of V, V.
+    pub u_v: f64,
+    /// U of I, A.
+    pub u_i: f64,
+}
+
+/// The outcome of one check.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum MeterVerdict {
+    /// The meter is within its class, with our uncertainty to spare.
+    Pass,
+    /// The meter is beyond its class, by more than our uncertainty.
+    Fail,
+    /// Our uncertainty straddles the class limit: the measurement cannot tell.
+    Inconclusive,
+}
+
+impl MeterVerdict {
+    /// The word used in every output.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            MeterVerdict::Pass => "pass",
+            MeterVerdict::Fail => "fail",
+            MeterVerdict::Inconclusive => "inconclusive",
+        }
+    }
+}
+
+impl From<Verdict> for MeterVerdict {
+    fn from(v: Verdict) -> Self {
+        match v {
+            Verdict::Consistent => MeterVerdict::Pass,
+            Verdict::Outside => MeterVerdict::Fail,
+            Verdict::Inconclusive => MeterVerdict::Inconclusive,
+        }
+    }
+}
+
+/// One quantity the meter shows, against ours.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MeterCheck {
+    /// "pf", "p", "q", "s", "v" or "i".
+    pub quantity: &'static str,
+    /// What the meter shows (W, var, VA, V, A; PF as signed by the meter).
+    pub meter_value: f64,
+    /// Our value in the same units (PF signed by the meter's convention).
+    pub measured_value: f64,
+    /// 100·(meter − measured)/reference, where the reference is |measured| unless the note says
+    /// otherwise; NaN (null in JSON) when there is nothing to compare with.
+    pub error_percent: f64,
+    /// The class limit, ± %.
+    pub limit_percent: f64,
+    /// Our expanded uncertainty (k = 2) in percent of the same reference.
+    pub uncertainty_percent: f64,
+    /// Pass, fail or inconclusive.
+    pub verdict: MeterVerdict,
+    /// How the comparison was made where it departs from the plain rule.
+    pub note: Option<String>,
+}
+
+/// Everything the meter check found.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MeterReport {
+    /// The accuracy class with its standard.
+    pub class: &'static str,
+    /// The PF sign convention the meter was taken to use.
+    pub pf_sign: &'static str,
+    /// Our quadrant, 1 to 4 (IEC 60375 style, load convention).
+    pub quadrant: u8,
+    /// The quadrant in words.
+    pub quadrant_text: String,
+    /// One check per quantity the meter shows, in the order pf, p, q, s, v, i.
+    pub checks: Vec<MeterCheck>,
+    /// Plain-language hints at wiring or programming faults.
+    pub wiring_hints: Vec<String>,
+}
+
+/// The quadrant of (P, Q), load convention: I +P +Q, II −P +Q, III −P −Q, IV +P −Q (IEC 60375
+/// style, from memory); zero counts as positive.
+pub fn quadrant(p: f64, q: f64) -> (u8, &'static str) {
+    match (p < 0.0, q < 0.0) {
+        (false, false) => (
+            1,
+            "quadrant I: importing active power, inductive (current lags)",
+        ),
+        (true, false) => (
+            2,
+            "quadrant II: exporting active power, importing reactive power (inductive)",
+        ),
+        (true, true) => (
+            3,
+            "quadrant III: exporting active power, exporting reactive power (capacitive)",
+        ),
+        (false, true) => (
+            4,
+            "quadrant IV: importing active power, capacitive (current leads)",
+        ),
+    }
+}
+
+/// Compares the meter's reading with our measurement, quantity by quantity.
+pub fn check_meter(
+    reading: &Reading,
+    measured: &Measured,
+    class: AccuracyClass,
+    pf_sign: PfSign,
+) -> MeterReport {
+    let m = measured;
+    let pf_abs = m.pf.abs();
+    let sin_phi = if m.angle_deg.is_finite() {
+        m.angle_deg.to_radians().sin().abs()
+    } else {
+        (m.q_var / m.s_va).abs()
+    };
+    let mut checks = Vec::new();
+    if let Some(x) = reading.pf {
+        checks.push(check_pf(x, m, class, pf_sign));
+    }
+    if let Some(x) = reading.p_w {
+        let limit = class.active_limit_percent(pf_abs);
+        let c = Compare::new("p", x, m.p_w, m.u_p_w, limit, class.active_note(pf_abs));
+        checks.push(c.share_of_s(m.s_va, "P").finish());
+    }
+    if let Some(x) = reading.q_var {
+        let limit = class.reactive_limit_percent(sin_phi);
+        let c = Compare::new(
+            "q",
+            x,
+            m.q_var,
+            m.u_q_var,
+            limit,
+            class.reactive_note(sin_phi),
+        );
+        checks.push(c.share_of_s(m.s_va, "Q").finish());
+    }
+    if let Some(x) = reading.s_va {
+        let limit = class.active_limit_percent(pf_abs);
+        let c = Compare::new("s", x, m.s_va, m.u_s_va, limit, class.active_note(pf_abs));
+        checks.push(c.finish());
+    }
+    let unity_note = || {
+        class.active_note(1.0).or_else(|| {
+            Some(format!(
+                "{} sets no limit for voltage or current; its active limit at unity PF is used \
+                 (our rule)",
+                class.name()
+            ))
+        })
+    };
+    let unity = class.active_limit_percent(1.0);
+    if let Some(x) = reading.v {
+        checks.push(Compare::new("v", x, m.v_rms, m.u_v, unity, unity_note()).finish());
+    }
+    if let Some(x) = reading.i {
+        checks.push(Compare::new("i", x, m.i_rms, m.u_i, unity, unity_note()).finish());
+    }
+    let wiring_hints = hints::wiring_hints(reading, m, class, pf_sign, &checks);
+    let (quadrant, text) = quadrant(m.p_w, m.q_var);
+    MeterReport {
+        class: class.name(),
+        pf_sign: pf_sign.as_str(),
+        quadrant,
+        quadrant_text: text.to_string(),
+        checks,
+        wiring_hints,
+    }
+}
+
+/// One comparison being built: the reference it is taken against, and its notes.
+struct Compare {
+    quantity: &'static str,
+    meter: f64,
+    measured: f64,
+    u: f64,
+    limit: f64,
+    reference: f64,
+    notes: Vec<String>,
+}
+
+impl Compare {
+    fn new(
+        quantity: &'static str,
+        meter: f64,
+        measured: f64,
+        u: f64,
+        limit: f64,
+        note: Option<String>,
+    ) -> Self {
+        Compare {
+            quantity,
+            meter,
+            measured,
+            u,
+            limit,
+            reference: measured.abs(),
+            notes: note.into_iter().collect(),
+        }
+    }
+
+    /// Takes the error in percent of S when |measured| is below [`LOW_SHARE`] of S.
+    fn share_of_s(mut self, s: f64, symbol: &str) -> Self {
+        if s > 0.0 && self.measured.abs() < LOW_SHARE * s {
+            self.reference = s;
+            self.notes.push(format!(
+                "{symbol} is under {:.0} % of S here: its error is taken in percent of S \
+                 (common practice at low PF)",
+                100.0 * LOW_SHARE
+            ));
+        }
+        self
+    }
+
+    fn finish(self) -> MeterCheck {
+        let mut notes = self.notes;
+        let (error, u_pct, verdict) =
+            if self.reference > 0.0 && self.reference.is_finite() && self.u.is_finite() {
+                let error = 100.0 * (self.meter - self.measured) / self.reference;
+                let u_pct = 100.0 * self.u.abs() / self.reference;
+                let d = decide(error, u_pct, -self.limit, self.limit);
+                (error, u_pct, d.verdict.into())
+            } else {
+                notes.push(
+                    "nothing measured to compare with (our value is zero or unknown)".to_string(),
+                );
+                (f64::NAN, f64::NAN, MeterVerdict::Inconclusive)
+            };
+        MeterCheck {
+            quantity: self.quantity,
+            meter_value: self.meter,
+            measured_value: self.measured,
+            error_percent: error,
+            limit_percent: self.limit,
+            uncertainty_percent: u_pct,
+            verdict,
+            note: (!notes.is_empty()).then(|| notes.join("; ")),
+        }
+    }
+}
+
+/// The PF check: our PF signed the meter's way, a wrong sign explained.
+fn check_pf(meter: f64, m: &Measured, class: AccuracyClass, sign: PfSign) -> MeterCheck {
+    let pf_abs = m.pf.abs();
+    let limit = class.active_limit_percent(pf_abs);
+    let uncertain_sign = match sign {
+        PfSign::PowerFlow => m.p_w.abs() <= m.u_p_w.abs(),
+        PfSign::LeadNegative => m.q_var.abs() <= m.u_q_var.abs(),
+        PfSign::Unsigned => false,
+    };
+    let mut notes: Vec<String> = class.active_note(pf_abs).into_iter().collect();
+    let ours = if uncertain_sign {
+        notes.push(format!(
+            "our {} is within its uncertainty of zero, so the PF sign cannot be told: sizes \
+             compared",
+            if sign == PfSign::PowerFlow { "P" } else { "Q" }
+        ));
+        pf_abs.copysign(meter)
+    } else {
+        sign.apply(m.pf, m.p_w, m.q_var)
+    };
+    let wrong_sign =
+        !uncertain_sign && meter != 0.0 && ours != 0.0 && (meter < 0.0) != (ours < 0.0);
+    let mut c = Compare::new("pf", meter, ours, m.u_pf, limit, None);
+    c.notes = notes;
+    if pf_abs < LOW_SHARE {
+        c.reference = 1.0;
+        c.notes.push(format!(
+            "PF is under {LOW_SHARE} here: its error is taken in percent of PF 1"
+        ));
+    }
+    let reference = c.reference;
+    let mut check = c.finish();
+    if wrong_sign {
+        let size_fits = decide(
+            100.0 * (meter.abs() - ours.abs()) / reference,
+            check.uncertainty_percent,
+            -limit,
+            limit,
+        )
+        .verdict
+            != Verdict::Outside;
+        let fitting: Vec<&str> = [PfSign::PowerFlow, PfSign::LeadNegative]
+            .into_iter()
+            .filter(|s| (s.apply(m.pf, m.p_w, m.q_var) < 0.0) == (meter < 0.0))
+            .map(PfSign::as_str)
+            .collect();
+        let why = if sign == PfSign::Unsigned {
+            "the meter shows a signed PF but 'unsigned' was chosen".to_string()
+        } else {
+            format!("the PF sign does not fit '{}'", sign.as_str())
+        };
+        let cause = match fitting.first() {
+            Some(s) => format!("the meter may sign PF '{s}', or its CT is reversed"),
+            None => "its CT may be reversed".to_string(),
+        };
+        let text = if size_fits {
+            format!("the size of the PF agrees but its sign does not: {why}; {cause}")
+        } else {
+            format!("{why}; {cause}")
+        };
+        check.verdict = MeterVerdict::Fail;
+        check.note = Some(match check.note {
+            Some(n) => format!("{n}; {text}"),
+            None => text,
+        });
+    }
+    check
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// 230 V, 50 A at `angle_deg` (positive lagging): P = VI cos θ, Q = VI sin θ, S = VI
+    /// (handbook arithmetic), with small uncertainties: 0.1 % on V, I, S, P, Q and PF.
+    pub(super) fn measured(angle_deg: f64) -> Measured {
+        let (v, i) = (230.0, 50.0);
+        let s = v * i;
+        let (sin, cos) = angle_deg.to_radians().sin_cos();
+        let (p, q) = (s * cos, s * sin);
+        Measured {
+            p_w: p,
+            q_var: q,
+            s_va: s,
+            pf: cos,
+            angle_deg,
+            v_rms: v,
+            i_rms: i,
+            u_p_w: 1e-3 * s,
+            u_q_var: 1e-3 * s,
+            u_s_va: 1e-3 * s,
+            u_pf: 1e-3,
+            u_v: 1e-3 * v,
+            u_i: 1e-3 * i,
+        }
+    }
+
+    fn check<'a>(r: &'a MeterReport, q: &str) -> &'a MeterCheck {
+        r.checks.iter().find(|c| c.quantity == q).unwrap()
+    }
+
+    #[test]
+    fn a_reading_inside_its_class_passes() {
+        // 30° lagging: P = 11 500·cos 30° = 9 959.3 W, Q = 5 750 var, PF 0.866
+        let m = measured(30.0);
+        let r = Reading::parse("pf=0.868,p=9.99kW,q=5.78kvar,s=11.55kVA,v=231V,i=50.2A").unwrap();
+        let rep = check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow);
+        assert_eq!(rep.checks.len(), 6);
+        for c in &rep.checks {
+            assert_eq!(c.verdict, MeterVerdict::Pass, "{c:?}");
+        }
+        let p = check(&rep, "p");
+        assert!((p.error_percent - 100.0 * (9990.0 - 9959.3) / 9959.3).abs() < 0.01);
+        assert_eq!(p.limit_percent, 1.0);
+        // Q on a class 1 meter: twice the active limit (our rule)
+        assert_eq!(check(&rep, "q").limit_percent, 2.0);
+        assert!(
+            check(&rep, "q")
+                .note
+                .as_deref()
+                .unwrap()
+                .contains("our rule")
+        );
+        assert!(rep.wiring_hints.is_empty(), "{:?}", rep.wiring_hints);
+        assert_eq!(rep.quadrant, 1);
+        assert_eq!(
+            rep.quadrant_text,
+            "quadrant I: importing active power, inductive (current lags)"
+        );
+        assert_eq!(rep.class, "IEC 62053-21 class 1");
+    }
+
+    #[test]
+    fn a_three_percent_pf_error_on_a_class_1_meter_fails() {
+        let m = measured(30.0);
+        let shown = 1.03 * m.pf;
+        let r = Reading {
+            pf: Some(shown),
+            ..Reading::default()
+        };
+        let c = check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow).checks[0].clone();
+        assert_eq!(c.verdict, MeterVerdict::Fail);
+        assert!((c.error_percent - 3.0).abs() < 1e-9);
+        assert_eq!(c.limit_percent, 1.0);
+    }
+
+    #[test]
+    fn an_error_at_the_limit_within_our_uncertainty_is_inconclusive() {
+        // 0.95 % off on a class 1 meter, with our U = 0.3 %: 0.95 ± 0.3 straddles 1.0
+        let mut m = measured(0.0);
+        m.u_p_w = 0.003 * m.p_w;
+        let r = Reading {
+            p_w: Some(1.0095 * m.p_w),
+            ..Reading::default()
+        };
+        let c = check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow).checks[0].clone();
+        assert_eq!(c.verdict, MeterVerdict::Inconclusive);
+        assert!((c.uncertainty_percent - 0.3).abs() < 1e-9);
+        assert_eq!(
+            serde_json::to_value(c.verdict).unwrap(),
+            serde_json::json!("inconclusive")
+        );
+    }
+
+    #[test]
+    fn the_tighter_class_at_unity_and_the_wider_at_pf_0_5_are_used() {
+        // 0.2S: ±0.2 % at PF 1, ±0.3 % at PF 0.5 inductive (IEC 62053-22, from memory)
+        let at = |angle: f64, off: f64| {
+            let m = measured(angle);
+            let r = Reading {
+                p_w: Some((1.0 + off) * m.p_w),
+                ..Reading::default()
+            };
+            check_meter(&r, &m, AccuracyClass::Iec02S, PfSign::PowerFlow).checks[0].clone()
+        };
+        // at PF 1: 0.4 ± 0.1 % is beyond 0.2 %
+        assert_eq!(at(0.0, 0.004).limit_percent, 0.2);
+        assert_eq!(at(0.0, 0.004).verdict, MeterVerdict::Fail);
+        // at PF 0.515 (59°): limit 0.3 %; U is 0.1 % of S = 0.19 % of P, so 0.25 ± 0.19
+        // straddles 0.3, while 0.6 ± 0.19 lies beyond it
+        assert_eq!(at(59.0, 0.0025).limit_percent, 0.3);
+        assert_eq!(at(59.0, 0.0025).verdict, MeterVerdict::Inconclusive);
+        assert_eq!(at(59.0, 0.006).verdict, MeterVerdict::Fail);
+        assert_eq!(at(59.0, 0.0).verdict, MeterVerdict::Pass);
+    }
+
+    #[test]
+    fn a_leading_load_is_signed_by_each_convention() {
+        // 30° leading, importing: quadrant IV, PF 0.866
+        let m = measured(-30.0);
+        let pf = m.pf;
+        let run = |shown: f64, sign: PfSign| {
+            let r = Reading {
+                pf: Some(shown),
+                ..Reading::default()
+            };
+            check_meter(&r, &m, AccuracyClass::Iec1, sign)
+        };
+        let rep = run(pf, PfSign::PowerFlow);
+        assert_eq!(rep.quadrant, 4);
+        assert_eq!(rep.checks[0].verdict, MeterVerdict::Pass);
+        let c = &run(-pf, PfSign::LeadNegative).checks[0];
+        assert_eq!((c.verdict, c.measured_value), (MeterVerdict::Pass, -pf));
+        assert_eq!(
+            run(pf, PfSign::Unsigned).checks[0].verdict,
+            MeterVerdict::Pass
+        );
+        // the right size with the wrong sign fails and says why
+        let c = &run(pf, PfSign::LeadNegative).checks[0];
+        assert_eq!(c.verdict, MeterVerdict::Fail);
+        let note = c.note.as_deref().unwrap();
+        assert!(
+            note.contains("the size of the PF agrees but its sign does not"),
+            "{note}"
+        );
+        assert!(note.contains("'power-flow'"), "{note}");
+        let c = &run(-pf, PfSign::PowerFlow).checks[0];
+        assert_eq!(c.verdict, MeterVerdict::Fail);
+        assert!(c.note.as_deref().unwrap().contains("'lead-negative'"));
+        let c = &run(-pf, PfSign::Unsigned).checks[0];
+        assert_eq!(c.verdict, MeterVerdict::Fail);
+        assert!(c.note.as_deref().unwrap().contains("'unsigned' was chosen"));
+    }
+
+    #[test]
+    fn an_exporting_lagging_circuit_is_quadrant_ii_and_signed_by_power_flow() {
+        let m = measured(150.0); // P < 0, Q > 0
+        let r = Reading {
+            pf: Some(m.pf),
+            ..Reading::default()
+        };
+        let rep = check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow);
+        assert_eq!(rep.quadrant, 2);
+        assert!(rep.checks[0].measured_value < 0.0);
+        assert_eq!(rep.checks[0].verdict, MeterVerdict::Pass);
+        assert_eq!(quadrant(-1.0, -1.0).0, 3);
+    }
+
+    #[test]
+    fn at_unity_pf_the_lead_negative_sign_is_not_judged() {
+        let m = measured(0.0); // Q = 0 within its uncertainty
+        let r = Reading {
+            pf: Some(-0.999),
+            ..Reading::default()
+        };
+        let c = &check_meter(&r, &m, AccuracyClass::Iec1, PfSign::LeadNegative).checks[0];
+        assert_eq!(c.verdict, MeterVerdict::Pass);
+        assert!(c.note.as_deref().unwrap().contains("cannot be told"));
+    }
+
+    #[test]
+    fn near_zero_p_is_judged_in_percent_of_s() {
+        // 88° lagging: P = 401 W, 3.5 % of S; a meter 40 W off is 10 % of P but 0.35 % of S
+        let m = measured(88.0);
+        let r = Reading {
+            p_w: Some(m.p_w + 40.0),
+            ..Reading::default()
+        };
+        let c = &check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow).checks[0];
+        assert!((c.error_percent - 100.0 * 40.0 / 11_500.0).abs() < 1e-9);
+        assert_eq!(c.verdict, MeterVerdict::Pass);
+        let note = c.note.as_deref().unwrap();
+        assert!(note.contains("in percent of S"), "{note}");
+        assert!(note.contains("below PF 0.5"), "{note}");
+    }
+
+    #[test]
+    fn no_measured_current_makes_every_check_inconclusive_without_panicking() {
+        let mut m = measured(0.0);
+        for x in [
+            &mut m.p_w,
+            &mut m.q_var,
+            &mut m.s_va,
+            &mut m.pf,
+            &mut m.i_rms,
+        ] {
+            *x = 0.0;
+        }
+        let r = Reading::parse("pf=1,p=1kW,q=0,s=1kVA,i=4A").unwrap();
+        let rep = check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow);
+        for c in rep.checks.iter().filter(|c| c.quantity != "pf") {
+            assert_eq!(c.verdict, MeterVerdict::Inconclusive, "{c:?}");
+            assert!(c.error_percent.is_nan());
+        }
+        let json = serde_json::to_string(&rep).unwrap();
+        assert!(json.contains("\"error_percent\":null"), "{json}");
+    }
+}
