@@ -20,6 +20,10 @@ pub enum Command {
     Analyze(AnalyzeArgs),
     /// What a circuit model predicts: impedance, phase angle, PF and the band its tolerances allow.
     Expect(ExpectArgs),
+    /// Capacitor bank check from captures before and after switching it in.
+    Bank(BankArgs),
+    /// Check a meter's PF, kW, kvar... reading against a capture, within its accuracy class.
+    Meter(MeterArgs),
 }
 
 /// Arguments of `analyze`.
@@ -50,6 +54,95 @@ pub struct AnalyzeArgs {
     /// Monte Carlo settings for --expect.
     #[command(flatten)]
     pub monte_carlo: MonteCarloArgs,
+}
+
+/// Arguments of `bank`.
+#[derive(Debug, Args)]
+pub struct BankArgs {
+    /// Capture taken with the bank switched out.
+    #[arg(long, value_name = "FILE")]
+    pub before: PathBuf,
+    /// Capture taken with the bank switched in.
+    #[arg(long, value_name = "FILE")]
+    pub after: PathBuf,
+    /// Nameplate file (TOML) with any of the values below; options override it.
+    #[arg(long, value_name = "FILE.toml")]
+    pub nameplate: Option<PathBuf>,
+    /// Rated reactive power of the whole bank, kvar.
+    #[arg(long, value_name = "KVAR")]
+    pub rated_kvar: Option<f64>,
+    /// Rated voltage, V (line-to-line for a three-phase bank).
+    #[arg(long, value_name = "V")]
+    pub rated_voltage: Option<f64>,
+    /// Rated frequency, Hz.
+    #[arg(long, value_name = "HZ")]
+    pub rated_frequency: Option<f64>,
+    /// Number of equal steps [default: 1].
+    #[arg(long, value_name = "N")]
+    pub steps: Option<usize>,
+    /// Rated kvar of each step when they differ, e.g. 10,10,20.
+    #[arg(long, value_name = "KVAR,...", value_delimiter = ',')]
+    pub step_kvar: Option<Vec<f64>>,
+    /// The captures are of one phase of a balanced three-phase system (powers ×3).
+    #[arg(long)]
+    pub three_phase: bool,
+    /// Target PF for the correction advice [default: 0.95].
+    #[arg(long, value_name = "PF")]
+    pub target_pf: Option<f64>,
+    /// Acceptance band: ieee-18 (100-110 %) or iec-60831 (-5/+10 %) [default: ieee-18].
+    #[arg(long, value_name = "NAME")]
+    pub standard: Option<String>,
+    /// Supply short-circuit power at the bank's bus, MVA (for the resonance order).
+    #[arg(long, value_name = "MVA", conflicts_with_all = ["transformer_kva", "transformer_z_percent"])]
+    pub supply_mva: Option<f64>,
+    /// Supplying transformer rating, kVA (with --transformer-z-percent).
+    #[arg(long, value_name = "KVA", requires = "transformer_z_percent")]
+    pub transformer_kva: Option<f64>,
+    /// Supplying transformer impedance, percent.
+    #[arg(long, value_name = "PERCENT", requires = "transformer_kva")]
+    pub transformer_z_percent: Option<f64>,
+    /// Highest harmonic order analysed.
+    #[arg(long, default_value_t = 50, value_name = "N")]
+    pub harmonics: usize,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
+    /// Channel, scale and timing options (the same for both captures).
+    #[command(flatten)]
+    pub channels: ChannelArgs,
+    /// Instrument limits for the uncertainty.
+    #[command(flatten)]
+    pub uncertainty: UncertaintyArgs,
+}
+
+/// Arguments of `meter`.
+#[derive(Debug, Args)]
+pub struct MeterArgs {
+    /// Capture of the metered circuit, taken while the reading was noted.
+    #[arg(value_name = "FILE")]
+    pub file: PathBuf,
+    /// What the meter shows, e.g. pf=0.87,p=12.4kW,q=6.1kvar[,s=...,v=...,i=...].
+    #[arg(long, value_name = "READING", allow_hyphen_values = true)]
+    pub reading: String,
+    /// Accuracy class: 1, 2 (IEC 62053-21), 0.2s, 0.5s (IEC 62053-22), ansi-0.1, ansi-0.2,
+    /// ansi-0.5 (ANSI C12.20), reactive-2, reactive-3 (IEC 62053-23).
+    #[arg(long, value_name = "CLASS")]
+    pub class: String,
+    /// How the meter signs PF: power-flow (sign of P), lead-negative, unsigned.
+    #[arg(long, value_name = "CONVENTION", default_value = "power-flow")]
+    pub pf_sign: String,
+    /// Highest harmonic order analysed.
+    #[arg(long, default_value_t = 50, value_name = "N")]
+    pub harmonics: usize,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
+    /// Channel, scale and timing options.
+    #[command(flatten)]
+    pub channels: ChannelArgs,
+    /// Instrument limits for the uncertainty.
+    #[command(flatten)]
+    pub uncertainty: UncertaintyArgs,
 }
 
 /// Arguments of `expect`.

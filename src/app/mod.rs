@@ -1,5 +1,8 @@
 //! Wiring: what was typed -> resolved settings -> load -> analyse -> exporters.
 
+pub mod bank;
+pub mod meter;
+
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
 use crate::check::circuit::Circuit;
@@ -59,7 +62,7 @@ pub struct AnalyzeConfig {
 /// A setting that makes no sense, found before any file is read.
 #[derive(Debug, thiserror::Error)]
 #[error("{0}")]
-pub struct ConfigError(String);
+pub struct ConfigError(pub String);
 
 /// Resolves channel options into loader options and analysis settings.
 pub fn resolve_channels(
@@ -236,6 +239,8 @@ pub fn run(cli: Cli, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
                 Outcome::InputErrors
             }
         },
+        Command::Bank(args) => bank::run_bank(&args, out, err),
+        Command::Meter(args) => meter::run_meter(&args, out, err),
         Command::Expect(args) => run_expect(&args, out).unwrap_or_else(|e| {
             let _ = writeln!(err, "error: {e}");
             Outcome::InputErrors

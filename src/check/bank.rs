@@ -140,6 +140,8 @@ pub struct HarmonicChange {
     pub after_a: f64,
     /// Change, percent of the value before.
     pub change_percent: f64,
+    /// Above 1 % of the fundamental before or after.
+    pub significant: bool,
     /// Grew by more than 20 % and is above 1 % of the fundamental: a resonance symptom.
     pub grows: bool,
 }
@@ -336,6 +338,7 @@ pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ban
                 before_a: b,
                 after_a: a,
                 change_percent: change,
+                significant: a.max(b) > PRESENT_SHARE * i1_after,
                 grows: a > (1.0 + GROWTH) * b && a > PRESENT_SHARE * i1_after,
             }
         })

@@ -14,8 +14,9 @@
 //! - probe or clamp ratio accuracy (% of reading) on RMS, P and Q1 (it cancels in angles, PF and THD);
 //! - probe phase error (degrees) and channel skew (seconds, as 360·f·Δt degrees) on the angles,
 //!   the PFs, P and Q1;
-//! - converter resolution: half a step on RMS (GUM F.2.2.1), from the bits and full scale, or from
-//!   the smallest step seen in the samples;
+//! - converter resolution: the quantisation noise q²/12 it adds to the mean square (Widrow's
+//!   model), an uncorrected bias on RMS; q from the bits and full scale, or the smallest step seen
+//!   in the samples (the random part of quantisation is already in the Type A spread);
 //! - sample clock accuracy (ppm) on the frequency.
 
 use super::{Quantities, TraceFigures};
@@ -267,8 +268,10 @@ pub fn uncertainty(
         None => (observed_step(v), observed_step(i)),
     };
     let rms_u = |t: &TraceFigures, ratio_pct: f64, step: f64, get: fn(&WindowFigures) -> f64| {
+        // Quantisation with step q adds noise of variance q²/12 to every sample (Widrow's model,
+        // textbook): the RMS reads √(X² + q²/12), a bias left uncorrected and taken as a ±limit.
         let resolution = if step.is_finite() {
-            rect(step / 2.0)
+            rect((t.rms * t.rms + step * step / 12.0).sqrt() - t.rms)
         } else {
             0.0
         };

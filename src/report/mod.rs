@@ -4,10 +4,12 @@
 //! once. The serde types every format is built from live in [`wire`], so the JSON schema is
 //! visible in one place.
 
+pub mod bank;
 mod csv;
 pub mod expect;
 mod json;
-mod table;
+pub mod meter;
+pub(crate) mod table;
 pub mod wire;
 
 use crate::analysis::Analysis;

@@ -1,0 +1,197 @@
+//! Output of `bank`: a verdict a supervisor can sign, or its JSON.
+
+use super::Format;
+use super::table::{num, pm};
+use super::wire::flatten;
+use crate::analysis::Analysis;
+use crate::check::bank::{BankReport, Nameplate};
+use serde::Serialize;
+use std::io::{self, Write};
+
+/// The cautions printed with every bank check.
+pub const CAUTIONS: &str = "capacitor banks hold a dangerous charge after disconnection: wait the \
+discharge time on the nameplate and verify with a meter before touching terminals; switching a \
+bank causes voltage and current transients; follow local codes and licensed practice";
+
+/// The JSON record of a bank check.
+#[derive(Debug, Serialize)]
+struct BankRecord<'a> {
+    before: String,
+    after: String,
+    nameplate: &'a Nameplate,
+    #[serde(flatten)]
+    report: &'a BankReport,
+    cautions: &'static str,
+}
+
+/// Writes the bank check in `format`.
+pub fn write(
+    out: &mut dyn Write,
+    r: &BankReport,
+    plate: &Nameplate,
+    before: &Analysis,
+    after: &Analysis,
+    format: Format,
+) -> io::Result<()> {
+    let record = BankRecord {
+        before: before.path.display().to_string(),
+        after: after.path.display().to_string(),
+        nameplate: plate,
+        report: r,
+        cautions: CAUTIONS,
+    };
+    match format {
+        Format::Json => {
+            serde_json::to_writer(&mut *out, &record)?;
+            writeln!(out)?;
+        }
+        Format::Csv => {
+            let cells = flatten(&serde_json::to_value(&record)?);
+            let mut w = ::csv::Writer::from_writer(&mut *out);
+            w.write_record(cells.iter().map(|(k, _)| k.as_str()))
+                .map_err(io::Error::other)?;
+            w.write_record(cells.iter().map(|(_, v)| v.as_str()))
+                .map_err(io::Error::other)?;
+            w.flush()?;
+        }
+        Format::Table => table(out, r, plate, before, after)?,
+    }
+    out.flush()
+}
+
+fn capture_line(a: &Analysis, scale: f64) -> String {
+    let q = &a.quantities;
+    format!(
+        "P {} kW | Q1 {} kvar | displacement PF {} {}",
+        num(scale * q.power.active_w / 1000.0, 4),
+        num(scale * q.power.reactive_var / 1000.0, 4),
+        q.displacement_pf
+            .map(|p| num(p, 3))
+            .unwrap_or_else(|| "n/a".into()),
+        q.character.map(|c| c.as_str()).unwrap_or(""),
+    )
+}
+
+fn table(
+    out: &mut dyn Write,
+    r: &BankReport,
+    p: &Nameplate,
+    before: &Analysis,
+    after: &Analysis,
+) -> io::Result<()> {
+    writeln!(out, "capacitor bank check")?;
+    writeln!(out, "  before       {}", before.path.display())?;
+    writeln!(out, "  after        {}", after.path.display())?;
+    let steps: Vec<String> = p.steps_kvar.iter().map(|q| num(*q, 4)).collect();
+    writeln!(
+        out,
+        "  nameplate    {} kvar, {} V, {} Hz, steps of {} kvar; {}",
+        num(p.rated_kvar, 4),
+        num(p.rated_voltage, 4),
+        num(p.rated_frequency_hz, 4),
+        steps.join(" + "),
+        if p.three_phase {
+            "one phase of a balanced three-phase bank: powers × 3, voltage × √3"
+        } else {
+            "single-phase"
+        }
+    )?;
+    writeln!(
+        out,
+        "  before       {}",
+        capture_line(before, r.power_scale)
+    )?;
+    writeln!(out, "  after        {}", capture_line(after, r.power_scale))?;
+    writeln!(
+        out,
+        "  delivered    {} (Q1 before − Q1 after)",
+        pm(
+            Some(r.delivered_kvar),
+            Some(r.delivered_uncertainty_kvar),
+            " kvar"
+        )
+    )?;
+    writeln!(out, "  expected     {}", r.expected_arithmetic)?;
+    writeln!(
+        out,
+        "  ratio        {} of expected; accepted {} to {} ({})",
+        pm(Some(r.ratio), Some(r.ratio_uncertainty), ""),
+        num(r.band[0], 3),
+        num(r.band[1], 3),
+        r.standard
+    )?;
+    writeln!(
+        out,
+        "  VERDICT      {} (guarded acceptance, ILAC-G8:09/2019: guard band = U, k = 2)",
+        r.verdict.to_string().to_uppercase()
+    )?;
+    if let (Some(n), Some(text)) = (r.failed_steps, &r.failed_steps_arithmetic) {
+        writeln!(out, "  failed steps {n}: {text}")?;
+    }
+    let chosen: Vec<String> = r.nearest_steps.iter().map(|k| k.to_string()).collect();
+    writeln!(
+        out,
+        "  target PF    {}: {} kvar needed from the before-capture (Qc = P·(tan θ1 − tan θ2)); \
+         nearest steps: {} ({} kvar at this site)",
+        num(r.target_pf, 3),
+        num(r.kvar_for_target_pf, 4),
+        if chosen.is_empty() {
+            "none".to_string()
+        } else {
+            chosen.join(", ")
+        },
+        num(r.nearest_steps_kvar, 4),
+    )?;
+    match r.resonance_order {
+        Some(h) => writeln!(
+            out,
+            "  resonance    parallel resonance at order {} with the supply (h = √(Ssc/Qc), common \
+             practice){}",
+            num(h, 3),
+            r.resonance_near_harmonic
+                .map(|n| format!(": within ±0.5 of harmonic {n}, present in the current"))
+                .unwrap_or_default()
+        )?,
+        None => writeln!(
+            out,
+            "  resonance    not checked: give --supply-mva, or --transformer-kva and \
+             --transformer-z-percent"
+        )?,
+    }
+    let changes: Vec<String> = r
+        .harmonic_changes
+        .iter()
+        .filter(|c| c.significant && (c.grows || c.change_percent.abs() > 20.0))
+        .take(8)
+        .map(|c| {
+            format!(
+                "h{} {} → {} A ({:+.0} %)",
+                c.order,
+                num(c.before_a, 3),
+                num(c.after_a, 3),
+                c.change_percent
+            )
+        })
+        .collect();
+    writeln!(
+        out,
+        "  harmonics    current before → after: {}",
+        if changes.is_empty() {
+            "no order changed by more than 20 %".to_string()
+        } else {
+            changes.join(", ")
+        }
+    )?;
+    if r.warnings.is_empty() {
+        writeln!(out, "  warnings     none")?;
+    }
+    for (k, w) in r.warnings.iter().enumerate() {
+        let head = if k == 0 { "warnings" } else { "" };
+        writeln!(out, "  {head:<13}- {w}")?;
+    }
+    writeln!(out, "  caution      {CAUTIONS}")?;
+    writeln!(
+        out,
+        "  checked by   ______________________   date __________"
+    )
+}

@@ -1,0 +1,126 @@
+//! Output of `meter`: per quantity the meter's error against its class limit, and hints.
+
+use super::Format;
+use super::table::num;
+use super::wire::flatten;
+use crate::analysis::Analysis;
+use crate::check::meter::MeterReport;
+use serde::Serialize;
+use std::io::{self, Write};
+
+/// The cautions printed with every meter check.
+pub const CAUTIONS: &str = "meter and CT circuits are live: never open a CT secondary under load \
+(short it first); work on metering only with the procedures and authorisation your local codes \
+and licensed practice require";
+
+#[derive(Debug, Serialize)]
+struct MeterRecord<'a> {
+    file: String,
+    #[serde(flatten)]
+    report: &'a MeterReport,
+    cautions: &'static str,
+}
+
+/// Writes the meter check in `format`.
+pub fn write(out: &mut dyn Write, r: &MeterReport, a: &Analysis, format: Format) -> io::Result<()> {
+    let record = MeterRecord {
+        file: a.path.display().to_string(),
+        report: r,
+        cautions: CAUTIONS,
+    };
+    match format {
+        Format::Json => {
+            serde_json::to_writer(&mut *out, &record)?;
+            writeln!(out)?;
+        }
+        Format::Csv => {
+            // one row per checked quantity
+            let mut w = ::csv::Writer::from_writer(&mut *out);
+            w.write_record([
+                "file",
+                "quantity",
+                "meter_value",
+                "measured_value",
+                "error_percent",
+                "limit_percent",
+                "uncertainty_percent",
+                "verdict",
+                "quadrant",
+            ])
+            .map_err(io::Error::other)?;
+            for c in &r.checks {
+                let cells = flatten(&serde_json::to_value(c)?);
+                let get = |k: &str| {
+                    cells
+                        .iter()
+                        .find(|(key, _)| key == k)
+                        .map(|(_, v)| v.clone())
+                        .unwrap_or_default()
+                };
+                w.write_record([
+                    record.file.clone(),
+                    get("quantity"),
+                    get("meter_value"),
+                    get("measured_value"),
+                    get("error_percent"),
+                    get("limit_percent"),
+                    get("uncertainty_percent"),
+                    get("verdict"),
+                    r.quadrant.to_string(),
+                ])
+                .map_err(io::Error::other)?;
+            }
+            w.flush()?;
+        }
+        Format::Table => table(out, r, a)?,
+    }
+    out.flush()
+}
+
+fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
+    writeln!(out, "meter check: {}", a.path.display())?;
+    writeln!(out, "  class        {}", r.class)?;
+    writeln!(out, "  PF sign      {}", r.pf_sign)?;
+    writeln!(out, "  load         {}", r.quadrant_text)?;
+    writeln!(
+        out,
+        "  {:<10}{:>14}{:>14}{:>11}{:>9}{:>9}   verdict",
+        "quantity", "meter", "measured", "error %", "limit %", "U %"
+    )?;
+    for c in &r.checks {
+        writeln!(
+            out,
+            "  {:<10}{:>14}{:>14}{:>11}{:>9}{:>9}   {}",
+            c.quantity,
+            num(c.meter_value, 5),
+            num(c.measured_value, 5),
+            if c.error_percent.is_finite() {
+                format!("{:+.2}", c.error_percent)
+            } else {
+                "n/a".into()
+            },
+            num(c.limit_percent, 2),
+            num(c.uncertainty_percent, 2),
+            c.verdict.as_str().to_uppercase(),
+        )?;
+        if let Some(n) = &c.note {
+            writeln!(out, "  {:<10}  note: {n}", "")?;
+        }
+    }
+    writeln!(
+        out,
+        "  rule         guarded acceptance, ILAC-G8:09/2019: our uncertainty U (k = 2) is the guard band"
+    )?;
+    if r.wiring_hints.is_empty() {
+        writeln!(out, "  wiring       no fault pattern recognised")?;
+    }
+    for (k, h) in r.wiring_hints.iter().enumerate() {
+        let head = if k == 0 { "wiring" } else { "" };
+        writeln!(out, "  {head:<13}- {h}")?;
+    }
+    writeln!(out, "  caution      {CAUTIONS}")?;
+    writeln!(
+        out,
+        "  checked by   ______________________   date __________"
+    )
+}

@@ -1,0 +1,268 @@
+//! `bank` and `meter` from the command line, on the demo captures (invented demo data whose
+//! truth is set in fixtures/generate.rs) and on their failure modes.
+
+use assert_cmd::Command;
+use serde::Deserialize;
+
+fn tracephase() -> Command {
+    Command::cargo_bin("tracephase").unwrap()
+}
+
+#[derive(Debug, Deserialize)]
+struct BankJson {
+    delivered_kvar: f64,
+    expected_kvar: f64,
+    ratio: f64,
+    verdict: String,
+    failed_steps: Option<usize>,
+    kvar_for_target_pf: f64,
+    resonance_order: Option<f64>,
+    over_corrected: bool,
+    cautions: String,
+}
+
+const BANK: [&str; 7] = [
+    "bank",
+    "--before",
+    "fixtures/demo-plant-feeder-bank-off.csv",
+    "--after",
+    "fixtures/demo-plant-feeder-bank-on.csv",
+    "--nameplate",
+    "fixtures/demo-plant-bank-nameplate.toml",
+];
+
+/// The demo bank: 3 × 25 kvar at 400 V with one step open (the generator gives two steps,
+/// 50 kvar). Expected at the site: Q_rated·(V/V_rated)²·(f/f_rated) (Q = V²·2πf·C, textbook).
+#[test]
+fn the_demo_bank_with_one_open_step_fails_and_names_it() {
+    let out = tracephase()
+        .args(BANK)
+        .args(["--format", "json"])
+        .assert()
+        .code(1)
+        .get_output()
+        .stdout
+        .clone();
+    let r: BankJson = serde_json::from_slice(&out).unwrap();
+    assert!(
+        (r.delivered_kvar - 50.0).abs() < 1.0,
+        "{}",
+        r.delivered_kvar
+    );
+    // 231 V line-to-neutral = 400.1 V line-to-line, 50.015 Hz
+    let expected = 75.0 * (231.0 * 3f64.sqrt() / 400.0f64).powi(2) * (50.015 / 50.0);
+    assert!(
+        (r.expected_kvar - expected).abs() < 0.1,
+        "{} vs {expected}",
+        r.expected_kvar
+    );
+    assert!((r.ratio - r.delivered_kvar / r.expected_kvar).abs() < 1e-12);
+    assert_eq!(r.verdict, "fail");
+    assert_eq!(r.failed_steps, Some(1));
+    // 90 kW at PF 0.78 to 0.95: 90·(tan acos 0.78 − tan acos 0.95) (handbook arithmetic)
+    let qc = 90.0 * (0.78f64.acos().tan() - 0.95f64.acos().tan());
+    assert!(
+        (r.kvar_for_target_pf - qc).abs() < 1.0,
+        "{} vs {qc}",
+        r.kvar_for_target_pf
+    );
+    // 630 kVA at 4 %: Ssc = 15.75 MVA; h = √(Ssc/Qc) with the delivered Qc (common practice)
+    let h = (15_750.0 / r.delivered_kvar).sqrt();
+    assert!((r.resonance_order.unwrap() - h).abs() < 1e-9);
+    assert!(!r.over_corrected);
+    assert!(r.cautions.contains("dangerous charge"));
+}
+
+#[test]
+fn the_bank_table_reads_as_a_signed_verdict_with_cautions() {
+    let out = tracephase()
+        .args(BANK)
+        .assert()
+        .code(1)
+        .get_output()
+        .stdout
+        .clone();
+    let text = String::from_utf8(out).unwrap();
+    assert!(text.contains("VERDICT      FAIL"), "{text}");
+    assert!(text.contains("→ 1 step"), "{text}");
+    assert!(text.contains("discharge time on the nameplate"), "{text}");
+    assert!(text.contains("checked by"), "{text}");
+}
+
+#[test]
+fn without_supply_data_the_resonance_order_is_null() {
+    let out = tracephase()
+        .args([
+            "bank",
+            "--before",
+            "fixtures/demo-plant-feeder-bank-off.csv",
+            "--after",
+            "fixtures/demo-plant-feeder-bank-on.csv",
+            "--rated-kvar",
+            "50",
+            "--rated-voltage",
+            "400",
+            "--rated-frequency",
+            "50",
+            "--steps",
+            "2",
+            "--three-phase",
+            "--format",
+            "json",
+        ])
+        .assert()
+        .get_output()
+        .stdout
+        .clone();
+    let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
+    assert!(v["resonance_order"].is_null());
+    // 2 × 25 kvar rated, both working: passes or is inconclusive, never fails
+    assert_ne!(v["verdict"], "fail", "{v}");
+}
+
+#[test]
+fn a_bank_without_its_rating_is_refused_in_one_line() {
+    let assert = tracephase()
+        .args([
+            "bank",
+            "--before",
+            "fixtures/demo-plant-feeder-bank-off.csv",
+            "--after",
+            "fixtures/demo-plant-feeder-bank-on.csv",
+        ])
+        .assert()
+        .code(2);
+    let err = String::from_utf8(assert.get_output().stderr.clone()).unwrap();
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(err.contains("--rated-kvar is missing"), "{err}");
+}
+
+#[derive(Debug, Deserialize)]
+struct MeterJson {
+    checks: Vec<CheckJson>,
+    quadrant: u8,
+    wiring_hints: Vec<String>,
+}
+
+#[derive(Debug, Deserialize)]
+struct CheckJson {
+    quantity: String,
+    meter_value: f64,
+    measured_value: f64,
+    error_percent: Option<f64>,
+    limit_percent: f64,
+    verdict: String,
+}
+
+fn meter(reading: &str, extra: &[&str]) -> (i32, MeterJson) {
+    let out = tracephase()
+        .args([
+            "meter",
+            "fixtures/demo-workshop-compressor-after-capacitor.csv",
+            "--class",
+            "1",
+            "--reading",
+            reading,
+            "--format",
+            "json",
+        ])
+        .args(extra)
+        .output()
+        .unwrap();
+    let json = serde_json::from_slice(&out.stdout).unwrap();
+    (out.status.code().unwrap(), json)
+}
+
+/// Accurate probes (0.2 %, 0.5 %, 0.1°) so that our uncertainty is well inside class 1.
+const GOOD_PROBES: [&str; 6] = [
+    "--v-ratio-accuracy",
+    "0.2",
+    "--i-ratio-accuracy",
+    "0.3",
+    "--phase-error",
+    "0.1",
+];
+
+#[test]
+fn the_demo_meter_reading_inside_class_1_passes() {
+    let (code, r) = meter(
+        "@fixtures/demo-workshop-compressor-meter-reading.txt",
+        &GOOD_PROBES,
+    );
+    assert_eq!(code, 0, "{r:?}");
+    assert_eq!(r.quadrant, 1);
+    assert!(r.checks.iter().all(|c| c.verdict == "pass"), "{r:?}");
+    let p = r.checks.iter().find(|c| c.quantity == "p").unwrap();
+    assert_eq!(p.meter_value, 1750.0);
+    // error = 100·(meter − measured)/measured
+    let e = 100.0 * (p.meter_value - p.measured_value) / p.measured_value;
+    assert!((p.error_percent.unwrap() - e).abs() < 1e-9);
+    // IEC 62053-21 class 1 at PF near 1: ±1.0 % (from memory)
+    assert_eq!(p.limit_percent, 1.0);
+}
+
+#[test]
+fn a_three_percent_pf_error_on_a_class_1_meter_fails() {
+    // our true PF is 0.967; the meter says 3 % less
+    let (code, r) = meter("pf=0.938", &GOOD_PROBES);
+    assert_eq!(code, 1);
+    assert_eq!(r.checks[0].verdict, "fail", "{r:?}");
+}
+
+#[test]
+fn a_reversed_ct_is_recognised() {
+    let (code, r) = meter("pf=-0.97,p=-1.75kW,q=-0.36kvar", &GOOD_PROBES);
+    assert_eq!(code, 1);
+    assert!(
+        r.wiring_hints.iter().any(|h| h.contains("reversed")),
+        "{:?}",
+        r.wiring_hints
+    );
+}
+
+#[test]
+fn a_bad_reading_is_refused_in_one_line() {
+    let out = tracephase()
+        .args([
+            "meter",
+            "fixtures/demo-workshop-compressor-after-capacitor.csv",
+            "--class",
+            "1",
+            "--reading",
+            "q=6.1kW",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(err.starts_with("error: --reading: "), "{err}");
+}
+
+#[test]
+fn pf_below_the_threshold_is_flagged_in_json() {
+    let run = |threshold: &str| -> serde_json::Value {
+        let out = tracephase()
+            .args([
+                "analyze",
+                "fixtures/demo-workshop-compressor-before-capacitor.csv",
+                "--format",
+                "json",
+                "--pf-threshold",
+                threshold,
+            ])
+            .output()
+            .unwrap();
+        serde_json::from_slice(&out.stdout).unwrap()
+    };
+    // true PF of the uncorrected compressor is about 0.785
+    assert_eq!(run("0.90")["pf_below_threshold"], true);
+    assert_eq!(run("0.75")["pf_below_threshold"], false);
+    assert!(
+        run("0.95")["warning_codes"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|c| c == "pf-below-threshold")
+    );
+}
