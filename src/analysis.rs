@@ -73,6 +73,48 @@ pub struct Analysis {
     pub warnings: Vec<Warning>,
     /// Comparison with a circuit model, when one was given.
     pub expected: Option<Expected>,
+    /// The first cycles of both traces, for plots.
+    pub preview: Preview,
+}
+
+/// The first few cycles of both traces (scaled), thinned to at most [`PREVIEW_POINTS`] points,
+/// for waveform plots.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Preview {
+    /// Time of each point from the first sample, seconds.
+    pub time_s: Vec<f64>,
+    /// Voltage, V.
+    pub voltage: Vec<f64>,
+    /// Current, A.
+    pub current: Vec<f64>,
+    /// Clipping limits seen in the whole capture (lowest, highest sample) of each trace, for
+    /// shading flat tops: `(v_min, v_max, i_min, i_max)`.
+    pub extremes: (f64, f64, f64, f64),
+}
+
+/// Cycles kept in a [`Preview`].
+pub const PREVIEW_CYCLES: f64 = 3.0;
+/// Points kept in a [`Preview`] at most.
+pub const PREVIEW_POINTS: usize = 2000;
+
+impl Preview {
+    fn new(v: &[f64], i: &[f64], rate_hz: f64, frequency_hz: f64) -> Self {
+        let n = ((PREVIEW_CYCLES * rate_hz / frequency_hz).ceil() as usize).min(v.len());
+        let stride = n.div_ceil(PREVIEW_POINTS).max(1);
+        let range = |y: &[f64]| {
+            y.iter()
+                .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| {
+                    (lo.min(x), hi.max(x))
+                })
+        };
+        let (vr, ir) = (range(v), range(i));
+        Preview {
+            time_s: (0..n).step_by(stride).map(|k| k as f64 / rate_hz).collect(),
+            voltage: v[..n].iter().step_by(stride).copied().collect(),
+            current: i[..n].iter().step_by(stride).copied().collect(),
+            extremes: (vr.0, vr.1, ir.0, ir.1),
+        }
+    }
 }
 
 /// A capture that loaded but could not be analysed.
@@ -146,7 +188,9 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         settings.skew_s,
         &settings.uncertainty,
     );
+    let preview = Preview::new(v, i, capture.sample_rate_hz, quantities.frequency_hz);
     Ok(Analysis {
+        preview,
         uncertainty,
         samples: capture.len(),
         path: capture.path,
