@@ -24,6 +24,8 @@ pub enum Command {
     Bank(BankArgs),
     /// Check a meter's PF, kW, kvar... reading against a capture, within its accuracy class.
     Meter(MeterArgs),
+    /// A self-contained HTML report (results, verdicts, plots, cautions) of captures.
+    Report(ReportArgs),
 }
 
 /// Arguments of `analyze`.
@@ -143,6 +145,38 @@ pub struct MeterArgs {
     /// Instrument limits for the uncertainty.
     #[command(flatten)]
     pub uncertainty: UncertaintyArgs,
+}
+
+/// Arguments of `report`.
+#[derive(Debug, Args)]
+pub struct ReportArgs {
+    /// Capture files.
+    #[arg(required = true, value_name = "FILE")]
+    pub files: Vec<PathBuf>,
+    /// Where to write the HTML report.
+    #[arg(short = 'o', long = "output", value_name = "PATH")]
+    pub output: PathBuf,
+    /// Also write each plot as its own SVG file in this folder.
+    #[arg(long, value_name = "DIR")]
+    pub plot_dir: Option<PathBuf>,
+    /// Compare each capture with a circuit model (TOML).
+    #[arg(long, value_name = "MODEL.toml")]
+    pub expect: Option<PathBuf>,
+    /// Highest harmonic order analysed.
+    #[arg(long, default_value_t = 50, value_name = "N")]
+    pub harmonics: usize,
+    /// Flag a true PF below this (a utility penalty threshold).
+    #[arg(long, default_value_t = 0.90, value_name = "PF")]
+    pub pf_threshold: f64,
+    /// Channel, scale and timing options.
+    #[command(flatten)]
+    pub channels: ChannelArgs,
+    /// Instrument limits for the uncertainty.
+    #[command(flatten)]
+    pub uncertainty: UncertaintyArgs,
+    /// Monte Carlo settings for --expect.
+    #[command(flatten)]
+    pub monte_carlo: MonteCarloArgs,
 }
 
 /// Arguments of `expect`.

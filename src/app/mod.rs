@@ -2,6 +2,7 @@
 
 pub mod bank;
 pub mod meter;
+pub mod html;
 
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
@@ -241,6 +242,7 @@ pub fn run(cli: Cli, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
         },
         Command::Bank(args) => bank::run_bank(&args, out, err),
         Command::Meter(args) => meter::run_meter(&args, out, err),
+        Command::Report(args) => html::run_report(&args, out, err),
         Command::Expect(args) => run_expect(&args, out).unwrap_or_else(|e| {
             let _ = writeln!(err, "error: {e}");
             Outcome::InputErrors
