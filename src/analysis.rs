@@ -2,6 +2,7 @@
 
 use crate::capture::{Capture, SourceFormat};
 use crate::check::expected::Expected;
+use crate::check::meter::Measured;
 use crate::condition;
 use crate::estimate::{self, Estimate, EstimateError};
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
@@ -204,4 +205,31 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         warnings,
         expected: None,
     })
+}
+
+impl Analysis {
+    /// Our measurement as the meter check needs it; `None` without a defined PF.
+    pub fn meter_measured(&self) -> Option<Measured> {
+        let q = &self.quantities;
+        let u = &self.uncertainty;
+        let (v, i) = (q.voltage.rms, q.current.rms);
+        let s = q.power.apparent_va;
+        // U of S = V·I from the relative U of V and I (uncorrelated probes).
+        let u_s = s * (u.voltage.rms / v).hypot(u.current.rms / i);
+        Some(Measured {
+            p_w: q.power.active_w,
+            q_var: q.power.reactive_var,
+            s_va: s,
+            pf: q.true_pf?,
+            angle_deg: q.phase_angle_dft_deg?,
+            v_rms: v,
+            i_rms: i,
+            u_p_w: u.power.active_w,
+            u_q_var: u.power.reactive_var,
+            u_s_va: u_s,
+            u_pf: u.true_pf?,
+            u_v: u.voltage.rms,
+            u_i: u.current.rms,
+        })
+    }
 }

@@ -26,6 +26,8 @@ pub enum Command {
     Meter(MeterArgs),
     /// A self-contained HTML report (results, verdicts, plots, cautions) of captures.
     Report(ReportArgs),
+    /// Analyse whole folders of captures into one summary (CSV or JSON Lines), in parallel.
+    Batch(BatchArgs),
 }
 
 /// Arguments of `analyze`.
@@ -145,6 +147,93 @@ pub struct MeterArgs {
     /// Instrument limits for the uncertainty.
     #[command(flatten)]
     pub uncertainty: UncertaintyArgs,
+}
+
+/// Arguments of `batch`.
+#[derive(Debug, Args)]
+pub struct BatchArgs {
+    /// Folders (searched recursively for .csv, .tsv, .txt and .wav), files, or `-` to read a list
+    /// of files from standard input, one per line.
+    #[arg(required = true, value_name = "DIR")]
+    pub roots: Vec<PathBuf>,
+    /// Summary file [default: standard output].
+    #[arg(long, value_name = "PATH")]
+    pub out: Option<PathBuf>,
+    /// Summary format.
+    #[arg(long, value_enum, default_value_t = SummaryFormatArg::Csv)]
+    pub format: SummaryFormatArg,
+    /// Parallel jobs [default: all cores].
+    #[arg(long, value_name = "N")]
+    pub jobs: Option<usize>,
+    /// Keep the rows of --out whose file and settings are unchanged; analyse the rest.
+    #[arg(long, requires = "out")]
+    pub resume: bool,
+    /// Take every N-th file from the K-th (1-based), for splitting a folder over N machines.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<String>,
+    /// Settings that override every sidecar file.
+    #[command(flatten)]
+    pub overrides: OverrideArgs,
+    /// Monte Carlo settings for circuit models.
+    #[command(flatten)]
+    pub monte_carlo: MonteCarloArgs,
+}
+
+/// Summary formats of `batch`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum SummaryFormatArg {
+    /// CSV with a header.
+    Csv,
+    /// JSON Lines.
+    Json,
+}
+
+/// Settings given on the command line of `batch`: each overrides the sidecar files.
+#[derive(Debug, Args, Clone, Default)]
+#[command(next_help_heading = "Settings (override tracephase.toml sidecars)")]
+pub struct OverrideArgs {
+    /// Voltage channel (name or 1-based number).
+    #[arg(long, value_name = "COL")]
+    pub voltage: Option<String>,
+    /// Current channel (name or 1-based number).
+    #[arg(long, value_name = "COL")]
+    pub current: Option<String>,
+    /// Sample rate, Hz.
+    #[arg(long, value_name = "HZ")]
+    pub rate: Option<f64>,
+    /// Volts per unit of the voltage channel.
+    #[arg(long, value_name = "X", allow_negative_numbers = true)]
+    pub v_scale: Option<f64>,
+    /// Amperes per unit of the current channel.
+    #[arg(long, value_name = "X", allow_negative_numbers = true)]
+    pub i_scale: Option<f64>,
+    /// Current-channel delay, seconds.
+    #[arg(long, value_name = "SECONDS", allow_negative_numbers = true)]
+    pub skew: Option<f64>,
+    /// Highest harmonic order.
+    #[arg(long, value_name = "N")]
+    pub harmonics: Option<usize>,
+    /// PF penalty threshold.
+    #[arg(long, value_name = "PF")]
+    pub pf_threshold: Option<f64>,
+    /// Circuit model to compare every capture with.
+    #[arg(long, value_name = "MODEL.toml")]
+    pub expect: Option<PathBuf>,
+    /// Voltage probe ratio accuracy, ± % of reading.
+    #[arg(long, value_name = "PCT")]
+    pub v_ratio_accuracy: Option<f64>,
+    /// Current clamp ratio accuracy, ± % of reading.
+    #[arg(long, value_name = "PCT")]
+    pub i_ratio_accuracy: Option<f64>,
+    /// Probe pair phase error, ± degrees.
+    #[arg(long, value_name = "DEG")]
+    pub phase_error: Option<f64>,
+    /// Remaining skew uncertainty, ± seconds.
+    #[arg(long, value_name = "SECONDS")]
+    pub skew_uncertainty: Option<f64>,
+    /// Sample clock accuracy, ± ppm.
+    #[arg(long, value_name = "PPM")]
+    pub clock_ppm: Option<f64>,
 }
 
 /// Arguments of `report`.

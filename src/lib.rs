@@ -35,6 +35,7 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
 pub mod analysis;
+pub mod batch;
 pub mod app;
 pub mod capture;
 pub mod check;

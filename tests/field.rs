@@ -186,7 +186,7 @@ const GOOD_PROBES: [&str; 6] = [
 #[test]
 fn the_demo_meter_reading_inside_class_1_passes() {
     let (code, r) = meter(
-        "@fixtures/demo-workshop-compressor-meter-reading.txt",
+        "@fixtures/demo-workshop-compressor-meter.reading",
         &GOOD_PROBES,
     );
     assert_eq!(code, 0, "{r:?}");

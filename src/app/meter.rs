@@ -3,36 +3,10 @@
 
 use super::bank::analyse_file;
 use super::{ConfigError, Outcome, format, resolve_channels};
-use crate::analysis::Analysis;
-use crate::check::meter::{AccuracyClass, Measured, MeterVerdict, PfSign, Reading, check_meter};
+use crate::check::meter::{AccuracyClass, MeterVerdict, PfSign, Reading, check_meter};
 use crate::cli::MeterArgs;
 use crate::report;
 use std::io::Write;
-
-/// Our measurement as the meter check needs it; `None` without a defined PF.
-pub fn measured(a: &Analysis) -> Option<Measured> {
-    let q = &a.quantities;
-    let u = &a.uncertainty;
-    let (v, i) = (q.voltage.rms, q.current.rms);
-    let s = q.power.apparent_va;
-    // U of S = V·I from the relative U of V and I (uncorrelated probes).
-    let u_s = s * (u.voltage.rms / v).hypot(u.current.rms / i);
-    Some(Measured {
-        p_w: q.power.active_w,
-        q_var: q.power.reactive_var,
-        s_va: s,
-        pf: q.true_pf?,
-        angle_deg: q.phase_angle_dft_deg?,
-        v_rms: v,
-        i_rms: i,
-        u_p_w: u.power.active_w,
-        u_q_var: u.power.reactive_var,
-        u_s_va: u_s,
-        u_pf: u.true_pf?,
-        u_v: u.voltage.rms,
-        u_i: u.current.rms,
-    })
-}
 
 /// Runs `meter`.
 pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
@@ -59,7 +33,7 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
             return Outcome::InputErrors;
         }
     };
-    let Some(m) = measured(&analysis) else {
+    let Some(m) = analysis.meter_measured() else {
         let _ = writeln!(
             err,
             "error: {}: no defined power factor (no fundamental in a trace): nothing to check",

@@ -1,8 +1,9 @@
 //! Wiring: what was typed -> resolved settings -> load -> analyse -> exporters.
 
 pub mod bank;
-pub mod meter;
+pub mod batch;
 pub mod html;
+pub mod meter;
 
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
@@ -184,7 +185,7 @@ impl AnalyzeConfig {
     }
 }
 
-fn format(f: FormatArg) -> Format {
+pub(crate) fn format(f: FormatArg) -> Format {
     match f {
         FormatArg::Table => Format::Table,
         FormatArg::Json => Format::Json,
@@ -242,6 +243,7 @@ pub fn run(cli: Cli, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
         },
         Command::Bank(args) => bank::run_bank(&args, out, err),
         Command::Meter(args) => meter::run_meter(&args, out, err),
+        Command::Batch(args) => batch::run_batch(&args, out, err),
         Command::Report(args) => html::run_report(&args, out, err),
         Command::Expect(args) => run_expect(&args, out).unwrap_or_else(|e| {
             let _ = writeln!(err, "error: {e}");

@@ -159,3 +159,40 @@ pub fn flatten(value: &serde_json::Value) -> Vec<(String, String)> {
     walk("", value, &mut out);
     out
 }
+
+/// The keys of an [`AnalysisRecord`] flattened with dots (the spectrum left out), in order: the
+/// CSV columns of `analyze --format csv` and of batch summaries. Taken from the record of a small
+/// synthetic capture, so they always match what the records hold.
+pub fn analysis_columns() -> Vec<String> {
+    use crate::capture::{Capture, SourceFormat, Trace};
+    use crate::synth::{Spec, Waveform, synthesize};
+    let (v, i) = synthesize(&Spec::clean(
+        5_000.0,
+        50.0,
+        1_000,
+        Waveform::sine(230.0, 0.0).with(3, 2.0, 0.0),
+        Waveform::sine(10.0, -30.0).with(3, 1.0, 0.0),
+    ));
+    let trace = |name: &str, samples| Trace {
+        name: name.into(),
+        samples,
+        full_scale: None,
+    };
+    let capture = Capture {
+        path: "synthetic".into(),
+        format: SourceFormat::Csv {
+            delimiter: b',',
+            decimal_comma: false,
+        },
+        sample_rate_hz: 5_000.0,
+        voltage: trace("v", v),
+        current: trace("i", i),
+        warnings: Vec::new(),
+    };
+    match crate::analysis::analyze(capture, &crate::analysis::Settings::default()) {
+        Ok(a) => serde_json::to_value(AnalysisRecord::from(&a))
+            .map(|v| flatten(&v).into_iter().map(|(k, _)| k).collect())
+            .unwrap_or_default(),
+        Err(_) => Vec::new(),
+    }
+}

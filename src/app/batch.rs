@@ -1,0 +1,290 @@
+//! `batch`: find the captures, resolve their settings, analyse them in parallel in chunks,
+//! write the summary row by row in sorted order, resume, shard, and report on stderr.
+
+use super::{Outcome, resolve_monte_carlo};
+use crate::batch::sidecar::{Layer, UncertaintyLayer};
+use crate::batch::summary::{self, PastRow, Row, Status, SummaryFormat};
+use crate::batch::walk::{self, Discovery, Found};
+use crate::batch::{self, Job};
+use crate::cli::{BatchArgs, OverrideArgs, SummaryFormatArg};
+use indicatif::ProgressBar;
+use rayon::prelude::*;
+use std::collections::HashMap;
+use std::fs::{File, OpenOptions};
+use std::io::{BufRead, Write};
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
+
+/// Captures analysed in parallel before their rows are written: bounds memory, whatever the
+/// folder size, while keeping both cores busy.
+const CHUNK: usize = 64;
+
+/// The command-line layer of settings.
+pub fn layer_from(o: &OverrideArgs) -> Layer {
+    Layer {
+        voltage: o.voltage.clone(),
+        current: o.current.clone(),
+        rate_hz: o.rate,
+        v_scale: o.v_scale,
+        i_scale: o.i_scale,
+        skew_s: o.skew,
+        harmonics: o.harmonics,
+        pf_threshold: o.pf_threshold,
+        expect: o.expect.clone(),
+        uncertainty: UncertaintyLayer {
+            v_ratio_percent: o.v_ratio_accuracy,
+            i_ratio_percent: o.i_ratio_accuracy,
+            phase_error_deg: o.phase_error,
+            skew_s: o.skew_uncertainty,
+            clock_ppm: o.clock_ppm,
+        },
+        meter: Default::default(),
+    }
+}
+
+/// What one capture gave: a new row, or an earlier row kept as it was.
+enum Outcome1 {
+    New(Row, Duration),
+    Kept(PastRow),
+}
+
+/// Counts for the end-of-run report.
+#[derive(Default)]
+struct Tally {
+    ok: usize,
+    warning: usize,
+    error: usize,
+    kept: usize,
+    verdict_failed: bool,
+    slowest: Option<(String, Duration)>,
+}
+
+impl Tally {
+    fn count(&mut self, status: &str, verdict_failed: bool) {
+        match status {
+            "ok" => self.ok += 1,
+            "warning" => self.warning += 1,
+            _ => self.error += 1,
+        }
+        self.verdict_failed |= verdict_failed;
+    }
+}
+
+/// Where the summary goes.
+enum Sink<'a> {
+    File(File),
+    Stdout(&'a mut dyn Write),
+}
+
+impl Sink<'_> {
+    fn line(&mut self, line: &str) -> std::io::Result<()> {
+        let w: &mut dyn Write = match self {
+            Sink::File(f) => f,
+            Sink::Stdout(w) => *w,
+        };
+        w.write_all(line.as_bytes())?;
+        w.flush()
+    }
+}
+
+fn list_from_stdin() -> Discovery {
+    let mut d = Discovery::default();
+    for line in std::io::stdin().lock().lines().map_while(Result::ok) {
+        let p = line.trim();
+        if !p.is_empty() {
+            let path = PathBuf::from(p);
+            let root = path.parent().unwrap_or(Path::new("")).to_path_buf();
+            d.files.push(Found { path, root });
+        }
+    }
+    d
+}
+
+/// Runs `batch`.
+pub fn run_batch(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
+    match run(a, out, err) {
+        Ok(o) => o,
+        Err(e) => {
+            let _ = writeln!(err, "error: {e}");
+            Outcome::InputErrors
+        }
+    }
+}
+
+fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcome, String> {
+    let started = Instant::now();
+    let mc = resolve_monte_carlo(&a.monte_carlo).map_err(|e| e.to_string())?;
+    let jobs_n = match a.jobs {
+        Some(0) => return Err("--jobs must be at least 1".into()),
+        Some(n) => n,
+        None => std::thread::available_parallelism().map_or(1, |n| n.get()),
+    };
+    let format = match a.format {
+        SummaryFormatArg::Csv => SummaryFormat::Csv,
+        SummaryFormatArg::Json => SummaryFormat::Json,
+    };
+    let mut discovery = if a.roots.len() == 1 && a.roots[0].as_os_str() == "-" {
+        list_from_stdin()
+    } else {
+        walk::discover(&a.roots)
+    };
+    if let Some(s) = &a.shard {
+        let (k, n) = walk::parse_shard(s)?;
+        discovery.files = walk::shard(discovery.files, k, n);
+    }
+    for (p, e) in &discovery.unreadable {
+        let _ = writeln!(err, "error: {}: cannot read: {e}", p.display());
+    }
+    let jobs: Vec<Job> = batch::plan(&discovery.files, &layer_from(&a.overrides), &mc);
+    let columns = match format {
+        SummaryFormat::Csv => batch::csv_columns(),
+        SummaryFormat::Json => Vec::new(),
+    };
+    let header = match format {
+        SummaryFormat::Csv => summary::csv_line(&columns).map_err(|e| e.to_string())?,
+        SummaryFormat::Json => String::new(),
+    };
+    let past: HashMap<String, PastRow> = match (&a.out, a.resume) {
+        (Some(p), true) => {
+            drop_partial_line(p).map_err(|e| format!("{}: {e}", p.display()))?;
+            summary::read_past(p, format, &columns)
+        }
+        _ => HashMap::new(),
+    };
+    let cannot =
+        |p: &Path, e: std::io::Error| format!("{}: cannot write the summary: {e}", p.display());
+    let mut sink = match &a.out {
+        Some(p) if !past.is_empty() => Sink::File(
+            OpenOptions::new()
+                .append(true)
+                .open(p)
+                .map_err(|e| cannot(p, e))?,
+        ),
+        Some(p) => {
+            let mut f = File::create(p).map_err(|e| cannot(p, e))?;
+            f.write_all(header.as_bytes()).map_err(|e| cannot(p, e))?;
+            Sink::File(f)
+        }
+        None => {
+            out.write_all(header.as_bytes())
+                .map_err(|e| e.to_string())?;
+            Sink::Stdout(out)
+        }
+    };
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(jobs_n)
+        .build()
+        .map_err(|e| format!("cannot start {jobs_n} worker threads: {e}"))?;
+    let progress = ProgressBar::new(jobs.len() as u64);
+    let mut tally = Tally::default();
+    // With --resume the final file is rewritten in sorted order: keep every line for that.
+    let mut all_lines: Vec<String> = Vec::new();
+    for chunk in jobs.chunks(CHUNK) {
+        let results: Vec<Outcome1> = pool.install(|| {
+            chunk
+                .par_iter()
+                .map(|job| {
+                    let file = job.path.display().to_string();
+                    if let Some(p) = past.get(&file)
+                        && p.settings_hash == job.settings_hash
+                        && batch::fingerprint_file(&job.path).ok().as_deref()
+                            == Some(p.content_hash.as_str())
+                    {
+                        return Outcome1::Kept(p.clone());
+                    }
+                    let t = Instant::now();
+                    let row = batch::process(job);
+                    Outcome1::New(row, t.elapsed())
+                })
+                .collect()
+        });
+        for r in results {
+            progress.inc(1);
+            match r {
+                Outcome1::Kept(p) => {
+                    tally.kept += 1;
+                    tally.count(&p.status, p.verdict_failed);
+                    all_lines.push(p.line);
+                }
+                Outcome1::New(row, took) => {
+                    if row.status == Status::Error {
+                        progress.suspend(|| {
+                            let _ = writeln!(err, "error: {}", row.message);
+                        });
+                    }
+                    tally.count(row.status.as_str(), row.verdict_failed);
+                    if tally.slowest.as_ref().is_none_or(|(_, t)| took > *t) {
+                        tally.slowest = Some((row.file.clone(), took));
+                    }
+                    let line = row.line(format, &columns).map_err(|e| e.to_string())?;
+                    sink.line(&line)
+                        .map_err(|e| format!("cannot write the summary: {e}"))?;
+                    if a.resume {
+                        all_lines.push(line);
+                    }
+                }
+            }
+        }
+    }
+    progress.finish_and_clear();
+    drop(sink);
+    if let (Some(p), true) = (&a.out, a.resume) {
+        // the same rows as an uninterrupted run, in sorted order, swapped in at once
+        let tmp = p.with_extension("tmp-resume");
+        let write = || -> std::io::Result<()> {
+            let mut f = File::create(&tmp)?;
+            f.write_all(header.as_bytes())?;
+            for l in &all_lines {
+                f.write_all(l.as_bytes())?;
+            }
+            f.sync_all()?;
+            std::fs::rename(&tmp, p)
+        };
+        write().map_err(|e| cannot(p, e))?;
+    }
+    let total = started.elapsed().as_secs_f64();
+    let n = jobs.len();
+    let _ = writeln!(
+        err,
+        "batch: {n} files in {total:.2} s ({:.0} files/s): {} ok, {} warning, {} error{}; {} other files skipped{}",
+        n as f64 / total.max(1e-9),
+        tally.ok,
+        tally.warning,
+        tally.error,
+        if tally.kept > 0 {
+            format!(" ({} kept from the earlier summary)", tally.kept)
+        } else {
+            String::new()
+        },
+        discovery.skipped,
+        tally
+            .slowest
+            .map(|(f, t)| format!("; slowest: {f} ({:.3} s)", t.as_secs_f64()))
+            .unwrap_or_default(),
+    );
+    Ok(if tally.error > 0 || !discovery.unreadable.is_empty() {
+        Outcome::InputErrors
+    } else if tally.verdict_failed {
+        Outcome::VerdictFailed
+    } else {
+        Outcome::Ok
+    })
+}
+
+/// Cuts a summary back to its last complete line (a run killed mid-write may leave half a row),
+/// so rows appended on `--resume` start on a line of their own.
+fn drop_partial_line(path: &Path) -> std::io::Result<()> {
+    let bytes = match std::fs::read(path) {
+        Ok(b) => b,
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => return Ok(()),
+        Err(e) => return Err(e),
+    };
+    let keep = bytes.iter().rposition(|&b| b == b'\n').map_or(0, |p| p + 1);
+    if keep < bytes.len() {
+        OpenOptions::new()
+            .write(true)
+            .open(path)?
+            .set_len(keep as u64)?;
+    }
+    Ok(())
+}

@@ -1,0 +1,347 @@
+//! Batch: whole folders of captures from a site visit, one summary row per capture.
+//!
+//! Input: the captures found by [`walk`], the settings layers of [`sidecar`] files and the command
+//! line. Output: [`summary::Row`]s, one per capture, each made by [`process`] independently of the
+//! others (so they can run in parallel and in any order) and written in sorted order.
+//!
+//! - [`plan`] resolves every capture's settings once, sequentially: sidecars and circuit models
+//!   are read once and shared.
+//! - [`process`] loads, analyses and checks one capture; whatever goes wrong becomes an `error`
+//!   row naming the file, never a stop.
+
+pub mod sidecar;
+pub mod summary;
+pub mod walk;
+
+use crate::analysis::{self, Settings};
+use crate::capture::{self, ChannelSel, LoadOptions};
+use crate::check::circuit::Circuit;
+use crate::check::expected;
+use crate::check::meter::{self, AccuracyClass, MeterVerdict, PfSign, Reading};
+use crate::check::tolerance::MonteCarloConfig;
+use crate::quantity::uncertainty::UncertaintyInputs;
+use crate::report::wire::AnalysisRecord;
+use serde_json::Value;
+use sidecar::{Layer, SIDECAR, Sidecar};
+use std::collections::HashMap;
+use std::io::Read;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use summary::{Row, Status};
+use walk::Found;
+
+/// A meter reading to check a capture against.
+#[derive(Debug, Clone)]
+pub struct MeterSpec {
+    /// The reading.
+    pub reading: Reading,
+    /// The class.
+    pub class: AccuracyClass,
+    /// The PF sign convention.
+    pub pf_sign: PfSign,
+}
+
+/// Everything needed to process one capture.
+#[derive(Debug, Clone)]
+pub struct Setup {
+    /// Loader options.
+    pub load: LoadOptions,
+    /// Analysis settings.
+    pub settings: Settings,
+    /// Circuit model to compare with.
+    pub expect: Option<Arc<Circuit>>,
+    /// Monte Carlo settings for the model.
+    pub monte_carlo: MonteCarloConfig,
+    /// Meter reading to check.
+    pub meter: Option<MeterSpec>,
+}
+
+/// One capture with its resolved settings.
+#[derive(Debug, Clone)]
+pub struct Job {
+    /// The capture.
+    pub path: PathBuf,
+    /// Its settings, or why they could not be resolved (a bad sidecar, a bad model...).
+    pub setup: Result<Setup, String>,
+    /// The settings used, as compact JSON (recorded in its row).
+    pub settings_json: String,
+    /// Fingerprint of the settings.
+    pub settings_hash: String,
+}
+
+/// Resolves the settings of every capture: sidecars from the root down, then `cli`.
+pub fn plan(found: &[Found], cli: &Layer, monte_carlo: &MonteCarloConfig) -> Vec<Job> {
+    let mut sidecars: HashMap<PathBuf, Option<Result<Arc<Sidecar>, String>>> = HashMap::new();
+    let mut models: HashMap<PathBuf, Result<Arc<Circuit>, String>> = HashMap::new();
+    found
+        .iter()
+        .map(|f| {
+            let name = f
+                .path
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default();
+            let mut layer = Layer::default();
+            let mut trouble = None;
+            for dir in folders_between(&f.root, &f.path) {
+                let entry = sidecars.entry(dir.clone()).or_insert_with(|| {
+                    let p = dir.join(SIDECAR);
+                    p.is_file()
+                        .then(|| Sidecar::load(&p).map(Arc::new).map_err(|e| e.to_string()))
+                });
+                match entry {
+                    Some(Ok(s)) => s.layers_for(&name).for_each(|l| layer.apply(l)),
+                    Some(Err(e)) => trouble = Some(e.clone()),
+                    None => {}
+                }
+            }
+            layer.apply(cli);
+            let settings_json = serde_json::to_string(&layer).unwrap_or_default();
+            let settings_hash =
+                summary::fingerprint(format!("{settings_json}|{monte_carlo:?}").as_bytes());
+            let setup = match trouble {
+                Some(e) => Err(e),
+                None => resolve(&layer, monte_carlo, &mut models),
+            };
+            Job {
+                path: f.path.clone(),
+                setup,
+                settings_json,
+                settings_hash,
+            }
+        })
+        .collect()
+}
+
+/// The folders from `root` down to the folder holding `file` (both included).
+fn folders_between(root: &Path, file: &Path) -> Vec<PathBuf> {
+    let parent = file.parent().unwrap_or(Path::new(""));
+    let mut out = vec![root.to_path_buf()];
+    if let Ok(rest) = parent.strip_prefix(root) {
+        let mut d = root.to_path_buf();
+        for c in rest.components() {
+            d.push(c);
+            out.push(d.clone());
+        }
+    }
+    out
+}
+
+fn positive(x: Option<f64>, default: f64, name: &str) -> Result<f64, String> {
+    match x {
+        None => Ok(default),
+        Some(v) if v.is_finite() && v > 0.0 => Ok(v),
+        Some(v) => Err(format!("{name} must be a positive number, not {v}")),
+    }
+}
+
+fn limit(x: Option<f64>, default: f64, name: &str) -> Result<f64, String> {
+    match x {
+        None => Ok(default),
+        Some(v) if v.is_finite() && v >= 0.0 => Ok(v),
+        Some(v) => Err(format!("{name} must be zero or a positive number, not {v}")),
+    }
+}
+
+/// Turns a resolved layer into a [`Setup`].
+fn resolve(
+    l: &Layer,
+    monte_carlo: &MonteCarloConfig,
+    models: &mut HashMap<PathBuf, Result<Arc<Circuit>, String>>,
+) -> Result<Setup, String> {
+    let d = Settings::default();
+    let du = UncertaintyInputs::default();
+    let nonzero = |x: Option<f64>, name: &str| match x {
+        None => Ok(1.0),
+        Some(v) if v.is_finite() && v != 0.0 => Ok(v),
+        Some(v) => Err(format!("{name} must be a finite, non-zero number, not {v}")),
+    };
+    let rate_hz = match l.rate_hz {
+        None => None,
+        Some(r) => Some(positive(Some(r), 0.0, "rate_hz")?),
+    };
+    let skew_s = l.skew_s.unwrap_or(0.0);
+    if !skew_s.is_finite() {
+        return Err("skew_s must be a finite number of seconds".into());
+    }
+    let harmonics = l.harmonics.unwrap_or(d.harmonics);
+    if harmonics == 0 {
+        return Err("harmonics must be at least 1".into());
+    }
+    let pf_threshold = positive(l.pf_threshold, d.pf_threshold, "pf_threshold")?;
+    let u = &l.uncertainty;
+    let settings = Settings {
+        v_scale: nonzero(l.v_scale, "v_scale")?,
+        i_scale: nonzero(l.i_scale, "i_scale")?,
+        skew_s,
+        harmonics,
+        pf_threshold,
+        uncertainty: UncertaintyInputs {
+            v_ratio_percent: limit(u.v_ratio_percent, du.v_ratio_percent, "v_ratio_percent")?,
+            i_ratio_percent: limit(u.i_ratio_percent, du.i_ratio_percent, "i_ratio_percent")?,
+            phase_error_deg: limit(u.phase_error_deg, du.phase_error_deg, "phase_error_deg")?,
+            skew_s: limit(u.skew_s, du.skew_s, "uncertainty skew_s")?,
+            clock_ppm: limit(u.clock_ppm, du.clock_ppm, "clock_ppm")?,
+            adc: None,
+        },
+    };
+    let expect = match &l.expect {
+        None => None,
+        Some(p) => Some(
+            models
+                .entry(p.clone())
+                .or_insert_with(|| Circuit::load(p).map(Arc::new).map_err(|e| e.to_string()))
+                .clone()?,
+        ),
+    };
+    let meter = match (&l.meter.reading, &l.meter.class) {
+        (None, None) => None,
+        (Some(r), Some(c)) => Some(MeterSpec {
+            reading: Reading::parse(r).map_err(|e| format!("meter reading: {e}"))?,
+            class: AccuracyClass::parse(c).map_err(|e| format!("meter class: {e}"))?,
+            pf_sign: PfSign::parse(l.meter.pf_sign.as_deref().unwrap_or("power-flow"))
+                .map_err(|e| format!("meter pf_sign: {e}"))?,
+        }),
+        _ => return Err("a meter needs both a reading and a class".into()),
+    };
+    Ok(Setup {
+        load: LoadOptions {
+            voltage: l.voltage.as_deref().map(ChannelSel::parse),
+            current: l.current.as_deref().map(ChannelSel::parse),
+            rate_hz,
+        },
+        settings,
+        expect,
+        monte_carlo: monte_carlo.clone(),
+        meter,
+    })
+}
+
+/// Fingerprint of a file's bytes, read in 64 KiB blocks.
+pub fn fingerprint_file(path: &Path) -> std::io::Result<String> {
+    let mut f = std::fs::File::open(path)?;
+    let mut fp = summary::Fingerprint::default();
+    let mut buf = vec![0u8; 64 * 1024];
+    loop {
+        match f.read(&mut buf)? {
+            0 => break,
+            n => fp.update(&buf[..n]),
+        }
+    }
+    Ok(fp.finish())
+}
+
+/// Loads, analyses and checks one capture. Never fails: trouble becomes an `error` row.
+pub fn process(job: &Job) -> Row {
+    let file = job.path.display().to_string();
+    let mut row = Row {
+        file: file.clone(),
+        status: Status::Error,
+        message: String::new(),
+        content_hash: fingerprint_file(&job.path).unwrap_or_default(),
+        settings_hash: job.settings_hash.clone(),
+        settings: job.settings_json.clone(),
+        result: None,
+        verdict_failed: false,
+    };
+    let setup = match &job.setup {
+        Ok(s) => s,
+        Err(e) => {
+            row.message = format!("{file}: settings: {e}");
+            return row;
+        }
+    };
+    let analysed = capture::load(&job.path, &setup.load)
+        .map_err(|e| e.to_string())
+        .and_then(|c| analysis::analyze(c, &setup.settings).map_err(|e| e.to_string()));
+    let mut a = match analysed {
+        Ok(a) => a,
+        Err(e) => {
+            row.message = e;
+            return row;
+        }
+    };
+    if let Some(model) = &setup.expect
+        && let (Some(angle), Some(u)) = (
+            a.quantities.phase_angle_dft_deg,
+            a.uncertainty.phase_angle_deg.dft,
+        )
+    {
+        let (v1, i1) = a.quantities.fundamentals;
+        let e = expected::compare(
+            model,
+            a.quantities.frequency_hz,
+            v1,
+            i1,
+            angle,
+            u,
+            &setup.monte_carlo,
+        );
+        row.verdict_failed |= e.failed();
+        a.expected = Some(e);
+    }
+    let mut result = serde_json::to_value(AnalysisRecord::from(&a)).unwrap_or(Value::Null);
+    if let (Some(spec), Some(m)) = (&setup.meter, a.meter_measured()) {
+        let r = meter::check_meter(&spec.reading, &m, spec.class, spec.pf_sign);
+        let failed: Vec<&str> = r
+            .checks
+            .iter()
+            .filter(|c| c.verdict == MeterVerdict::Fail)
+            .map(|c| c.quantity)
+            .collect();
+        let verdict = if !failed.is_empty() {
+            "fail"
+        } else if r
+            .checks
+            .iter()
+            .any(|c| c.verdict == MeterVerdict::Inconclusive)
+        {
+            "inconclusive"
+        } else {
+            "pass"
+        };
+        row.verdict_failed |= !failed.is_empty();
+        if let Value::Object(m) = &mut result {
+            m.insert(
+                "meter".into(),
+                serde_json::json!({
+                    "verdict": verdict,
+                    "failed_checks": failed,
+                    "wiring_hints": r.wiring_hints,
+                    "class": r.class,
+                    "quadrant": r.quadrant,
+                    "checks": r.checks,
+                }),
+            );
+        }
+    }
+    row.status = if a.warnings.is_empty() {
+        Status::Ok
+    } else {
+        Status::Warning
+    };
+    row.message = a
+        .warnings
+        .iter()
+        .map(|w| w.to_string())
+        .collect::<Vec<_>>()
+        .join("; ");
+    row.result = Some(result);
+    row
+}
+
+/// The CSV columns of a summary: the lead columns, the `analyze` keys flattened with dots (the
+/// spectrum left out), and the verdict columns.
+pub fn csv_columns() -> Vec<String> {
+    let mut c: Vec<String> = summary::LEAD_COLUMNS
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    c.extend(
+        crate::report::wire::analysis_columns()
+            .into_iter()
+            .filter(|k| k != "file"),
+    );
+    c.extend(summary::VERDICT_COLUMNS.iter().map(|s| s.to_string()));
+    c
+}

@@ -1,0 +1,362 @@
+//! The batch summary: one row per capture, as CSV with a header or as JSON Lines, written and
+//! flushed row by row so that an interrupted run leaves a valid file; and reading an earlier
+//! summary back for `--resume`.
+
+use serde_json::{Map, Value};
+use std::collections::HashMap;
+use std::io::{self, BufRead};
+use std::path::Path;
+
+/// Summary file formats.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SummaryFormat {
+    /// CSV with a header.
+    Csv,
+    /// JSON Lines.
+    Json,
+}
+
+/// How one capture ended.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Status {
+    /// Analysed, nothing doubtful.
+    Ok,
+    /// Analysed, with warnings.
+    Warning,
+    /// Could not be read or analysed.
+    Error,
+}
+
+impl Status {
+    /// The word in the summary.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Status::Ok => "ok",
+            Status::Warning => "warning",
+            Status::Error => "error",
+        }
+    }
+}
+
+/// One row of the summary.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Row {
+    /// The capture.
+    pub file: String,
+    /// ok / warning / error.
+    pub status: Status,
+    /// The error, or the warnings joined with "; ".
+    pub message: String,
+    /// Hash of the file's bytes (hex), empty when unreadable.
+    pub content_hash: String,
+    /// Hash of the settings used (hex).
+    pub settings_hash: String,
+    /// The settings used, as compact JSON.
+    pub settings: String,
+    /// The analysis and verdicts as a JSON object (the `analyze` keys, `expected`, `meter`).
+    pub result: Option<Value>,
+    /// Some verdict was `outside` or `fail`.
+    pub verdict_failed: bool,
+}
+
+/// The columns every CSV summary starts with.
+pub const LEAD_COLUMNS: [&str; 6] = [
+    "file",
+    "status",
+    "message",
+    "content_hash",
+    "settings_hash",
+    "settings",
+];
+
+/// Columns of the verdicts, after the analysis keys.
+pub const VERDICT_COLUMNS: [&str; 7] = [
+    "expected.verdict",
+    "expected.nominal_phase_deg",
+    "expected.band_deg",
+    "expected.margin_deg",
+    "meter.verdict",
+    "meter.failed_checks",
+    "meter.wiring_hints",
+];
+
+/// 64-bit FNV-1a over 8-byte little-endian words, then the last 0-7 bytes one by one, then the
+/// length: a stable content fingerprint for `--resume` (not a cryptographic hash). Fed in pieces
+/// of any size it gives the same value as [`fingerprint`] of the whole.
+#[derive(Debug, Clone)]
+pub struct Fingerprint {
+    h: u64,
+    carry: Vec<u8>,
+    len: u64,
+}
+
+const FNV_PRIME: u64 = 0x0000_0100_0000_01b3;
+
+impl Default for Fingerprint {
+    fn default() -> Self {
+        Fingerprint {
+            h: 0xcbf2_9ce4_8422_2325,
+            carry: Vec::with_capacity(8),
+            len: 0,
+        }
+    }
+}
+
+impl Fingerprint {
+    /// Adds bytes.
+    pub fn update(&mut self, mut bytes: &[u8]) {
+        self.len += bytes.len() as u64;
+        while !self.carry.is_empty() && !bytes.is_empty() {
+            self.carry.push(bytes[0]);
+            bytes = &bytes[1..];
+            if self.carry.len() == 8 {
+                let mut a = [0u8; 8];
+                a.copy_from_slice(&self.carry);
+                self.h = (self.h ^ u64::from_le_bytes(a)).wrapping_mul(FNV_PRIME);
+                self.carry.clear();
+            }
+        }
+        let words = bytes.chunks_exact(8);
+        let tail = words.remainder();
+        for w in words {
+            let mut a = [0u8; 8];
+            a.copy_from_slice(w);
+            self.h = (self.h ^ u64::from_le_bytes(a)).wrapping_mul(FNV_PRIME);
+        }
+        self.carry.extend_from_slice(tail);
+    }
+
+    /// The fingerprint as 16 hex digits.
+    pub fn finish(&self) -> String {
+        let mut h = self.h;
+        for &b in &self.carry {
+            h = (h ^ b as u64).wrapping_mul(FNV_PRIME);
+        }
+        h = (h ^ self.len).wrapping_mul(FNV_PRIME);
+        format!("{h:016x}")
+    }
+}
+
+/// The fingerprint of `bytes` in one go.
+pub fn fingerprint(bytes: &[u8]) -> String {
+    let mut f = Fingerprint::default();
+    f.update(bytes);
+    f.finish()
+}
+
+impl Row {
+    /// The row as one CSV record (no newline handling: the writer adds it) in `columns` order.
+    pub fn csv_fields(&self, columns: &[String]) -> Vec<String> {
+        let flat: HashMap<String, String> = self
+            .result
+            .as_ref()
+            .map(|v| crate::report::wire::flatten(v).into_iter().collect())
+            .unwrap_or_default();
+        columns
+            .iter()
+            .map(|c| match c.as_str() {
+                "file" => self.file.clone(),
+                "status" => self.status.as_str().to_string(),
+                "message" => self.message.clone(),
+                "content_hash" => self.content_hash.clone(),
+                "settings_hash" => self.settings_hash.clone(),
+                "settings" => self.settings.clone(),
+                other => flat.get(other).cloned().unwrap_or_default(),
+            })
+            .collect()
+    }
+
+    /// The row as one JSON object: the lead keys, then the result's keys.
+    pub fn json(&self) -> Value {
+        let mut m = Map::new();
+        m.insert("file".into(), self.file.clone().into());
+        m.insert("status".into(), self.status.as_str().into());
+        m.insert("message".into(), self.message.clone().into());
+        m.insert("content_hash".into(), self.content_hash.clone().into());
+        m.insert("settings_hash".into(), self.settings_hash.clone().into());
+        m.insert(
+            "settings".into(),
+            serde_json::from_str(&self.settings).unwrap_or(Value::Null),
+        );
+        if let Some(Value::Object(r)) = &self.result {
+            for (k, v) in r {
+                if k != "file" {
+                    m.insert(k.clone(), v.clone());
+                }
+            }
+        }
+        Value::Object(m)
+    }
+
+    /// The whole line as written to the summary (with its newline).
+    pub fn line(&self, format: SummaryFormat, columns: &[String]) -> io::Result<String> {
+        match format {
+            SummaryFormat::Json => Ok(format!("{}\n", self.json())),
+            SummaryFormat::Csv => csv_line(&self.csv_fields(columns)),
+        }
+    }
+}
+
+/// One CSV record as a line.
+pub fn csv_line<S: AsRef<[u8]>>(fields: &[S]) -> io::Result<String> {
+    let mut w = ::csv::Writer::from_writer(Vec::new());
+    w.write_record(fields).map_err(io::Error::other)?;
+    let bytes = w
+        .into_inner()
+        .map_err(|e| io::Error::other(e.to_string()))?;
+    String::from_utf8(bytes).map_err(io::Error::other)
+}
+
+/// A row of an earlier summary, kept as written.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PastRow {
+    /// Content fingerprint when it was written.
+    pub content_hash: String,
+    /// Settings fingerprint when it was written.
+    pub settings_hash: String,
+    /// The line exactly as it should be written again.
+    pub line: String,
+    /// Its status word.
+    pub status: String,
+    /// Some verdict in it was `outside` or `fail`.
+    pub verdict_failed: bool,
+}
+
+fn failed_verdict(expected: &str, meter: &str) -> bool {
+    expected == "outside" || meter == "fail"
+}
+
+/// Reads an earlier summary for `--resume`: rows by file. A file that is missing, empty, of the
+/// other format or with other columns gives nothing to reuse. A last line cut short is dropped.
+pub fn read_past(
+    path: &Path,
+    format: SummaryFormat,
+    columns: &[String],
+) -> HashMap<String, PastRow> {
+    let mut out = HashMap::new();
+    let Ok(file) = std::fs::File::open(path) else {
+        return out;
+    };
+    match format {
+        SummaryFormat::Json => {
+            for line in io::BufReader::new(file).lines() {
+                let Ok(line) = line else { break };
+                let Ok(Value::Object(m)) = serde_json::from_str::<Value>(&line) else {
+                    continue;
+                };
+                let get = |k: &str| m.get(k).and_then(Value::as_str).unwrap_or("").to_string();
+                let verdict = |k: &str| {
+                    m.get(k)
+                        .and_then(|o| o.get("verdict"))
+                        .and_then(Value::as_str)
+                        .unwrap_or("")
+                        .to_string()
+                };
+                out.insert(
+                    get("file"),
+                    PastRow {
+                        content_hash: get("content_hash"),
+                        settings_hash: get("settings_hash"),
+                        line: format!("{line}\n"),
+                        status: get("status"),
+                        verdict_failed: failed_verdict(&verdict("expected"), &verdict("meter")),
+                    },
+                );
+            }
+        }
+        SummaryFormat::Csv => {
+            let mut rdr = ::csv::ReaderBuilder::new()
+                .has_headers(true)
+                .from_reader(io::BufReader::new(file));
+            let header_ok = rdr
+                .headers()
+                .map(|h| h.iter().eq(columns.iter().map(String::as_str)))
+                .unwrap_or(false);
+            if !header_ok {
+                return out;
+            }
+            let col = |name: &str| columns.iter().position(|c| c == name);
+            let (ev, mv) = (col("expected.verdict"), col("meter.verdict"));
+            for rec in rdr.records() {
+                let Ok(rec) = rec else { break };
+                if rec.len() != columns.len() {
+                    continue;
+                }
+                let Ok(line) = csv_line(&rec.iter().collect::<Vec<_>>()) else {
+                    continue;
+                };
+                out.insert(
+                    rec[0].to_string(),
+                    PastRow {
+                        content_hash: rec[3].to_string(),
+                        settings_hash: rec[4].to_string(),
+                        line,
+                        status: rec[1].to_string(),
+                        verdict_failed: failed_verdict(
+                            ev.and_then(|k| rec.get(k)).unwrap_or(""),
+                            mv.and_then(|k| rec.get(k)).unwrap_or(""),
+                        ),
+                    },
+                );
+            }
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn fingerprints_are_stable_and_tell_contents_apart() {
+        // fixed value: the fingerprint must never change between versions, or --resume
+        // would redo every file (FNV-1a offset basis times the prime: the empty input)
+        assert_eq!(
+            fingerprint(b""),
+            format!("{:016x}", 0xcbf2_9ce4_8422_2325u64.wrapping_mul(FNV_PRIME))
+        );
+        assert_ne!(fingerprint(b"1,2,3\n"), fingerprint(b"1,2,4\n"));
+        assert_ne!(fingerprint(b"abcdefgh"), fingerprint(b"abcdefg"));
+        assert_ne!(fingerprint(b"\0"), fingerprint(b""));
+        // pieces of any size give the same fingerprint as the whole
+        let data: Vec<u8> = (0..1000u32).map(|k| (k * 31 % 251) as u8).collect();
+        for cut in [1, 3, 7, 8, 9, 64, 999] {
+            let mut f = Fingerprint::default();
+            for piece in data.chunks(cut) {
+                f.update(piece);
+            }
+            assert_eq!(f.finish(), fingerprint(&data), "pieces of {cut}");
+        }
+    }
+
+    #[test]
+    fn csv_rows_round_trip_through_a_past_summary() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("s.csv");
+        let columns: Vec<String> = LEAD_COLUMNS.iter().map(|s| s.to_string()).collect();
+        let row = Row {
+            file: "site/a \"quoted\", name.csv".into(),
+            status: Status::Error,
+            message: "line 3: bad, very bad".into(),
+            content_hash: "00ff".into(),
+            settings_hash: "aa".into(),
+            settings: "{\"v_scale\":100}".into(),
+            result: None,
+            verdict_failed: false,
+        };
+        let text = format!(
+            "{}{}",
+            csv_line(&columns).unwrap(),
+            row.line(SummaryFormat::Csv, &columns).unwrap()
+        );
+        std::fs::write(&path, &text).unwrap();
+        let past = read_past(&path, SummaryFormat::Csv, &columns);
+        let p = &past["site/a \"quoted\", name.csv"];
+        assert_eq!(p.line, row.line(SummaryFormat::Csv, &columns).unwrap());
+        assert_eq!(
+            (p.content_hash.as_str(), p.settings_hash.as_str()),
+            ("00ff", "aa")
+        );
+    }
+}

@@ -1,0 +1,317 @@
+//! `batch` from the command line: nested folders with sidecars, bad and skipped files, an
+//! interrupted run resumed, shards, standard input, exit codes.
+
+use assert_cmd::Command;
+use std::path::{Path, PathBuf};
+use std::process::Stdio;
+use std::time::{Duration, Instant};
+use tempfile::TempDir;
+use tracephase::synth::{Spec, Waveform, synthesize};
+
+fn tracephase() -> Command {
+    Command::cargo_bin("tracephase").unwrap()
+}
+
+/// Writes a capture of 230 V and `amps` A lagging `lag` degrees, with the current divided by
+/// `clamp` (as a clamp with that ratio would give it): invented test data, truth in the call.
+fn capture(path: &Path, amps: f64, lag: f64, clamp: f64, samples: usize) {
+    let rate = 10_000.0;
+    let spec = Spec::clean(
+        rate,
+        50.0,
+        samples,
+        Waveform::sine(230.0, 0.0).with(5, 4.0, 10.0),
+        Waveform::sine(amps, -lag),
+    );
+    let (v, i) = synthesize(&spec);
+    let mut text = String::from("t,v,i\n");
+    for (k, (a, b)) in v.iter().zip(&i).enumerate() {
+        text.push_str(&format!("{:.6},{a:.4},{:.6}\n", k as f64 / rate, b / clamp));
+    }
+    std::fs::create_dir_all(path.parent().unwrap()).unwrap();
+    std::fs::write(path, text).unwrap();
+}
+
+/// site/
+///   tracephase.toml        i_scale = 10 (every capture under site/ went through a 10:1 clamp)
+///   feeder-a.csv           10 A, 30°
+///   notes.pdf              skipped
+///   motors/
+///     tracephase.toml      i_scale = 100 for files matching "*-big.csv"; harmonics = 13
+///     m1.csv               5 A, 40° (10:1 clamp, from the parent sidecar)
+///     m2-big.csv           50 A, 20° (100:1 clamp)
+///     broken.csv           text, not numbers
+fn site() -> TempDir {
+    let dir = TempDir::new().unwrap();
+    let s = dir.path().join("site");
+    capture(&s.join("feeder-a.csv"), 10.0, 30.0, 10.0, 2000);
+    capture(&s.join("motors/m1.csv"), 5.0, 40.0, 10.0, 2000);
+    capture(&s.join("motors/m2-big.csv"), 50.0, 20.0, 100.0, 2000);
+    std::fs::write(s.join("notes.pdf"), "not a capture").unwrap();
+    std::fs::write(s.join("motors/broken.csv"), "t,v,i\n0,a,b\n1,c,d\n").unwrap();
+    std::fs::write(s.join("tracephase.toml"), "i_scale = 10\n").unwrap();
+    std::fs::write(
+        s.join("motors/tracephase.toml"),
+        "harmonics = 13\n[[files]]\npattern = \"*-big.csv\"\ni_scale = 100\n",
+    )
+    .unwrap();
+    dir
+}
+
+fn rows(csv_text: &str) -> Vec<csv::StringRecord> {
+    csv::Reader::from_reader(csv_text.as_bytes())
+        .records()
+        .map(|r| r.unwrap())
+        .collect()
+}
+
+fn column(csv_text: &str, name: &str) -> usize {
+    let mut r = csv::Reader::from_reader(csv_text.as_bytes());
+    r.headers().unwrap().iter().position(|h| h == name).unwrap()
+}
+
+#[test]
+fn a_nested_site_gets_one_row_per_capture_with_its_sidecar_settings() {
+    let dir = site();
+    let out = dir.path().join("summary.csv");
+    let assert = tracephase()
+        .args(["batch", "--jobs", "2", "--out"])
+        .arg(&out)
+        .arg(dir.path().join("site"))
+        .assert()
+        .code(2); // broken.csv could not be read
+    let err = String::from_utf8(assert.get_output().stderr.clone()).unwrap();
+    assert!(err.contains("broken.csv"), "{err}");
+    assert!(err.contains("1 other files skipped"), "{err}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    let rs = rows(&text);
+    assert_eq!(rs.len(), 4, "{text}");
+    let (file, status, irms, order, angle) = (
+        column(&text, "file"),
+        column(&text, "status"),
+        column(&text, "current.rms"),
+        column(&text, "harmonic_order"),
+        column(&text, "phase_angle_deg.dft"),
+    );
+    // sorted by path: feeder-a, motors/broken, motors/m1, motors/m2-big
+    let names: Vec<&str> = rs
+        .iter()
+        .map(|r| r[file].rsplit('/').next().unwrap())
+        .collect();
+    assert_eq!(
+        names,
+        vec!["feeder-a.csv", "broken.csv", "m1.csv", "m2-big.csv"]
+    );
+    assert_eq!(&rs[1][status], "error");
+    let expect = [
+        (0, 10.0, 30.0, "50"),
+        (2, 5.0, 40.0, "13"),
+        (3, 50.0, 20.0, "13"),
+    ];
+    for (k, amps, lag, h) in expect {
+        let got: f64 = rs[k][irms].parse().unwrap();
+        assert!((got / amps - 1.0).abs() < 1e-3, "{}: {got} A", &rs[k][file]);
+        let a: f64 = rs[k][angle].parse().unwrap();
+        assert!((a - lag).abs() < 0.01, "{a}");
+        assert_eq!(&rs[k][order], h, "{}", &rs[k][file]);
+    }
+    // the settings used are recorded per row
+    let settings = column(&text, "settings");
+    assert!(
+        rs[3][settings].contains("\"i_scale\":100.0"),
+        "{}",
+        &rs[3][settings]
+    );
+    assert!(
+        rs[2][settings].contains("\"i_scale\":10.0"),
+        "{}",
+        &rs[2][settings]
+    );
+}
+
+#[test]
+fn command_line_settings_override_sidecars() {
+    let dir = site();
+    let out = tracephase()
+        .args(["batch", "--i-scale", "1", "--format", "json"])
+        .arg(dir.path().join("site/feeder-a.csv"))
+        .assert()
+        .get_output()
+        .stdout
+        .clone();
+    let row: serde_json::Value =
+        serde_json::from_str(String::from_utf8(out).unwrap().lines().next().unwrap()).unwrap();
+    // the file's own folder holds the i_scale = 10 sidecar, but --i-scale 1 wins
+    let irms = row["current"]["rms"].as_f64().unwrap();
+    assert!((irms - 1.0).abs() < 1e-3, "{irms}");
+    assert_eq!(row["status"], "warning");
+}
+
+/// Kills a batch run midway, checks the summary it left, resumes, and compares with an
+/// uninterrupted run row for row.
+#[test]
+fn an_interrupted_run_leaves_a_valid_summary_and_resume_finishes_it_identically() {
+    let dir = TempDir::new().unwrap();
+    let folder = dir.path().join("visit");
+    for k in 0..120 {
+        capture(
+            &folder.join(format!("c{k:03}.csv")),
+            1.0 + k as f64 / 10.0,
+            (k % 70) as f64,
+            1.0,
+            40_000,
+        );
+    }
+    let full = dir.path().join("full.csv");
+    tracephase()
+        .args(["batch", "--jobs", "2", "--out"])
+        .arg(&full)
+        .arg(&folder)
+        .assert()
+        .success();
+    let part = dir.path().join("part.csv");
+    let mut child = std::process::Command::new(assert_cmd::cargo::cargo_bin("tracephase"))
+        .args(["batch", "--jobs", "1", "--out"])
+        .arg(&part)
+        .arg(&folder)
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let t0 = Instant::now();
+    loop {
+        let lines = std::fs::read_to_string(&part)
+            .map(|t| t.lines().count())
+            .unwrap_or(0);
+        if lines > 10 || t0.elapsed() > Duration::from_secs(60) {
+            break;
+        }
+        std::thread::sleep(Duration::from_millis(5));
+    }
+    child.kill().unwrap(); // SIGKILL
+    let status = child.wait().unwrap();
+    let left = std::fs::read_to_string(&part).unwrap();
+    let left_rows = rows(&left);
+    assert!(!status.success(), "the run ended before it could be killed");
+    assert!(
+        left_rows.len() >= 10 && left_rows.len() < 120,
+        "{} rows",
+        left_rows.len()
+    );
+    let full_text = std::fs::read_to_string(&full).unwrap();
+    let width = rows(&full_text)[0].len();
+    // every row that made it is complete and equal to the uninterrupted run's
+    let full_lines: Vec<&str> = full_text.lines().collect();
+    for (k, l) in left.lines().enumerate().take(left_rows.len() + 1) {
+        assert_eq!(l, full_lines[k]);
+    }
+    assert!(left_rows.iter().all(|r| r.len() == width));
+    tracephase()
+        .args(["batch", "--jobs", "2", "--resume", "--out"])
+        .arg(&part)
+        .arg(&folder)
+        .assert()
+        .success()
+        .stderr(predicates::str::contains("kept from the earlier summary"));
+    assert_eq!(std::fs::read_to_string(&part).unwrap(), full_text);
+}
+
+#[test]
+fn resume_redoes_a_changed_file_and_keeps_the_rest() {
+    let dir = site();
+    std::fs::remove_file(dir.path().join("site/motors/broken.csv")).unwrap();
+    let out = dir.path().join("s.csv");
+    let run = |extra: &[&str]| {
+        tracephase()
+            .args(["batch", "--out"])
+            .arg(&out)
+            .args(extra)
+            .arg(dir.path().join("site"))
+            .assert()
+            .success()
+            .get_output()
+            .stderr
+            .clone()
+    };
+    run(&[]);
+    capture(
+        &dir.path().join("site/motors/m1.csv"),
+        6.0,
+        40.0,
+        10.0,
+        2000,
+    );
+    let err = String::from_utf8(run(&["--resume"])).unwrap();
+    assert!(err.contains("(2 kept from the earlier summary)"), "{err}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    let irms = column(&text, "current.rms");
+    let m1: f64 = rows(&text)[1][irms].parse().unwrap();
+    assert!((m1 - 6.0).abs() < 1e-2, "{m1}");
+}
+
+#[test]
+fn shards_split_a_folder_and_stdin_lists_files() {
+    let dir = site();
+    std::fs::remove_file(dir.path().join("site/motors/broken.csv")).unwrap();
+    let files = |shard: &str| -> Vec<String> {
+        let out = tracephase()
+            .args(["batch", "--format", "json", "--shard", shard])
+            .arg(dir.path().join("site"))
+            .assert()
+            .success()
+            .get_output()
+            .stdout
+            .clone();
+        String::from_utf8(out)
+            .unwrap()
+            .lines()
+            .map(|l| serde_json::from_str::<serde_json::Value>(l).unwrap()["file"].to_string())
+            .collect()
+    };
+    let (a, b) = (files("1/2"), files("2/2"));
+    assert_eq!((a.len(), b.len()), (2, 1));
+    assert!(a.iter().all(|f| !b.contains(f)));
+    let list: Vec<PathBuf> = ["site/feeder-a.csv", "site/motors/m1.csv"]
+        .iter()
+        .map(|p| dir.path().join(p))
+        .collect();
+    let stdin = list
+        .iter()
+        .map(|p| p.display().to_string())
+        .collect::<Vec<_>>()
+        .join("\n");
+    let out = tracephase()
+        .args(["batch", "--format", "json", "-"])
+        .write_stdin(stdin)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    assert_eq!(String::from_utf8(out).unwrap().lines().count(), 2);
+}
+
+#[test]
+fn a_failed_verdict_gives_exit_code_1() {
+    let dir = TempDir::new().unwrap();
+    // a 30° capture against a model of a pure resistor (0° ± 0): outside
+    capture(&dir.path().join("a.csv"), 10.0, 30.0, 1.0, 2000);
+    std::fs::write(
+        dir.path().join("r.toml"),
+        "network = \"R1\"\n[parts.R1]\nvalue = \"23 ohm\"\ntolerance = \"±1%\"\n",
+    )
+    .unwrap();
+    std::fs::write(dir.path().join("tracephase.toml"), "expect = \"r.toml\"\n").unwrap();
+    let out = tracephase()
+        .args(["batch", "--draws", "1000"])
+        .arg(dir.path())
+        .assert()
+        .code(1)
+        .get_output()
+        .stdout
+        .clone();
+    let text = String::from_utf8(out).unwrap();
+    assert_eq!(
+        &rows(&text)[0][column(&text, "expected.verdict")],
+        "outside"
+    );
+}
