@@ -159,11 +159,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             source,
         })?;
     let mut warnings = std::mem::take(&mut capture.warnings);
-    let (clip_v, clip_i) = std::thread::scope(|s| {
-        let h = s.spawn(|| condition::clipping(v));
-        let ci = condition::clipping(i);
-        (h.join().ok().flatten(), ci)
-    });
+    let (clip_v, clip_i) = rayon::join(|| condition::clipping(v), || condition::clipping(i));
     for (y, t, clip) in [(v, Trace::Voltage, clip_v), (i, Trace::Current, clip_i)] {
         if let Some(percent) = clip {
             warnings.push(Warning::Clipping { trace: t, percent });

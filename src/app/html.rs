@@ -1,16 +1,284 @@
-//! `report`: captures analysed and written as one self-contained HTML file (scaffolding: the
-//! HTML writer is being built).
+//! `report`: captures analysed (and compared with a model) and written as one self-contained
+//! HTML file, with each plot optionally also written as its own SVG file.
+//!
+//! The HTML is rendered in memory, written to a temporary file beside the output and renamed
+//! over it, so an interrupted run never leaves half a report. Bad files give one `error:` line
+//! each and still appear in the report as failed entries.
 
-use super::Outcome;
+use super::bank::analyse_file;
+use super::{ConfigError, Outcome, compare_with_model, resolve_channels, resolve_monte_carlo};
+use crate::analysis::{Analysis, Settings};
+use crate::capture::LoadOptions;
+use crate::check::circuit::Circuit;
+use crate::check::expected::{Expectation, expectation};
+use crate::check::tolerance::{Distribution, MonteCarloConfig};
 use crate::cli::ReportArgs;
-use std::io::Write;
+use crate::report::html::{Entry, HtmlDoc, settings_rows, write_html};
+use crate::report::plot::{self, Plot, PlotOptions};
+use std::collections::HashMap;
+use std::fs;
+use std::io::{self, Write};
+use std::path::{Path, PathBuf};
+
+/// Settings for one `report` run, validated before any file is read.
+struct ReportConfig {
+    load: LoadOptions,
+    settings: Settings,
+    expect: Option<(Circuit, MonteCarloConfig)>,
+}
+
+fn config(a: &ReportArgs) -> Result<ReportConfig, ConfigError> {
+    let (load, mut settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
+    if !(a.pf_threshold > 0.0 && a.pf_threshold <= 1.0) {
+        return Err(ConfigError(format!(
+            "--pf-threshold must be above 0 and at most 1, not {}",
+            a.pf_threshold
+        )));
+    }
+    settings.pf_threshold = a.pf_threshold;
+    let expect = match &a.expect {
+        Some(path) => Some((
+            Circuit::load(path).map_err(|e| ConfigError(e.to_string()))?,
+            resolve_monte_carlo(&a.monte_carlo)?,
+        )),
+        None => None,
+    };
+    Ok(ReportConfig {
+        load,
+        settings,
+        expect,
+    })
+}
+
+/// One file's result: the analysis and its model prediction, or the file and why it failed.
+type FileResult = Result<(Analysis, Option<Expectation>), (String, String)>;
 
 /// Runs `report`.
-pub fn run_report(a: &ReportArgs, _out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
+pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
+    let cfg = match config(a) {
+        Ok(c) => c,
+        Err(e) => {
+            let _ = writeln!(err, "error: {e}");
+            return Outcome::InputErrors;
+        }
+    };
+    let mut outcome = Outcome::Ok;
+    let mut results: Vec<FileResult> = Vec::with_capacity(a.files.len());
+    for path in &a.files {
+        match analyse_file(path, &cfg.load, &cfg.settings) {
+            Ok(mut an) => {
+                let mut predicted = None;
+                if let Some((circuit, mc)) = &cfg.expect {
+                    compare_with_model(&mut an, circuit, mc);
+                    if let Some(e) = &an.expected {
+                        predicted = Some(expectation(circuit, e.frequency_hz, mc));
+                        if e.failed() {
+                            outcome = outcome.worst(Outcome::VerdictFailed);
+                        }
+                    }
+                }
+                results.push(Ok((an, predicted)));
+            }
+            Err(msg) => {
+                let _ = writeln!(err, "error: {msg}");
+                outcome = outcome.worst(Outcome::InputErrors);
+                let file = path.display().to_string();
+                let message = msg
+                    .strip_prefix(&format!("{file}: "))
+                    .unwrap_or(&msg)
+                    .to_string();
+                results.push(Err((file, message)));
+            }
+        }
+    }
+    let options = PlotOptions::default();
+    let entries: Vec<Entry> = results
+        .iter()
+        .map(|r| match r {
+            Ok((analysis, predicted)) => Entry::Analysed {
+                analysis,
+                expectation: predicted.as_ref(),
+            },
+            Err((file, message)) => Entry::Failed {
+                file: file.clone(),
+                message: message.clone(),
+            },
+        })
+        .collect();
+    let title = match a.files.as_slice() {
+        [one] => format!("tracephase report: {}", one.display()),
+        many => format!("tracephase report: {} captures", many.len()),
+    };
+    let mut doc = HtmlDoc::new(title, entries);
+    doc.settings = settings_rows(&cfg.settings);
+    if let Some((circuit, mc)) = &cfg.expect {
+        doc.settings.push((
+            "circuit model".into(),
+            format!(
+                "{} ({})",
+                a.expect
+                    .as_deref()
+                    .map(|p| p.display().to_string())
+                    .unwrap_or_default(),
+                circuit.describe()
+            ),
+        ));
+        doc.settings.push((
+            "Monte Carlo".into(),
+            format!(
+                "{} draws, {}, seed {}",
+                mc.draws,
+                match mc.distribution {
+                    Distribution::Uniform => "uniform",
+                    Distribution::Normal => "normal",
+                },
+                mc.seed
+            ),
+        ));
+    }
+    doc.plot_options = options;
+    doc.pf_threshold = Some(cfg.settings.pf_threshold);
+
+    let mut html = Vec::new();
+    let written = write_html(&mut html, &doc).and_then(|()| write_atomically(&a.output, &html));
+    if let Err(e) = written {
+        let _ = writeln!(
+            err,
+            "error: {}: could not write the report: {e}",
+            a.output.display()
+        );
+        return Outcome::InputErrors;
+    }
+    let failed = results.iter().filter(|r| r.is_err()).count();
     let _ = writeln!(
-        err,
-        "error: {}: the HTML report is not available in this build yet",
-        a.output.display()
+        out,
+        "wrote {} ({} capture{}{})",
+        a.output.display(),
+        results.len(),
+        if results.len() == 1 { "" } else { "s" },
+        if failed > 0 {
+            format!(", {failed} could not be read")
+        } else {
+            String::new()
+        }
     );
-    Outcome::InputErrors
+    if let Some(dir) = &a.plot_dir {
+        let mut used: HashMap<String, usize> = HashMap::new();
+        let mut count = 0;
+        for (an, predicted) in results.iter().flatten() {
+            let base = file_stem(an);
+            let seen = used.entry(base.clone()).or_insert(0);
+            *seen += 1;
+            let stem = if *seen == 1 {
+                base
+            } else {
+                format!("{base}-{seen}")
+            };
+            let plots = plot::plots_with(an, &options, predicted.as_ref());
+            match write_plots(dir, &stem, &plots) {
+                Ok(paths) => count += paths.len(),
+                Err(e) => {
+                    let _ = writeln!(
+                        err,
+                        "error: {}: could not write the plots: {e}",
+                        dir.display()
+                    );
+                    return Outcome::InputErrors;
+                }
+            }
+        }
+        let _ = writeln!(out, "wrote {count} plots to {}", dir.display());
+    }
+    let _ = out.flush();
+    outcome
+}
+
+/// Writes every plot of `a` (default options) as `STEM-NAME.svg` into `dir`, creating it, and
+/// returns the paths written. STEM is the capture's file stem, made safe for any file system.
+pub fn write_plot_dir(dir: &Path, a: &Analysis) -> io::Result<Vec<PathBuf>> {
+    write_plots(
+        dir,
+        &file_stem(a),
+        &plot::plots_with(a, &PlotOptions::default(), None),
+    )
+}
+
+fn write_plots(dir: &Path, stem: &str, plots: &[Plot]) -> io::Result<Vec<PathBuf>> {
+    fs::create_dir_all(dir)?;
+    let mut written = Vec::new();
+    for p in plots {
+        if let Ok(svg) = &p.svg {
+            let path = dir.join(format!("{stem}-{}.svg", p.name));
+            write_atomically(&path, svg.as_bytes())?;
+            written.push(path);
+        }
+    }
+    Ok(written)
+}
+
+fn file_stem(a: &Analysis) -> String {
+    sanitise(
+        &a.path
+            .file_stem()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_default(),
+    )
+}
+
+/// A file name part that is safe everywhere: ASCII letters, digits, `-`, `_` and inner `.`;
+/// anything else becomes `_`; never empty, never starting with a dot.
+pub fn sanitise(stem: &str) -> String {
+    let s: String = stem
+        .chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || matches!(c, '-' | '_' | '.') {
+                c
+            } else {
+                '_'
+            }
+        })
+        .take(120)
+        .collect();
+    let s = s.trim_start_matches('.').to_string();
+    if s.is_empty() { "capture".into() } else { s }
+}
+
+/// Writes `bytes` to a temporary file beside `path`, then renames it over `path`.
+fn write_atomically(path: &Path, bytes: &[u8]) -> io::Result<()> {
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path
+        .file_name()
+        .ok_or_else(|| io::Error::other("the output path names no file"))?;
+    let tmp = dir.join(format!(
+        ".{}.{}.tmp",
+        name.to_string_lossy(),
+        std::process::id()
+    ));
+    let result = (|| {
+        let mut f = fs::File::create(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = fs::remove_file(&tmp);
+    }
+    result
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn stems_are_made_safe() {
+        assert_eq!(sanitise("demo-plant feeder"), "demo-plant_feeder");
+        assert_eq!(sanitise("<script>x"), "_script_x");
+        assert_eq!(sanitise("..hidden"), "hidden");
+        assert_eq!(sanitise(""), "capture");
+        assert_eq!(sanitise("Zähler.1"), "Z_hler.1");
+    }
 }

@@ -124,7 +124,7 @@ pub fn few_levels(y: &[f64]) -> Option<usize> {
     if s.len() < 256 {
         return None;
     }
-    s.sort_by(f64::total_cmp);
+    s.sort_unstable_by(f64::total_cmp);
     s.dedup();
     (s.len() < 20).then_some(s.len())
 }

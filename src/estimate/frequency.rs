@@ -47,7 +47,7 @@ pub fn coarse(y: &[f64], fs: f64) -> Option<f64> {
     let peak = (first..mag.len() - 1).max_by(|&a, &b| mag[a].total_cmp(&mag[b]))?;
     // The peak must stand well above the spectrum's median (noise floor).
     let mut sorted = mag[first..].to_vec();
-    sorted.sort_by(f64::total_cmp);
+    sorted.sort_unstable_by(f64::total_cmp);
     let median = sorted[sorted.len() / 2];
     if !(mag[peak] > 10.0 * median) {
         return None;

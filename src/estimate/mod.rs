@@ -349,14 +349,8 @@ pub fn estimate(
     })
 }
 
-/// Runs `a` on a second thread and `b` on this one, and returns both results.
+/// Runs `a` and `b`, in parallel when a core is free (rayon's work stealing, so a batch that
+/// already keeps every core busy does not start more threads than cores).
 fn both<A: Send, B: Send>(a: impl FnOnce() -> A + Send, b: impl FnOnce() -> B + Send) -> (A, B) {
-    std::thread::scope(|scope| {
-        let handle = scope.spawn(a);
-        let rb = b();
-        match handle.join() {
-            Ok(ra) => (ra, rb),
-            Err(panic) => std::panic::resume_unwind(panic),
-        }
-    })
+    rayon::join(a, b)
 }

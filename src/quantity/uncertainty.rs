@@ -207,7 +207,7 @@ fn rss(parts: &[f64]) -> f64 {
 fn observed_step(y: &[f64]) -> f64 {
     let stride = (y.len() / 4096).max(1);
     let mut s: Vec<f64> = y.iter().step_by(stride).copied().collect();
-    s.sort_by(f64::total_cmp);
+    s.sort_unstable_by(f64::total_cmp);
     s.windows(2)
         .map(|w| w[1] - w[0])
         .filter(|d| *d > 0.0)

@@ -7,8 +7,10 @@
 pub mod bank;
 mod csv;
 pub mod expect;
+pub mod html;
 mod json;
 pub mod meter;
+pub mod plot;
 pub(crate) mod table;
 pub mod wire;
 

@@ -1,0 +1,1034 @@
+//! One self-contained HTML report: inline CSS and SVG, no script, nothing fetched, readable
+//! offline and printable.
+//!
+//! Sections: title and a generation note; inputs and settings; for several captures a summary
+//! table (status per file) and a histogram of their power factors; per capture its results
+//! (`value ± U`), the verdict against a circuit model when there is one, its plots and warnings;
+//! the capacitor bank and meter checks when given; the methods; the safety cautions.
+//!
+//! The report holds no date, time, host or anything else that changes from run to run: the same
+//! inputs give the same bytes. Every string that comes from a file name or a file's content goes
+//! through [`escape`].
+
+use super::plot::{self, Plot, PlotOptions};
+use super::table::{num, pm};
+use crate::analysis::{Analysis, Settings};
+use crate::check::bank::{BankReport, Nameplate};
+use crate::check::decision::Verdict;
+use crate::check::expected::{Expectation, Expected};
+use crate::check::meter::MeterReport;
+use std::fmt::Write as _;
+use std::io::{self, Write};
+
+/// Escapes text for HTML element content and quoted attribute values.
+pub fn escape(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&#39;"),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// The status of one file in a summary.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Status {
+    /// Analysed, nothing to report.
+    Ok,
+    /// Analysed, with warnings or a verdict that is not `consistent`.
+    Warning,
+    /// Could not be read or analysed.
+    Error,
+}
+
+impl Status {
+    /// The word shown.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Status::Ok => "ok",
+            Status::Warning => "warning",
+            Status::Error => "error",
+        }
+    }
+}
+
+/// One line of a summary table.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BatchRow {
+    /// The file as given.
+    pub file: String,
+    /// Its status.
+    pub status: Status,
+    /// Why (the error, or the first warning); empty when ok.
+    pub message: String,
+}
+
+/// One capture in the report.
+#[derive(Debug, Clone)]
+pub enum Entry<'a> {
+    /// A capture that was analysed; `expectation` is its circuit model evaluated at the measured
+    /// frequency (for the Monte Carlo histogram), when compared with one.
+    Analysed {
+        /// The analysis.
+        analysis: &'a Analysis,
+        /// The model's prediction at the measured frequency.
+        expectation: Option<&'a Expectation>,
+    },
+    /// A file that could not be read or analysed.
+    Failed {
+        /// The file as given.
+        file: String,
+        /// The error, in one line.
+        message: String,
+    },
+}
+
+/// A capacitor bank check to include.
+#[derive(Debug, Clone, Copy)]
+pub struct BankSection<'a> {
+    /// The check.
+    pub report: &'a BankReport,
+    /// The nameplate it used.
+    pub nameplate: &'a Nameplate,
+    /// The capture with the bank out.
+    pub before: &'a Analysis,
+    /// The capture with the bank in.
+    pub after: &'a Analysis,
+}
+
+/// A meter check to include.
+#[derive(Debug, Clone, Copy)]
+pub struct MeterSection<'a> {
+    /// The check.
+    pub report: &'a MeterReport,
+    /// The capture it was checked against.
+    pub analysis: &'a Analysis,
+}
+
+/// Everything one report shows.
+#[derive(Debug, Clone)]
+pub struct HtmlDoc<'a> {
+    /// The title.
+    pub title: String,
+    /// Inputs and settings, as (name, value) rows, in order.
+    pub settings: Vec<(String, String)>,
+    /// The captures, in input order.
+    pub entries: Vec<Entry<'a>>,
+    /// What the plots show.
+    pub plot_options: PlotOptions,
+    /// PF penalty threshold, drawn on the batch PF histogram.
+    pub pf_threshold: Option<f64>,
+    /// Summary rows of a batch; `None`: built from `entries` when there is more than one.
+    pub batch: Option<Vec<BatchRow>>,
+    /// A capacitor bank check.
+    pub bank: Option<BankSection<'a>>,
+    /// A meter check.
+    pub meter: Option<MeterSection<'a>>,
+}
+
+impl<'a> HtmlDoc<'a> {
+    /// A report of `entries` with default plot options and no checks.
+    pub fn new(title: impl Into<String>, entries: Vec<Entry<'a>>) -> Self {
+        HtmlDoc {
+            title: title.into(),
+            settings: Vec::new(),
+            entries,
+            plot_options: PlotOptions::default(),
+            pf_threshold: None,
+            batch: None,
+            bank: None,
+            meter: None,
+        }
+    }
+}
+
+/// The safety cautions of every report (the README's Safety section).
+pub const SAFETY: [&str; 5] = [
+    "Capturing these traces means measuring on live mains. This tool only reads files; the \
+     measurement is yours.",
+    "Use voltage probes and current clamps rated for the circuit: differential probes for line \
+     voltages, and a CAT rating (CAT II, III or IV) and working voltage that match the point of \
+     measurement. Check leads and probes before each use.",
+    "Never float an oscilloscope by removing or defeating its protective earth to measure between \
+     two live points: use rated differential probes or an isolated-input instrument.",
+    "Capacitor banks and power-factor capacitors hold a dangerous charge after disconnection. \
+     Wait the discharge time on the nameplate and verify with a meter before touching terminals.",
+    "Follow your local electrical codes, lock-out/tag-out procedures and licensed practice; where \
+     they and this text differ, they win.",
+];
+
+/// The methods, named as in the README's "Methods".
+const METHODS: [(&str, &str); 6] = [
+    (
+        "Frequency",
+        "a coarse estimate from a Hann-windowed FFT with two-point interpolation (interpolated \
+         DFT), checked against sub-multiples so a strong harmonic is not taken for the \
+         fundamental, then refined by the phase slope of harmonic least-squares fits over \
+         sub-records.",
+    ),
+    (
+        "Phasors",
+        "DC and harmonics 1..H fitted by least squares at the measured frequency (the IEEE Std \
+         1057 sine fit extended to all harmonics), exact on a non-integer number of cycles. The \
+         DFT phase angle is the angle of V1 minus the angle of I1.",
+    ),
+    (
+        "Zero crossings",
+        "crossings of each trace through its DC level, armed by a hysteresis band above the \
+         noise, each placed by a least-squares line through the samples near zero; rising and \
+         falling edges averaged over all cycles. Harmonics shift zero crossings; the DFT angle \
+         belongs to the fundamental.",
+    ),
+    (
+        "Quantities",
+        "IEEE Std 1459-2010 single-phase definitions; RMS and P are means over whole cycles, the \
+         rounding of that span to whole samples corrected with the fitted Fourier series. THD is \
+         THD-F, in percent of the fundamental.",
+    ),
+    (
+        "Uncertainty",
+        "expanded uncertainty U with coverage factor k = 2 by the GUM law of propagation (JCGM \
+         100:2008): Type A from the spread over sub-records of about 200 ms or the fit noise, Type \
+         B from the instrument limits in the settings, each rectangular.",
+    ),
+    (
+        "Verdicts",
+        "guarded acceptance with a guard band equal to U (ILAC-G8:09/2019): consistent (pass) \
+         when the value ± U lies inside the accepted band, outside (fail) when it lies wholly \
+         beyond it, otherwise inconclusive.",
+    ),
+];
+
+const CSS: &str = "\
+:root{--ink:#232b33;--muted:#5f6870;--rule:#d9dee3;--band:#f6f3ea;--v:#1f5f7a;--i:#c45a1c;\
+--pass:#2e7d4f;--fail:#a31f34;--unsure:#9a6200}\
+*{box-sizing:border-box}\
+body{margin:0;background:#fbfaf7;color:var(--ink);font:15px/1.5 system-ui,-apple-system,\
+'Segoe UI',Roboto,'Noto Sans','DejaVu Sans',sans-serif}\
+main{max-width:1000px;margin:0 auto;padding:24px 28px 48px;background:#fff;\
+border-left:1px solid var(--rule);border-right:1px solid var(--rule)}\
+header{border-bottom:3px solid var(--v);padding-bottom:10px;margin-bottom:18px}\
+h1{font-size:26px;margin:0 0 4px}h2{font-size:20px;margin:32px 0 8px;padding-top:10px;\
+border-top:1px solid var(--rule)}h3{font-size:16px;margin:20px 0 6px}\
+.note{color:var(--muted);font-size:13px;margin:2px 0}\
+table{border-collapse:collapse;margin:6px 0 12px;font-size:14px}\
+th,td{text-align:left;padding:3px 10px 3px 0;border-bottom:1px solid var(--rule);\
+vertical-align:top}th{font-weight:600;color:var(--muted)}\
+td.num{font-variant-numeric:tabular-nums;white-space:nowrap}\
+table.results td:first-child{min-width:230px}\
+.badge{display:inline-block;padding:0 8px;border-radius:9px;font-size:12px;font-weight:700;\
+letter-spacing:.04em;text-transform:uppercase;color:#fff;vertical-align:middle}\
+.ok,.pass,.consistent{background:var(--pass)}.warning,.inconclusive{background:var(--unsure)}\
+.error,.fail,.outside{background:var(--fail)}\
+figure{margin:12px 0 18px}figure svg{max-width:100%;height:auto;display:block;\
+border:1px solid var(--rule)}figcaption{color:var(--muted);font-size:13px;margin-top:4px}\
+.pair{display:flex;flex-wrap:wrap;gap:16px}.pair figure{flex:1 1 440px;margin:12px 0 18px}\
+ul.warn li{margin:2px 0}.verdict{background:var(--band);padding:8px 12px;border-left:4px solid \
+var(--muted);margin:8px 0}.safety{background:#fff4f0;border-left:4px solid var(--fail);\
+padding:6px 14px}.sign{margin-top:28px;color:var(--muted)}\
+code{font-size:13px}\
+@media print{body{background:#fff}main{border:0;max-width:none;padding:0}\
+h2{break-before:auto}figure{break-inside:avoid}}\
+";
+
+/// Writes `doc` as one HTML file.
+pub fn write_html(out: &mut dyn Write, doc: &HtmlDoc) -> io::Result<()> {
+    let mut h = String::with_capacity(1 << 20);
+    render(&mut h, doc).map_err(io::Error::other)?;
+    out.write_all(h.as_bytes())?;
+    out.flush()
+}
+
+fn render(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
+    let title = escape(&doc.title);
+    write!(
+        h,
+        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n\
+         <meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n\
+         <title>{title}</title>\n<style>{CSS}</style>\n</head>\n<body>\n<main>\n"
+    )?;
+    let analysed = doc
+        .entries
+        .iter()
+        .filter(|e| matches!(e, Entry::Analysed { .. }))
+        .count();
+    let failed = doc.entries.len() - analysed;
+    writeln!(h, "<header>\n<h1>{title}</h1>")?;
+    writeln!(
+        h,
+        "<p class=\"note\">Made by tracephase {} from {} capture file{} ({} analysed{}). The \
+         report holds no date or time, so the same captures and settings always give the same \
+         file; date and sign it at the end when it becomes a record.</p>\n</header>",
+        env!("CARGO_PKG_VERSION"),
+        doc.entries.len(),
+        if doc.entries.len() == 1 { "" } else { "s" },
+        analysed,
+        if failed > 0 {
+            format!(", {failed} could not be read")
+        } else {
+            String::new()
+        }
+    )?;
+    settings_section(h, doc)?;
+    let rows = doc
+        .batch
+        .clone()
+        .or_else(|| (doc.entries.len() > 1).then(|| summary_rows(&doc.entries)));
+    if let Some(rows) = rows {
+        summary_section(h, doc, &rows)?;
+    }
+    let mut k = 0;
+    for entry in &doc.entries {
+        k += 1;
+        match entry {
+            Entry::Analysed {
+                analysis,
+                expectation,
+            } => capture_section(h, k, analysis, *expectation, &doc.plot_options)?,
+            Entry::Failed { file, message } => {
+                writeln!(
+                    h,
+                    "<section id=\"capture-{k}\">\n<h2>{} <span class=\"badge error\">error\
+                     </span></h2>\n<p>This file could not be read or analysed: {}</p>\n</section>",
+                    escape(file),
+                    escape(message)
+                )?;
+            }
+        }
+    }
+    if let Some(b) = &doc.bank {
+        bank_section(h, b)?;
+    }
+    if let Some(m) = &doc.meter {
+        meter_section(h, m)?;
+    }
+    methods_section(h, doc)?;
+    safety_section(h, doc)?;
+    writeln!(
+        h,
+        "<p class=\"sign\">checked by ______________________________ &nbsp; date \
+         ______________</p>\n</main>\n</body>\n</html>"
+    )
+}
+
+/// The summary rows of `entries`: error for a failed file; warning when a capture has warnings
+/// or a verdict that is not consistent; ok otherwise.
+pub fn summary_rows(entries: &[Entry]) -> Vec<BatchRow> {
+    entries
+        .iter()
+        .map(|e| match e {
+            Entry::Failed { file, message } => BatchRow {
+                file: file.clone(),
+                status: Status::Error,
+                message: message.clone(),
+            },
+            Entry::Analysed { analysis: a, .. } => {
+                let mut notes: Vec<String> = Vec::new();
+                if let Some(x) = &a.expected
+                    && x.verdict != Verdict::Consistent
+                {
+                    notes.push(format!("expected angle: {}", x.verdict.as_str()));
+                }
+                notes.extend(a.warnings.iter().map(|w| w.to_string()));
+                let message = match notes.len() {
+                    0 => String::new(),
+                    1 => notes.remove(0),
+                    n => format!("{} (and {} more)", notes[0], n - 1),
+                };
+                BatchRow {
+                    file: a.path.display().to_string(),
+                    status: if message.is_empty() {
+                        Status::Ok
+                    } else {
+                        Status::Warning
+                    },
+                    message,
+                }
+            }
+        })
+        .collect()
+}
+
+/// Settings as report rows (name with unit, value), for [`HtmlDoc::settings`].
+pub fn settings_rows(s: &Settings) -> Vec<(String, String)> {
+    let u = &s.uncertainty;
+    let mut rows = vec![
+        ("voltage scale (V per unit)".into(), num(s.v_scale, 6)),
+        ("current scale (A per unit)".into(), num(s.i_scale, 6)),
+        ("current channel skew removed (s)".into(), num(s.skew_s, 4)),
+        ("highest harmonic order".into(), s.harmonics.to_string()),
+        ("PF penalty threshold".into(), num(s.pf_threshold, 3)),
+        (
+            "voltage probe ratio accuracy (± % of reading)".into(),
+            num(u.v_ratio_percent, 3),
+        ),
+        (
+            "current clamp ratio accuracy (± % of reading)".into(),
+            num(u.i_ratio_percent, 3),
+        ),
+        (
+            "probe pair phase error (± °)".into(),
+            num(u.phase_error_deg, 3),
+        ),
+        ("residual skew (± s)".into(), num(u.skew_s, 3)),
+        ("sample clock (± ppm)".into(), num(u.clock_ppm, 3)),
+    ];
+    rows.push((
+        "converter resolution".into(),
+        match &u.adc {
+            Some(adc) => format!(
+                "{} bits, full scale {} V and {} A",
+                adc.bits,
+                num(adc.v_full_scale, 4),
+                num(adc.i_full_scale, 4)
+            ),
+            None => "the smallest step seen in the samples".into(),
+        },
+    ));
+    rows
+}
+
+fn settings_section(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
+    writeln!(h, "<section id=\"inputs\">\n<h2>Inputs and settings</h2>")?;
+    writeln!(h, "<table>\n<tr><th>file</th><th>status</th></tr>")?;
+    for (k, e) in doc.entries.iter().enumerate() {
+        let (file, status) = match e {
+            Entry::Analysed { analysis, .. } => (analysis.path.display().to_string(), "analysed"),
+            Entry::Failed { file, .. } => (file.clone(), "could not be read"),
+        };
+        writeln!(
+            h,
+            "<tr><td><a href=\"#capture-{}\">{}</a></td><td>{status}</td></tr>",
+            k + 1,
+            escape(&file)
+        )?;
+    }
+    writeln!(h, "</table>")?;
+    let o = &doc.plot_options;
+    let lim = plot::spectrum::voltage_limits(o.bus_voltage_v);
+    let mut rows = doc.settings.clone();
+    rows.push((
+        "IEEE 519-2014 voltage row".into(),
+        match o.bus_voltage_v {
+            Some(v) => format!("{} ({} V bus)", lim.bus, num(v, 4)),
+            None => format!("{} (assumed: no bus voltage given)", lim.bus),
+        },
+    ));
+    rows.push((
+        "ISC/IL for current limits".into(),
+        o.isc_over_il
+            .map(|r| num(r, 4))
+            .unwrap_or_else(|| "not given: current limits not drawn".into()),
+    ));
+    writeln!(h, "<table>\n<tr><th>setting</th><th>value</th></tr>")?;
+    for (name, value) in &rows {
+        writeln!(
+            h,
+            "<tr><td>{}</td><td class=\"num\">{}</td></tr>",
+            escape(name),
+            escape(value)
+        )?;
+    }
+    writeln!(h, "</table>\n</section>")
+}
+
+fn summary_section(h: &mut String, doc: &HtmlDoc, rows: &[BatchRow]) -> std::fmt::Result {
+    writeln!(h, "<section id=\"summary\">\n<h2>Summary</h2>")?;
+    let count = |s: Status| rows.iter().filter(|r| r.status == s).count();
+    writeln!(
+        h,
+        "<p>{} files: {} ok, {} with warnings, {} with errors.</p>",
+        rows.len(),
+        count(Status::Ok),
+        count(Status::Warning),
+        count(Status::Error)
+    )?;
+    writeln!(
+        h,
+        "<table>\n<tr><th>file</th><th>status</th><th>true PF</th><th>phase angle (°)</th>\
+         <th>message</th></tr>"
+    )?;
+    for row in rows {
+        let found = doc.entries.iter().enumerate().find(|(_, e)| match e {
+            Entry::Analysed { analysis, .. } => analysis.path.display().to_string() == row.file,
+            Entry::Failed { file, .. } => *file == row.file,
+        });
+        let (link, pf, angle) = match found {
+            Some((k, Entry::Analysed { analysis: a, .. })) => (
+                Some(k + 1),
+                pm(a.quantities.true_pf, a.uncertainty.true_pf, ""),
+                pm(
+                    a.quantities.phase_angle_dft_deg,
+                    a.uncertainty.phase_angle_deg.dft,
+                    "",
+                ),
+            ),
+            Some((k, Entry::Failed { .. })) => (Some(k + 1), String::new(), String::new()),
+            None => (None, String::new(), String::new()),
+        };
+        let file = match link {
+            Some(k) => format!("<a href=\"#capture-{k}\">{}</a>", escape(&row.file)),
+            None => escape(&row.file),
+        };
+        writeln!(
+            h,
+            "<tr><td>{file}</td><td><span class=\"badge {s}\">{s}</span></td>\
+             <td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
+            escape(&pf),
+            escape(&angle),
+            escape(&row.message),
+            s = row.status.as_str(),
+        )?;
+    }
+    writeln!(h, "</table>")?;
+    let pfs: Vec<f64> = doc
+        .entries
+        .iter()
+        .filter_map(|e| match e {
+            Entry::Analysed { analysis, .. } => analysis.quantities.true_pf,
+            Entry::Failed { .. } => None,
+        })
+        .collect();
+    match plot::pf::plot(&pfs, doc.pf_threshold) {
+        Ok(svg) => writeln!(
+            h,
+            "<figure>{svg}<figcaption>The true power factor |P/S| of every analysed capture, in \
+             bins of {}.</figcaption></figure>",
+            plot::pf::BIN
+        )?,
+        Err(e) => writeln!(
+            h,
+            "<p class=\"note\">No PF histogram: {}.</p>",
+            escape(&e.0)
+        )?,
+    }
+    writeln!(h, "</section>")
+}
+
+fn row(h: &mut String, name: &str, value: &str) -> std::fmt::Result {
+    writeln!(
+        h,
+        "<tr><td>{}</td><td class=\"num\">{}</td></tr>",
+        escape(name),
+        escape(value)
+    )
+}
+
+fn capture_section(
+    h: &mut String,
+    k: usize,
+    a: &Analysis,
+    expectation: Option<&Expectation>,
+    options: &PlotOptions,
+) -> std::fmt::Result {
+    let q = &a.quantities;
+    let u = &a.uncertainty;
+    let status = if a.warnings.is_empty() && a.expected.as_ref().is_none_or(|e| !e.failed()) {
+        Status::Ok
+    } else {
+        Status::Warning
+    };
+    writeln!(
+        h,
+        "<section id=\"capture-{k}\">\n<h2>{} <span class=\"badge {s}\">{s}</span></h2>",
+        escape(&a.path.display().to_string()),
+        s = status.as_str()
+    )?;
+    writeln!(
+        h,
+        "<p class=\"note\">{} · {} Hz · {} samples · voltage channel ‘{}’, current channel ‘{}’ \
+         · {} cycles ({} whole) · harmonics to order {} · U with k = {} over {} sub-records</p>",
+        escape(&a.format.to_string()),
+        num(a.sample_rate_hz, 6),
+        a.samples,
+        escape(&a.voltage_channel),
+        escape(&a.current_channel),
+        num(q.cycles, 4),
+        q.whole_cycles,
+        q.harmonic_order,
+        u.coverage_factor,
+        u.windows
+    )?;
+    writeln!(
+        h,
+        "<table class=\"results\">\n<tr><th>quantity</th><th>value ± U (k = 2)</th></tr>"
+    )?;
+    row(
+        h,
+        "frequency",
+        &pm(Some(q.frequency_hz), Some(u.frequency_hz), " Hz"),
+    )?;
+    row(
+        h,
+        "phase angle θ, DFT (least-squares phasors)",
+        &pm(q.phase_angle_dft_deg, u.phase_angle_deg.dft, "°"),
+    )?;
+    row(
+        h,
+        "phase angle θ, zero crossings",
+        &pm(
+            q.phase_angle_zero_crossing_deg,
+            u.phase_angle_deg.zero_crossing,
+            "°",
+        ),
+    )?;
+    row(
+        h,
+        "current",
+        q.character.map(|c| c.as_str()).unwrap_or("undefined"),
+    )?;
+    row(
+        h,
+        "displacement PF (cos θ1)",
+        &pm(q.displacement_pf, u.displacement_pf, ""),
+    )?;
+    let below = q.true_pf.is_some_and(|p| p.abs() < a.settings.pf_threshold);
+    row(
+        h,
+        "true PF (P/S)",
+        &format!(
+            "{}{}",
+            pm(q.true_pf, u.true_pf, ""),
+            if below {
+                format!(" (below the {} threshold)", num(a.settings.pf_threshold, 3))
+            } else {
+                String::new()
+            }
+        ),
+    )?;
+    for (name, unit, t, tu) in [
+        ("voltage", " V", &q.voltage, &u.voltage),
+        ("current", " A", &q.current, &u.current),
+    ] {
+        row(
+            h,
+            &format!("{name} RMS"),
+            &pm(Some(t.rms), Some(tu.rms), unit),
+        )?;
+        row(
+            h,
+            &format!("{name} fundamental RMS"),
+            &format!("{}{unit}", num(t.fundamental_rms, 6)),
+        )?;
+        row(
+            h,
+            &format!("{name} THD"),
+            &pm(t.thd_percent, tu.thd_percent, " %"),
+        )?;
+        row(
+            h,
+            &format!("{name} DC · peak · crest factor"),
+            &format!(
+                "{}{unit} · {}{unit} · {}",
+                num(t.dc, 3),
+                num(t.peak, 5),
+                num(t.crest_factor, 3)
+            ),
+        )?;
+    }
+    let p = &q.power;
+    row(
+        h,
+        "active power P",
+        &pm(Some(p.active_w), Some(u.power.active_w), " W"),
+    )?;
+    row(
+        h,
+        "fundamental active power P1 · harmonic PH",
+        &format!(
+            "{} W · {} W",
+            num(p.fundamental_active_w, 5),
+            num(p.harmonic_active_w, 3)
+        ),
+    )?;
+    row(
+        h,
+        "fundamental reactive power Q1",
+        &pm(Some(p.reactive_var), Some(u.power.reactive_var), " var"),
+    )?;
+    row(
+        h,
+        "apparent power S · S1 · SN",
+        &format!(
+            "{} VA · {} VA · {} VA",
+            num(p.apparent_va, 5),
+            num(p.fundamental_apparent_va, 5),
+            num(p.nonfundamental_apparent_va, 4)
+        ),
+    )?;
+    row(
+        h,
+        "distortion powers DI · DV · SH · N",
+        &format!(
+            "{} var · {} var · {} VA · {} var",
+            num(p.current_distortion_var, 4),
+            num(p.voltage_distortion_var, 4),
+            num(p.harmonic_apparent_va, 4),
+            num(p.nonactive_var, 4)
+        ),
+    )?;
+    writeln!(h, "</table>")?;
+    if let Some(e) = &a.expected {
+        expected_block(h, e)?;
+    }
+    let plots = plot::plots_with(a, options, expectation);
+    write_plots(h, &plots)?;
+    writeln!(h, "<h3>Warnings</h3>")?;
+    if a.warnings.is_empty() {
+        writeln!(h, "<p>None.</p>")?;
+    } else {
+        writeln!(h, "<ul class=\"warn\">")?;
+        for w in &a.warnings {
+            writeln!(h, "<li>{}</li>", escape(&w.to_string()))?;
+        }
+        writeln!(h, "</ul>")?;
+    }
+    writeln!(h, "</section>")
+}
+
+fn write_plots(h: &mut String, plots: &[Plot]) -> std::fmt::Result {
+    writeln!(h, "<h3>Plots</h3>")?;
+    let figure = |h: &mut String, p: &Plot| -> std::fmt::Result {
+        match &p.svg {
+            Ok(svg) => writeln!(
+                h,
+                "<figure class=\"plot-{}\">{svg}<figcaption>{}</figcaption></figure>",
+                p.name,
+                escape(&p.caption)
+            ),
+            Err(e) => writeln!(
+                h,
+                "<p class=\"note\">The {} plot could not be drawn: {}.</p>",
+                p.name,
+                escape(&e.0)
+            ),
+        }
+    };
+    let paired = |name: &str| name == "phasor" || name == "triangle";
+    for p in plots.iter().filter(|p| !paired(p.name)) {
+        if p.name == "spectrum" {
+            // phasor and triangle side by side before the spectrum
+            writeln!(h, "<div class=\"pair\">")?;
+            for q in plots.iter().filter(|q| paired(q.name)) {
+                figure(h, q)?;
+            }
+            writeln!(h, "</div>")?;
+        }
+        figure(h, p)?;
+    }
+    Ok(())
+}
+
+fn verdict_badge(v: &str) -> String {
+    format!("<span class=\"badge {v}\">{v}</span>")
+}
+
+fn expected_block(h: &mut String, e: &Expected) -> std::fmt::Result {
+    writeln!(h, "<h3>Expected vs measured</h3>\n<div class=\"verdict\">")?;
+    let where_ = if e.margin_deg > 0.0 {
+        format!("outside the band by {}°", num(e.margin_deg, 2))
+    } else {
+        format!("inside the band by {}°", num(-e.margin_deg, 2))
+    };
+    writeln!(
+        h,
+        "<p>{} the measured angle {} is {} of {}: nominal {}°, worst-case band {}° to {}°, \
+         Monte Carlo 95 % {}° to {}°.</p>",
+        verdict_badge(e.verdict.as_str()),
+        escape(&pm(
+            Some(e.measured_phase_deg),
+            Some(e.measured_uncertainty_deg),
+            "°"
+        )),
+        escape(&where_),
+        escape(e.model.as_deref().unwrap_or("the circuit model")),
+        num(e.nominal_phase_deg, 4),
+        num(e.band_deg[0], 4),
+        num(e.band_deg[1], 4),
+        num(e.monte_carlo_95_deg[0], 4),
+        num(e.monte_carlo_95_deg[1], 4),
+    )?;
+    let x = &e.explanation;
+    let (value, unit) = if x.equivalent == "inductance" {
+        (x.equivalent_value * 1e3, "mH")
+    } else {
+        (x.equivalent_value * 1e6, "µF")
+    };
+    writeln!(
+        h,
+        "<p>Measured impedance |Z| = {} Ω = {} Ω {} j{} Ω (series {} of {} {unit} at {} Hz).</p>",
+        num(x.impedance_ohm, 5),
+        num(x.series_resistance_ohm, 5),
+        if x.series_reactance_ohm < 0.0 {
+            "−"
+        } else {
+            "+"
+        },
+        num(x.series_reactance_ohm.abs(), 5),
+        x.equivalent,
+        num(value, 4),
+        num(e.frequency_hz, 6),
+    )?;
+    if !x.parts.is_empty() {
+        writeln!(
+            h,
+            "<p>Which part would explain it, most plausible first:</p>\n<ul>"
+        )?;
+        for p in &x.parts {
+            let z = p
+                .impedance_ohm_if_so
+                .map(|z| format!(" (|Z| would be {} Ω)", num(z, 4)))
+                .unwrap_or_default();
+            writeln!(h, "<li>{}{}</li>", escape(&p.note), escape(&z))?;
+        }
+        writeln!(h, "</ul>")?;
+    }
+    writeln!(
+        h,
+        "<p class=\"note\">Rule: {}.</p>\n</div>",
+        escape(e.decision_rule)
+    )
+}
+
+fn bank_section(h: &mut String, b: &BankSection) -> std::fmt::Result {
+    let r = b.report;
+    let p = b.nameplate;
+    writeln!(h, "<section id=\"bank\">\n<h2>Capacitor bank check</h2>")?;
+    let verdict = r.verdict.to_string();
+    writeln!(
+        h,
+        "<div class=\"verdict\"><p>{} delivered {} against {} expected: ratio {} (accepted {} \
+         to {}, {}).</p></div>",
+        verdict_badge(&verdict),
+        escape(&pm(
+            Some(r.delivered_kvar),
+            Some(r.delivered_uncertainty_kvar),
+            " kvar"
+        )),
+        escape(&format!("{} kvar", num(r.expected_kvar, 4))),
+        escape(&pm(Some(r.ratio), Some(r.ratio_uncertainty), "")),
+        num(r.band[0], 3),
+        num(r.band[1], 3),
+        escape(r.standard)
+    )?;
+    writeln!(h, "<table>\n<tr><th>item</th><th>value</th></tr>")?;
+    let steps: Vec<String> = p.steps_kvar.iter().map(|q| num(*q, 4)).collect();
+    row(
+        h,
+        "capture with the bank out",
+        &b.before.path.display().to_string(),
+    )?;
+    row(
+        h,
+        "capture with the bank in",
+        &b.after.path.display().to_string(),
+    )?;
+    row(
+        h,
+        "nameplate",
+        &format!(
+            "{} kvar, {} V, {} Hz, steps of {} kvar{}",
+            num(p.rated_kvar, 4),
+            num(p.rated_voltage, 4),
+            num(p.rated_frequency_hz, 4),
+            steps.join(" + "),
+            if p.three_phase {
+                "; one phase of a balanced three-phase bank (powers × 3)"
+            } else {
+                ""
+            }
+        ),
+    )?;
+    row(h, "expected (arithmetic)", &r.expected_arithmetic)?;
+    row(
+        h,
+        "PF before → after",
+        &format!("{} → {}", num(r.pf_before, 3), num(r.pf_after, 3)),
+    )?;
+    if let (Some(n), Some(text)) = (r.failed_steps, &r.failed_steps_arithmetic) {
+        row(h, "failed steps", &format!("{n}: {text}"))?;
+    }
+    row(
+        h,
+        &format!("kvar for PF {}", num(r.target_pf, 3)),
+        &format!(
+            "{} kvar (nearest steps: {}, {} kvar)",
+            num(r.kvar_for_target_pf, 4),
+            if r.nearest_steps.is_empty() {
+                "none".to_string()
+            } else {
+                r.nearest_steps
+                    .iter()
+                    .map(|k| k.to_string())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            },
+            num(r.nearest_steps_kvar, 4)
+        ),
+    )?;
+    row(
+        h,
+        "parallel resonance order",
+        &match r.resonance_order {
+            Some(o) => format!(
+                "{}{}",
+                num(o, 3),
+                r.resonance_near_harmonic
+                    .map(|n| format!(", within ±0.5 of harmonic {n}"))
+                    .unwrap_or_default()
+            ),
+            None => "not checked (no supply short-circuit data)".into(),
+        },
+    )?;
+    writeln!(h, "</table>")?;
+    if !r.warnings.is_empty() {
+        writeln!(h, "<ul class=\"warn\">")?;
+        for w in &r.warnings {
+            writeln!(h, "<li>{}</li>", escape(w))?;
+        }
+        writeln!(h, "</ul>")?;
+    }
+    writeln!(h, "</section>")
+}
+
+fn meter_section(h: &mut String, m: &MeterSection) -> std::fmt::Result {
+    let r = m.report;
+    writeln!(
+        h,
+        "<section id=\"meter\">\n<h2>Meter check</h2>\n<p>Against {}: class {}, PF sign {}, {}.\
+         </p>",
+        escape(&m.analysis.path.display().to_string()),
+        escape(r.class),
+        escape(r.pf_sign),
+        escape(&r.quadrant_text)
+    )?;
+    writeln!(
+        h,
+        "<table>\n<tr><th>quantity</th><th>meter</th><th>measured</th><th>error %</th>\
+         <th>limit %</th><th>U %</th><th>verdict</th></tr>"
+    )?;
+    for c in &r.checks {
+        let v = c.verdict.as_str();
+        writeln!(
+            h,
+            "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>\
+             <td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>\
+             <td>{}{}</td></tr>",
+            escape(c.quantity),
+            num(c.meter_value, 5),
+            num(c.measured_value, 5),
+            if c.error_percent.is_finite() {
+                format!("{:+.2}", c.error_percent)
+            } else {
+                "n/a".into()
+            },
+            num(c.limit_percent, 2),
+            num(c.uncertainty_percent, 2),
+            verdict_badge(v),
+            c.note
+                .as_ref()
+                .map(|n| format!(" {}", escape(n)))
+                .unwrap_or_default()
+        )?;
+    }
+    writeln!(h, "</table>")?;
+    if r.wiring_hints.is_empty() {
+        writeln!(h, "<p>Wiring: no fault pattern recognised.</p>")?;
+    } else {
+        writeln!(h, "<p>Wiring hints:</p>\n<ul class=\"warn\">")?;
+        for w in &r.wiring_hints {
+            writeln!(h, "<li>{}</li>", escape(w))?;
+        }
+        writeln!(h, "</ul>")?;
+    }
+    writeln!(h, "</section>")
+}
+
+fn methods_section(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
+    writeln!(h, "<section id=\"methods\">\n<h2>Methods</h2>\n<ul>")?;
+    for (name, text) in METHODS {
+        writeln!(h, "<li><strong>{name}.</strong> {}</li>", escape(text))?;
+    }
+    let lim = plot::spectrum::voltage_limits(doc.plot_options.bus_voltage_v);
+    writeln!(
+        h,
+        "<li><strong>Limits.</strong> {}</li>\n</ul>\n</section>",
+        escape(&format!(
+            "harmonic voltage limits from IEEE 519-2014 ({} row: {} % individual, {} % THD); \
+             current limits from IEEE 519-2014 only when ISC/IL is given.",
+            lim.bus,
+            num(lim.individual_percent, 2),
+            num(lim.thd_percent, 2)
+        ))
+    )
+}
+
+fn safety_section(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
+    writeln!(
+        h,
+        "<section id=\"safety\">\n<h2>Safety</h2>\n<div class=\"safety\">\n<ul>"
+    )?;
+    for s in SAFETY {
+        writeln!(h, "<li>{}</li>", escape(s))?;
+    }
+    if doc.bank.is_some() {
+        writeln!(
+            h,
+            "<li>Capacitor banks: {}.</li>",
+            escape(super::bank::CAUTIONS)
+        )?;
+    }
+    if doc.meter.is_some() {
+        writeln!(h, "<li>Metering: {}.</li>", escape(super::meter::CAUTIONS))?;
+    }
+    writeln!(h, "</ul>\n</div>\n</section>")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn escape_replaces_every_markup_character() {
+        assert_eq!(
+            escape(r#"<script>alert("x") & 'y'</script>"#),
+            "&lt;script&gt;alert(&quot;x&quot;) &amp; &#39;y&#39;&lt;/script&gt;"
+        );
+        assert_eq!(escape("230 V ± 1 %"), "230 V ± 1 %");
+        assert_eq!(escape(""), "");
+    }
+
+    #[test]
+    fn a_failed_file_is_escaped_and_listed_as_an_error() {
+        let doc = HtmlDoc::new(
+            "t",
+            vec![
+                Entry::Failed {
+                    file: "<b>x.csv".into(),
+                    message: "line 2: '<i>' is not a number".into(),
+                },
+                Entry::Failed {
+                    file: "y.csv".into(),
+                    message: "empty".into(),
+                },
+            ],
+        );
+        let mut out = Vec::new();
+        write_html(&mut out, &doc).unwrap();
+        let html = String::from_utf8(out).unwrap();
+        assert!(!html.contains("<b>x") && !html.contains("<i>"));
+        assert!(html.contains("&lt;b&gt;x.csv"));
+        assert!(html.contains("2 files: 0 ok, 0 with warnings, 2 with errors."));
+        assert!(!html.to_ascii_lowercase().contains("<script"));
+        assert!(
+            !html.contains("http"),
+            "nothing is fetched or linked outside"
+        );
+    }
+}
