@@ -35,8 +35,8 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
 pub mod analysis;
-pub mod batch;
 pub mod app;
+pub mod batch;
 pub mod capture;
 pub mod check;
 pub mod cli;
