@@ -49,6 +49,12 @@ pub struct AnalyzeArgs {
     /// Flag a true PF below this (a utility penalty threshold).
     #[arg(long, default_value_t = 0.90, value_name = "PF")]
     pub pf_threshold: f64,
+    /// Also write a self-contained HTML report here.
+    #[arg(long, value_name = "PATH")]
+    pub report: Option<PathBuf>,
+    /// Also write each plot as its own SVG file in this folder.
+    #[arg(long, value_name = "DIR")]
+    pub plot_dir: Option<PathBuf>,
     /// Channel, scale and timing options.
     #[command(flatten)]
     pub channels: ChannelArgs,
@@ -111,6 +117,9 @@ pub struct BankArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = FormatArg::Table)]
     pub format: FormatArg,
+    /// Also write a self-contained HTML report here.
+    #[arg(long, value_name = "PATH")]
+    pub report: Option<PathBuf>,
     /// Channel, scale and timing options (the same for both captures).
     #[command(flatten)]
     pub channels: ChannelArgs,
@@ -135,6 +144,9 @@ pub struct MeterArgs {
     /// How the meter signs PF: power-flow (sign of P), lead-negative, unsigned.
     #[arg(long, value_name = "CONVENTION", default_value = "power-flow")]
     pub pf_sign: String,
+    /// Also write a self-contained HTML report here.
+    #[arg(long, value_name = "PATH")]
+    pub report: Option<PathBuf>,
     /// Highest harmonic order analysed.
     #[arg(long, default_value_t = 50, value_name = "N")]
     pub harmonics: usize,
@@ -171,6 +183,9 @@ pub struct BatchArgs {
     /// Take every N-th file from the K-th (1-based), for splitting a folder over N machines.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<String>,
+    /// Also write a self-contained HTML report here (holds every analysis until the end).
+    #[arg(long, value_name = "PATH")]
+    pub report: Option<PathBuf>,
     /// Settings that override every sidecar file.
     #[command(flatten)]
     pub overrides: OverrideArgs,

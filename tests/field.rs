@@ -266,3 +266,57 @@ fn pf_below_the_threshold_is_flagged_in_json() {
             .any(|c| c == "pf-below-threshold")
     );
 }
+
+/// `--report` on analyze, bank, meter and batch writes one self-contained HTML file each.
+#[test]
+fn every_command_writes_an_html_report_on_request() {
+    let dir = tempfile::TempDir::new().unwrap();
+    let path = |n: &str| dir.path().join(n).display().to_string();
+    let runs: Vec<(Vec<String>, String)> = vec![
+        (
+            vec![
+                "analyze".into(),
+                "fixtures/demo-workshop-compressor-before-capacitor.csv".into(),
+                "--plot-dir".into(),
+                path("plots"),
+            ],
+            path("analyze.html"),
+        ),
+        (
+            BANK.iter().map(|s| s.to_string()).collect(),
+            path("bank.html"),
+        ),
+        (
+            vec![
+                "meter".into(),
+                "fixtures/demo-workshop-compressor-after-capacitor.csv".into(),
+                "--class".into(),
+                "1".into(),
+                "--reading".into(),
+                "pf=0.97".into(),
+            ],
+            path("meter.html"),
+        ),
+        (
+            vec![
+                "batch".into(),
+                "fixtures".into(),
+                "--out".into(),
+                path("s.csv"),
+            ],
+            path("batch.html"),
+        ),
+    ];
+    for (args, report) in runs {
+        tracephase()
+            .args(&args)
+            .args(["--report", &report])
+            .output()
+            .unwrap();
+        let html = std::fs::read_to_string(&report).unwrap_or_else(|_| panic!("{report}"));
+        assert!(html.starts_with("<!DOCTYPE html>"), "{report}");
+        assert!(html.contains("<svg"), "{report}");
+        assert!(!html.contains("<script"), "{report}");
+    }
+    assert!(std::fs::read_dir(path("plots")).unwrap().count() >= 4);
+}

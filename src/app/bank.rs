@@ -172,6 +172,31 @@ pub fn run_bank(a: &BankArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outco
         );
         return Outcome::InputErrors;
     }
+    if let Some(path) = &a.report {
+        use crate::report::html::{BankSection, Entry, HtmlDoc, settings_rows};
+        let entries = vec![
+            Entry::Analysed {
+                analysis: &before,
+                expectation: None,
+            },
+            Entry::Analysed {
+                analysis: &after,
+                expectation: None,
+            },
+        ];
+        let mut doc = HtmlDoc::new("tracephase capacitor bank check", entries);
+        doc.settings = settings_rows(&settings);
+        doc.bank = Some(BankSection {
+            report: &r,
+            nameplate: &plate,
+            before: &before,
+            after: &after,
+        });
+        if let Err(e) = super::html::save(path, &doc) {
+            let _ = writeln!(err, "error: {e}");
+            return Outcome::InputErrors;
+        }
+    }
     match r.verdict {
         BankVerdict::Fail => Outcome::VerdictFailed,
         _ => Outcome::Ok,

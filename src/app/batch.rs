@@ -44,7 +44,7 @@ pub fn layer_from(o: &OverrideArgs) -> Layer {
 
 /// What one capture gave: a new row, or an earlier row kept as it was.
 enum Outcome1 {
-    New(Row, Duration),
+    New(Row, Duration, Option<Box<crate::analysis::Analysis>>),
     Kept(PastRow),
 }
 
@@ -179,6 +179,9 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     let mut tally = Tally::default();
     // With --resume the final file is rewritten in sorted order: keep every line for that.
     let mut all_lines: Vec<String> = Vec::new();
+    // With --report every analysis is kept for the report (memory grows with the folder).
+    let keep = a.report.is_some();
+    let mut kept: Vec<Result<crate::analysis::Analysis, (String, String)>> = Vec::new();
     for chunk in jobs.chunks(CHUNK) {
         let results: Vec<Outcome1> = pool.install(|| {
             chunk
@@ -193,8 +196,9 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                         return Outcome1::Kept(p.clone());
                     }
                     let t = Instant::now();
-                    let row = batch::process(job);
-                    Outcome1::New(row, t.elapsed())
+                    let (row, analysis) = batch::process_keeping(job);
+                    let analysis = if keep { analysis.map(Box::new) } else { None };
+                    Outcome1::New(row, t.elapsed(), analysis)
                 })
                 .collect()
         });
@@ -206,7 +210,13 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                     tally.count(&p.status, p.verdict_failed);
                     all_lines.push(p.line);
                 }
-                Outcome1::New(row, took) => {
+                Outcome1::New(row, took, analysis) => {
+                    if keep {
+                        kept.push(match analysis {
+                            Some(a) => Ok(*a),
+                            None => Err((row.file.clone(), row.message.clone())),
+                        });
+                    }
                     if row.status == Status::Error {
                         progress.suspend(|| {
                             let _ = writeln!(err, "error: {}", row.message);
@@ -241,6 +251,17 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
             std::fs::rename(&tmp, p)
         };
         write().map_err(|e| cannot(p, e))?;
+    }
+    if let Some(path) = &a.report {
+        let title = format!("tracephase batch: {} captures", kept.len());
+        super::html::save_analyses(path, title, &kept, None, None)?;
+        if tally.kept > 0 {
+            let _ = writeln!(
+                err,
+                "note: the report holds only the captures analysed in this run, not the {} kept",
+                tally.kept
+            );
+        }
     }
     let total = started.elapsed().as_secs_f64();
     let n = jobs.len();

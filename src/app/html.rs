@@ -282,3 +282,57 @@ mod tests {
         assert_eq!(sanitise("Zähler.1"), "Z_hler.1");
     }
 }
+
+/// Writes `doc` as HTML to `path` (atomically); the error is one line naming the file.
+pub fn save(path: &Path, doc: &HtmlDoc) -> Result<(), String> {
+    let mut html = Vec::new();
+    write_html(&mut html, doc)
+        .and_then(|()| write_atomically(path, &html))
+        .map_err(|e| format!("{}: could not write the report: {e}", path.display()))
+}
+
+/// A report of analysed captures (with the circuit model's prediction where one was compared)
+/// and of files that failed, as `analyze --report` and `batch --report` write it.
+pub fn save_analyses(
+    path: &Path,
+    title: String,
+    results: &[Result<Analysis, (String, String)>],
+    settings: Option<&Settings>,
+    model: Option<(&Circuit, &MonteCarloConfig)>,
+) -> Result<(), String> {
+    let predicted: Vec<Option<Expectation>> = results
+        .iter()
+        .map(|r| match (r, model) {
+            (Ok(a), Some((c, mc))) => a
+                .expected
+                .as_ref()
+                .map(|e| expectation(c, e.frequency_hz, mc)),
+            _ => None,
+        })
+        .collect();
+    let entries: Vec<Entry> = results
+        .iter()
+        .zip(&predicted)
+        .map(|(r, p)| match r {
+            Ok(analysis) => Entry::Analysed {
+                analysis,
+                expectation: p.as_ref(),
+            },
+            Err((file, message)) => Entry::Failed {
+                file: file.clone(),
+                message: message.clone(),
+            },
+        })
+        .collect();
+    let mut doc = HtmlDoc::new(title, entries);
+    if let Some(s) = settings {
+        doc.settings = settings_rows(s);
+        doc.pf_threshold = Some(s.pf_threshold);
+    } else {
+        doc.settings = vec![(
+            "settings".into(),
+            "per capture, as recorded in the batch summary".into(),
+        )];
+    }
+    save(path, &doc)
+}

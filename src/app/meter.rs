@@ -49,6 +49,23 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
         );
         return Outcome::InputErrors;
     }
+    if let Some(path) = &a.report {
+        use crate::report::html::{Entry, HtmlDoc, MeterSection, settings_rows};
+        let entries = vec![Entry::Analysed {
+            analysis: &analysis,
+            expectation: None,
+        }];
+        let mut doc = HtmlDoc::new("tracephase meter check", entries);
+        doc.settings = settings_rows(&settings);
+        doc.meter = Some(MeterSection {
+            report: &r,
+            analysis: &analysis,
+        });
+        if let Err(e) = super::html::save(path, &doc) {
+            let _ = writeln!(err, "error: {e}");
+            return Outcome::InputErrors;
+        }
+    }
     if r.checks.iter().any(|c| c.verdict == MeterVerdict::Fail) {
         Outcome::VerdictFailed
     } else {

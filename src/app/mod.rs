@@ -59,6 +59,10 @@ pub struct AnalyzeConfig {
     pub format: Format,
     /// A circuit model to compare with, and how to sample its tolerances.
     pub expect: Option<(Circuit, MonteCarloConfig)>,
+    /// Where to write an HTML report.
+    pub report: Option<std::path::PathBuf>,
+    /// Where to write each plot as SVG.
+    pub plot_dir: Option<std::path::PathBuf>,
 }
 
 /// A setting that makes no sense, found before any file is read.
@@ -181,6 +185,8 @@ impl AnalyzeConfig {
             settings,
             format: format(a.format),
             expect,
+            report: a.report.clone(),
+            plot_dir: a.plot_dir.clone(),
         })
     }
 }
@@ -262,6 +268,9 @@ pub fn run_analyze(
     let mut exporter = report::exporter(cfg.format);
     let mut outcome = Outcome::Ok;
     let mut io_ok = exporter.begin(out).is_ok();
+    // kept only when a report or plots are asked for
+    let keep = cfg.report.is_some() || cfg.plot_dir.is_some();
+    let mut kept: Vec<Result<analysis::Analysis, (String, String)>> = Vec::new();
     for path in files {
         let result = capture::load(path, &cfg.load)
             .map_err(|e| e.to_string())
@@ -274,12 +283,40 @@ pub fn run_analyze(
                         outcome = outcome.worst(Outcome::VerdictFailed);
                     }
                 }
-                io_ok &= exporter.write(out, &a).is_ok()
+                io_ok &= exporter.write(out, &a).is_ok();
+                if keep {
+                    kept.push(Ok(a));
+                }
             }
             Err(msg) => {
                 let _ = writeln!(err, "error: {msg}");
                 outcome = outcome.worst(Outcome::InputErrors);
+                if keep {
+                    let file = path.display().to_string();
+                    let m = msg.strip_prefix(&format!("{file}: ")).unwrap_or(&msg);
+                    kept.push(Err((file, m.to_string())));
+                }
             }
+        }
+    }
+    if let Some(dir) = &cfg.plot_dir {
+        for a in kept.iter().flatten() {
+            if let Err(e) = html::write_plot_dir(dir, a) {
+                let _ = writeln!(
+                    err,
+                    "error: {}: could not write the plots: {e}",
+                    dir.display()
+                );
+                outcome = outcome.worst(Outcome::InputErrors);
+            }
+        }
+    }
+    if let Some(path) = &cfg.report {
+        let title = format!("tracephase analysis: {} capture(s)", files.len());
+        let model = cfg.expect.as_ref().map(|(c, m)| (c, m));
+        if let Err(e) = html::save_analyses(path, title, &kept, Some(&cfg.settings), model) {
+            let _ = writeln!(err, "error: {e}");
+            outcome = outcome.worst(Outcome::InputErrors);
         }
     }
     io_ok &= exporter.finish(out).is_ok();

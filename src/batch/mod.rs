@@ -233,6 +233,11 @@ pub fn fingerprint_file(path: &Path) -> std::io::Result<String> {
 
 /// Loads, analyses and checks one capture. Never fails: trouble becomes an `error` row.
 pub fn process(job: &Job) -> Row {
+    process_keeping(job).0
+}
+
+/// [`process`], also returning the analysis (for a report) when there is one.
+pub fn process_keeping(job: &Job) -> (Row, Option<analysis::Analysis>) {
     let file = job.path.display().to_string();
     let mut row = Row {
         file: file.clone(),
@@ -248,7 +253,7 @@ pub fn process(job: &Job) -> Row {
         Ok(s) => s,
         Err(e) => {
             row.message = format!("{file}: settings: {e}");
-            return row;
+            return (row, None);
         }
     };
     let analysed = capture::load(&job.path, &setup.load)
@@ -258,7 +263,7 @@ pub fn process(job: &Job) -> Row {
         Ok(a) => a,
         Err(e) => {
             row.message = e;
-            return row;
+            return (row, None);
         }
     };
     if let Some(model) = &setup.expect
@@ -327,7 +332,7 @@ pub fn process(job: &Job) -> Row {
         .collect::<Vec<_>>()
         .join("; ");
     row.result = Some(result);
-    row
+    (row, Some(a))
 }
 
 /// The CSV columns of a summary: the lead columns, the `analyze` keys flattened with dots (the

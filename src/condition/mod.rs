@@ -116,10 +116,10 @@ pub fn clipping(y: &[f64]) -> Option<f64> {
     clipped.then(|| 100.0 * (n_hi + n_lo) as f64 / n)
 }
 
-/// Number of distinct values among up to 4096 evenly spread samples, when it is under 20 (a
+/// Number of distinct values among about 1024 evenly spread samples, when it is under 20 (a
 /// trace that uses only a few converter steps); `None` otherwise.
 pub fn few_levels(y: &[f64]) -> Option<usize> {
-    let step = (y.len() / 4096).max(1);
+    let step = (y.len() / 1024).max(1);
     let mut s: Vec<f64> = y.iter().step_by(step).copied().collect();
     if s.len() < 256 {
         return None;

@@ -16,6 +16,15 @@ use rustfft::FftPlanner;
 use rustfft::num_complex::Complex64;
 use std::f64::consts::PI;
 
+/// Harmonic order of the sub-record fits when they span whole cycles.
+pub const REFINE_ORDER: usize = 15;
+
+thread_local! {
+    /// One planner per thread: it keeps the plans it made, and a batch of captures of one length
+    /// plans its FFT once instead of once per capture.
+    static PLANNER: std::cell::RefCell<FftPlanner<f64>> = std::cell::RefCell::new(FftPlanner::new());
+}
+
 /// Largest FFT the coarse search uses; longer records are block-averaged down first.
 pub const COARSE_FFT_MAX: usize = 1 << 18;
 
@@ -38,7 +47,9 @@ pub fn coarse(y: &[f64], fs: f64) -> Option<f64> {
             Complex64::new((v - mean) * w, 0.0)
         })
         .collect();
-    FftPlanner::new().plan_fft_forward(n).process(&mut buf);
+    PLANNER
+        .with(|p| p.borrow_mut().plan_fft_forward(n))
+        .process(&mut buf);
     let mag: Vec<f64> = buf[..n / 2].iter().map(|c| c.norm()).collect();
     let first = 2; // below two bins: DC leakage of the window, and under two cycles
     if mag.len() <= first + 2 {
@@ -95,9 +106,24 @@ pub fn refine(y: &[f64], fs: f64, f0: f64, order: usize) -> Refined {
     let n = y.len();
     let cycles = n as f64 * f0 / fs;
     let segments = ((cycles / 5.0).floor() as usize).clamp(2, 64);
-    let seg_len = n / segments;
+    // Sub-records of a whole number of cycles where the record allows: every one then sees the
+    // harmonics at the same phase relative to the fundamental, so whatever leaks from harmonics
+    // left out of the fit shifts every sub-record's phase alike and cancels in the slope. That
+    // lets long records be refined with a low order.
+    let per_seg = (cycles / segments as f64).floor();
+    let whole = per_seg >= 2.0;
+    let seg_len = if whole {
+        ((per_seg * fs / f0).round() as usize).min(n / segments)
+    } else {
+        n / segments
+    };
     // The order a sub-record can carry: 2H+1 unknowns need clearly more samples.
     let order = order.min(seg_len.saturating_sub(4) / 3).max(1);
+    let order = if whole {
+        order.min(REFINE_ORDER)
+    } else {
+        order
+    };
     let mut f = f0;
     for _ in 0..8 {
         let theta = 2.0 * PI * f / fs;
