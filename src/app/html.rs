@@ -269,20 +269,6 @@ fn write_atomically(path: &Path, bytes: &[u8]) -> io::Result<()> {
     result
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn stems_are_made_safe() {
-        assert_eq!(sanitise("demo-plant feeder"), "demo-plant_feeder");
-        assert_eq!(sanitise("<script>x"), "_script_x");
-        assert_eq!(sanitise("..hidden"), "hidden");
-        assert_eq!(sanitise(""), "capture");
-        assert_eq!(sanitise("Zähler.1"), "Z_hler.1");
-    }
-}
-
 /// Writes `doc` as HTML to `path` (atomically); the error is one line naming the file.
 pub fn save(path: &Path, doc: &HtmlDoc) -> Result<(), String> {
     let mut html = Vec::new();
@@ -335,4 +321,18 @@ pub fn save_analyses(
         )];
     }
     save(path, &doc)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn stems_are_made_safe() {
+        assert_eq!(sanitise("demo-plant feeder"), "demo-plant_feeder");
+        assert_eq!(sanitise("<script>x"), "_script_x");
+        assert_eq!(sanitise("..hidden"), "hidden");
+        assert_eq!(sanitise(""), "capture");
+        assert_eq!(sanitise("Zähler.1"), "Z_hler.1");
+    }
 }
