@@ -6,7 +6,7 @@
 //! each and still appear in the report as failed entries.
 
 use super::bank::analyse_file;
-use super::{ConfigError, Outcome, compare_with_model, resolve_channels, resolve_monte_carlo};
+use super::{ConfigError, Outcome, compare_with_model, resolve_channels};
 use crate::analysis::{Analysis, Settings};
 use crate::capture::LoadOptions;
 use crate::check::circuit::Circuit;
@@ -29,20 +29,12 @@ struct ReportConfig {
 
 fn config(a: &ReportArgs) -> Result<ReportConfig, ConfigError> {
     let (load, mut settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
-    if !(a.pf_threshold > 0.0 && a.pf_threshold <= 1.0) {
-        return Err(ConfigError(format!(
-            "--pf-threshold must be above 0 and at most 1, not {}",
-            a.pf_threshold
-        )));
-    }
-    settings.pf_threshold = a.pf_threshold;
-    let expect = match &a.expect {
-        Some(path) => Some((
-            Circuit::load(path).map_err(|e| ConfigError(e.to_string()))?,
-            resolve_monte_carlo(&a.monte_carlo)?,
-        )),
-        None => None,
-    };
+    let expect = super::resolve_threshold_and_model(
+        &mut settings,
+        a.pf_threshold,
+        a.expect.as_deref(),
+        &a.monte_carlo,
+    )?;
     Ok(ReportConfig {
         load,
         settings,

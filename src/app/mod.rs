@@ -162,24 +162,39 @@ pub fn resolve_uncertainty(u: &UncertaintyArgs) -> Result<UncertaintyInputs, Con
     })
 }
 
+/// Checks `--pf-threshold` and loads the `--expect` model with its Monte Carlo settings, for the
+/// commands that take them.
+pub fn resolve_threshold_and_model(
+    settings: &mut Settings,
+    pf_threshold: f64,
+    expect: Option<&std::path::Path>,
+    monte_carlo: &MonteCarloArgs,
+) -> Result<Option<(Circuit, MonteCarloConfig)>, ConfigError> {
+    if !(pf_threshold > 0.0 && pf_threshold <= 1.0) {
+        return Err(ConfigError(format!(
+            "--pf-threshold must be above 0 and at most 1, not {pf_threshold}"
+        )));
+    }
+    settings.pf_threshold = pf_threshold;
+    Ok(match expect {
+        Some(path) => Some((
+            Circuit::load(path).map_err(|e| ConfigError(e.to_string()))?,
+            resolve_monte_carlo(monte_carlo)?,
+        )),
+        None => None,
+    })
+}
+
 impl AnalyzeConfig {
     /// Builds and checks the configuration of `analyze`.
     pub fn from_args(a: &AnalyzeArgs) -> Result<Self, ConfigError> {
         let (load, mut settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
-        if !(a.pf_threshold > 0.0 && a.pf_threshold <= 1.0) {
-            return Err(ConfigError(format!(
-                "--pf-threshold must be above 0 and at most 1, not {}",
-                a.pf_threshold
-            )));
-        }
-        settings.pf_threshold = a.pf_threshold;
-        let expect = match &a.expect {
-            Some(path) => Some((
-                Circuit::load(path).map_err(|e| ConfigError(e.to_string()))?,
-                resolve_monte_carlo(&a.monte_carlo)?,
-            )),
-            None => None,
-        };
+        let expect = resolve_threshold_and_model(
+            &mut settings,
+            a.pf_threshold,
+            a.expect.as_deref(),
+            &a.monte_carlo,
+        )?;
         Ok(AnalyzeConfig {
             load,
             settings,

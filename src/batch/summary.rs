@@ -16,27 +16,8 @@ pub enum SummaryFormat {
     Json,
 }
 
-/// How one capture ended.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Status {
-    /// Analysed, nothing doubtful.
-    Ok,
-    /// Analysed, with warnings.
-    Warning,
-    /// Could not be read or analysed.
-    Error,
-}
-
-impl Status {
-    /// The word in the summary.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Status::Ok => "ok",
-            Status::Warning => "warning",
-            Status::Error => "error",
-        }
-    }
-}
+/// How one capture ended: the status words the HTML report shows too.
+pub use crate::report::html::Status;
 
 /// One row of the summary.
 #[derive(Debug, Clone, PartialEq)]

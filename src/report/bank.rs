@@ -1,8 +1,7 @@
 //! Output of `bank`: a verdict a supervisor can sign, or its JSON.
 
 use super::Format;
-use super::table::{num, pm};
-use super::wire::flatten;
+use super::table::{num, pm, sign_off};
 use crate::analysis::Analysis;
 use crate::check::bank::{BankReport, Nameplate};
 use serde::Serialize;
@@ -41,20 +40,8 @@ pub fn write(
         cautions: CAUTIONS,
     };
     match format {
-        Format::Json => {
-            serde_json::to_writer(&mut *out, &record)?;
-            writeln!(out)?;
-        }
-        Format::Csv => {
-            let cells = flatten(&serde_json::to_value(&record)?);
-            let mut w = ::csv::Writer::from_writer(&mut *out);
-            w.write_record(cells.iter().map(|(k, _)| k.as_str()))
-                .map_err(io::Error::other)?;
-            w.write_record(cells.iter().map(|(_, v)| v.as_str()))
-                .map_err(io::Error::other)?;
-            w.flush()?;
-        }
         Format::Table => table(out, r, plate, before, after)?,
+        other => super::write_record(out, &record, other)?,
     }
     out.flush()
 }
@@ -182,16 +169,5 @@ fn table(
             changes.join(", ")
         }
     )?;
-    if r.warnings.is_empty() {
-        writeln!(out, "  warnings     none")?;
-    }
-    for (k, w) in r.warnings.iter().enumerate() {
-        let head = if k == 0 { "warnings" } else { "" };
-        writeln!(out, "  {head:<13}- {w}")?;
-    }
-    writeln!(out, "  caution      {CAUTIONS}")?;
-    writeln!(
-        out,
-        "  checked by   ______________________   date __________"
-    )
+    sign_off(out, "warnings", &r.warnings, "none", CAUTIONS)
 }

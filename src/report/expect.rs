@@ -2,27 +2,14 @@
 
 use super::Format;
 use super::table::num;
-use super::wire::flatten;
 use crate::check::expected::Expectation;
 use std::io::{self, Write};
 
 /// Writes `e` in `format` (JSON: one object on one line; CSV: a header and one row).
 pub fn write(out: &mut dyn Write, e: &Expectation, format: Format) -> io::Result<()> {
     match format {
-        Format::Json => {
-            serde_json::to_writer(&mut *out, e)?;
-            writeln!(out)?;
-        }
-        Format::Csv => {
-            let cells = flatten(&serde_json::to_value(e)?);
-            let mut w = ::csv::Writer::from_writer(&mut *out);
-            w.write_record(cells.iter().map(|(k, _)| k.as_str()))
-                .map_err(io::Error::other)?;
-            w.write_record(cells.iter().map(|(_, v)| v.as_str()))
-                .map_err(io::Error::other)?;
-            w.flush()?;
-        }
         Format::Table => table(out, e)?,
+        other => super::write_record(out, e, other)?,
     }
     out.flush()
 }

@@ -1,7 +1,7 @@
 //! Output of `meter`: per quantity the meter's error against its class limit, and hints.
 
 use super::Format;
-use super::table::num;
+use super::table::{num, sign_off};
 use super::wire::flatten;
 use crate::analysis::Analysis;
 use crate::check::meter::MeterReport;
@@ -111,16 +111,11 @@ fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
         out,
         "  rule         guarded acceptance, ILAC-G8:09/2019: our uncertainty U (k = 2) is the guard band"
     )?;
-    if r.wiring_hints.is_empty() {
-        writeln!(out, "  wiring       no fault pattern recognised")?;
-    }
-    for (k, h) in r.wiring_hints.iter().enumerate() {
-        let head = if k == 0 { "wiring" } else { "" };
-        writeln!(out, "  {head:<13}- {h}")?;
-    }
-    writeln!(out, "  caution      {CAUTIONS}")?;
-    writeln!(
+    sign_off(
         out,
-        "  checked by   ______________________   date __________"
+        "wiring",
+        &r.wiring_hints,
+        "no fault pattern recognised",
+        CAUTIONS,
     )
 }

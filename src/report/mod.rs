@@ -50,3 +50,29 @@ pub fn exporter(format: Format) -> Box<dyn Exporter> {
         Format::Csv => Box::new(csv::CsvExporter::default()),
     }
 }
+
+/// Writes one record as JSON on one line, or as CSV with a header and one row (the keys
+/// flattened with dots): the machine formats of `expect`, `bank` and `meter`. `Table` is the
+/// caller's own; this writes nothing for it.
+pub fn write_record<T: serde::Serialize>(
+    out: &mut dyn Write,
+    record: &T,
+    format: Format,
+) -> io::Result<()> {
+    match format {
+        Format::Json => {
+            serde_json::to_writer(&mut *out, record)?;
+            writeln!(out)
+        }
+        Format::Csv => {
+            let cells = wire::flatten(&serde_json::to_value(record)?);
+            let mut w = ::csv::Writer::from_writer(&mut *out);
+            w.write_record(cells.iter().map(|(k, _)| k.as_str()))
+                .map_err(io::Error::other)?;
+            w.write_record(cells.iter().map(|(_, v)| v.as_str()))
+                .map_err(io::Error::other)?;
+            w.flush()
+        }
+        Format::Table => Ok(()),
+    }
+}

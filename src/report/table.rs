@@ -233,6 +233,29 @@ fn expected_block(out: &mut dyn Write, e: &Expected) -> io::Result<()> {
     Ok(())
 }
 
+/// The closing lines of a verdict table: the listed `items` under `label` (or `none_text`),
+/// the cautions and a line for a supervisor's signature.
+pub fn sign_off(
+    out: &mut dyn Write,
+    label: &str,
+    items: &[String],
+    none_text: &str,
+    cautions: &str,
+) -> io::Result<()> {
+    if items.is_empty() {
+        writeln!(out, "  {label:<13}{none_text}")?;
+    }
+    for (k, item) in items.iter().enumerate() {
+        let head = if k == 0 { label } else { "" };
+        writeln!(out, "  {head:<13}- {item}")?;
+    }
+    writeln!(out, "  caution      {cautions}")?;
+    writeln!(
+        out,
+        "  checked by   ______________________   date __________"
+    )
+}
+
 #[cfg(test)]
 mod tests {
     use super::num;
