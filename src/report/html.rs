@@ -755,25 +755,10 @@ fn expected_block(h: &mut String, e: &Expected) -> std::fmt::Result {
         num(e.monte_carlo_95_deg[1], 4),
     )?;
     let x = &e.explanation;
-    let (value, unit) = if x.equivalent == "inductance" {
-        (x.equivalent_value * 1e3, "mH")
-    } else {
-        (x.equivalent_value * 1e6, "µF")
-    };
     writeln!(
         h,
-        "<p>Measured impedance |Z| = {} Ω = {} Ω {} j{} Ω (series {} of {} {unit} at {} Hz).</p>",
-        num(x.impedance_ohm, 5),
-        num(x.series_resistance_ohm, 5),
-        if x.series_reactance_ohm < 0.0 {
-            "−"
-        } else {
-            "+"
-        },
-        num(x.series_reactance_ohm.abs(), 5),
-        x.equivalent,
-        num(value, 4),
-        num(e.frequency_hz, 6),
+        "<p>Measured impedance |Z| = {}.</p>",
+        super::table::impedance_text(e)
     )?;
     if !x.parts.is_empty() {
         writeln!(

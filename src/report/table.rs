@@ -173,6 +173,31 @@ impl Exporter for TableExporter {
     }
 }
 
+/// The measured impedance in words: `58.83 Ω = 50.00 Ω + j31.00 Ω (series inductance of
+/// 98.68 mH at 50.0000 Hz)`; shared by the table and the HTML report.
+pub fn impedance_text(e: &Expected) -> String {
+    let x = &e.explanation;
+    let (value, unit) = if x.equivalent == "inductance" {
+        (x.equivalent_value * 1e3, "mH")
+    } else {
+        (x.equivalent_value * 1e6, "µF")
+    };
+    format!(
+        "{} Ω = {} Ω {} j{} Ω (series {} of {} {unit} at {} Hz)",
+        num(x.impedance_ohm, 5),
+        num(x.series_resistance_ohm, 5),
+        if x.series_reactance_ohm < 0.0 {
+            "−"
+        } else {
+            "+"
+        },
+        num(x.series_reactance_ohm.abs(), 5),
+        x.equivalent,
+        num(value, 4),
+        num(e.frequency_hz, 6),
+    )
+}
+
 fn expected_block(out: &mut dyn Write, e: &Expected) -> io::Result<()> {
     writeln!(
         out,
@@ -202,26 +227,7 @@ fn expected_block(out: &mut dyn Write, e: &Expected) -> io::Result<()> {
     )?;
     writeln!(out, "  rule         {}", e.decision_rule)?;
     let x = &e.explanation;
-    let (value, unit) = if x.equivalent == "inductance" {
-        (x.equivalent_value * 1e3, "mH")
-    } else {
-        (x.equivalent_value * 1e6, "µF")
-    };
-    writeln!(
-        out,
-        "  measured Z   {} Ω = {} Ω {} j{} Ω (series {} of {} {unit} at {} Hz)",
-        num(x.impedance_ohm, 5),
-        num(x.series_resistance_ohm, 5),
-        if x.series_reactance_ohm < 0.0 {
-            "−"
-        } else {
-            "+"
-        },
-        num(x.series_reactance_ohm.abs(), 5),
-        x.equivalent,
-        num(value, 4),
-        num(e.frequency_hz, 6),
-    )?;
+    writeln!(out, "  measured Z   {}", impedance_text(e))?;
     for (k, p) in x.parts.iter().enumerate() {
         let head = if k == 0 { "which part" } else { "" };
         let z = p
