@@ -908,11 +908,7 @@ fn meter_section(h: &mut String, m: &MeterSection) -> std::fmt::Result {
             escape(c.quantity),
             num(c.meter_value, 5),
             num(c.measured_value, 5),
-            if c.error_percent.is_finite() {
-                format!("{:+.2}", c.error_percent)
-            } else {
-                "n/a".into()
-            },
+            super::meter::error_text(c.error_percent),
             num(c.limit_percent, 2),
             num(c.uncertainty_percent, 2),
             verdict_badge(v),

@@ -77,6 +77,15 @@ pub fn write(out: &mut dyn Write, r: &MeterReport, a: &Analysis, format: Format)
     out.flush()
 }
 
+/// A meter's error in percent with its sign, or "n/a" when there was nothing to compare with.
+pub(crate) fn error_text(error_percent: f64) -> String {
+    if error_percent.is_finite() {
+        format!("{error_percent:+.2}")
+    } else {
+        "n/a".into()
+    }
+}
+
 fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
     writeln!(out, "meter check: {}", a.path.display())?;
     writeln!(out, "  class        {}", r.class)?;
@@ -94,11 +103,7 @@ fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
             c.quantity,
             num(c.meter_value, 5),
             num(c.measured_value, 5),
-            if c.error_percent.is_finite() {
-                format!("{:+.2}", c.error_percent)
-            } else {
-                "n/a".into()
-            },
+            error_text(c.error_percent),
             num(c.limit_percent, 2),
             num(c.uncertainty_percent, 2),
             c.verdict.as_str().to_uppercase(),

@@ -3,8 +3,8 @@
 //! verdict of the decision rule.
 
 use super::{
-    PlotError, Swatch, TEXT_PX, TITLE_PX, font, font_at, legend, nice_step, palette, svg_document,
-    tick_label,
+    PlotError, Swatch, TEXT_PX, TITLE_PX, font, font_at, legend, nice_step, palette,
+    standard_chart, svg_document, tick_label,
 };
 use crate::check::decision::Verdict;
 use crate::check::expected::{Expectation, Expected};
@@ -169,14 +169,7 @@ fn draw(d: &BandData) -> Result<String, PlotError> {
             items.push((Swatch::Line(verdict_colour(v)), "measured ± U".to_string()));
         }
         legend(&head, 46, &items)?;
-        let mut chart = ChartBuilder::on(&body)
-            .margin_left(8)
-            .margin_right(24)
-            .margin_bottom(8)
-            .margin_top(4)
-            .x_label_area_size(44)
-            .y_label_area_size(72)
-            .build_cartesian_2d(x0..x1, 0.0..y_top)?;
+        let mut chart = standard_chart(&body).build_cartesian_2d(x0..x1, 0.0..y_top)?;
         let y_step = nice_step(y_top, 5.0);
         chart
             .configure_mesh()

@@ -123,6 +123,21 @@ pub struct Plot {
     pub svg: Result<String, PlotError>,
 }
 
+/// A chart builder with the margins and label areas most plots share (axes on the left and
+/// bottom, room for their descriptions).
+pub(crate) fn standard_chart<'a, 'b, DB: DrawingBackend>(
+    body: &'a DrawingArea<DB, Shift>,
+) -> ChartBuilder<'a, 'b, DB> {
+    let mut b = ChartBuilder::on(body);
+    b.margin_left(8)
+        .margin_right(24)
+        .margin_bottom(8)
+        .margin_top(4)
+        .x_label_area_size(44)
+        .y_label_area_size(72);
+    b
+}
+
 /// The plots of one capture with default options, as `(name, SVG)` pairs; plots that could not
 /// be drawn are left out ([`plots_with`] says why).
 pub fn plots_for(a: &Analysis) -> Vec<(String, String)> {

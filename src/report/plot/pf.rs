@@ -2,7 +2,8 @@
 //! batch summary.
 
 use super::{
-    PlotError, Swatch, TEXT_PX, TITLE_PX, font, font_at, legend, palette, svg_document, tick_label,
+    PlotError, Swatch, TEXT_PX, TITLE_PX, font, font_at, legend, palette, standard_chart,
+    svg_document, tick_label,
 };
 use crate::report::table::num;
 use plotters::prelude::*;
@@ -66,14 +67,7 @@ pub fn plot(pfs: &[f64], threshold: Option<f64>) -> Result<String, PlotError> {
             ));
         }
         legend(&head, 46, &items)?;
-        let mut chart = ChartBuilder::on(&body)
-            .margin_left(8)
-            .margin_right(24)
-            .margin_bottom(8)
-            .margin_top(4)
-            .x_label_area_size(44)
-            .y_label_area_size(72)
-            .build_cartesian_2d(start..1.0, 0.0..y_top)?;
+        let mut chart = standard_chart(&body).build_cartesian_2d(start..1.0, 0.0..y_top)?;
         chart
             .configure_mesh()
             .x_desc("|true PF| (P/S)")

@@ -13,7 +13,7 @@
 
 use super::{
     PlotError, PlotOptions, Swatch, TEXT_PX, TITLE_PX, font, font_at, legend, nice_step, palette,
-    svg_document, tick_label,
+    standard_chart, svg_document, tick_label,
 };
 use crate::analysis::Analysis;
 use crate::report::table::num;
@@ -259,14 +259,7 @@ pub fn plot(a: &Analysis, options: &PlotOptions) -> Result<String, PlotError> {
             items.push((Swatch::Line(palette::ACCENT), "current limit".to_string()));
         }
         legend(&head, 46, &items)?;
-        let mut chart = ChartBuilder::on(&body)
-            .margin_left(8)
-            .margin_right(24)
-            .margin_bottom(8)
-            .margin_top(4)
-            .x_label_area_size(44)
-            .y_label_area_size(72)
-            .build_cartesian_2d(1.4..x_hi, 0.0..y_top)?;
+        let mut chart = standard_chart(&body).build_cartesian_2d(1.4..x_hi, 0.0..y_top)?;
         let y_step = nice_step(y_top, 6.0);
         chart
             .configure_mesh()
