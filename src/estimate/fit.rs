@@ -17,7 +17,9 @@
 
 use ndarray::Array2;
 use rustfft::num_complex::Complex64;
+use std::borrow::Cow;
 use std::f64::consts::PI;
+use std::ops::Range;
 
 /// Samples per projection block; the trig table holds `2·(H+1)·BLOCK` values.
 const BLOCK: usize = 256;
@@ -102,24 +104,43 @@ pub fn fit(y: &[f64], theta: f64, order: usize) -> Option<HarmonicFit> {
     Basis::new(theta, order).fit(y)
 }
 
-/// Cholesky factors of the two normal-equation blocks for one record length.
+/// Cholesky factors of the two normal-equation blocks for one record length and order.
 #[derive(Debug, Clone)]
 struct Factors {
     cos: Array2<f64>,
     sin: Array2<f64>,
 }
 
+/// Projections `Σ y·cos(hθτ)` and `Σ y·sin(hθτ)`, h = 0..=H, of one record about its centre.
+#[derive(Debug, Clone)]
+struct Projection {
+    cos: Vec<f64>,
+    sin: Vec<f64>,
+}
+
+impl Projection {
+    fn zero(order: usize) -> Self {
+        Projection {
+            cos: vec![0.0; order + 1],
+            sin: vec![0.0; order + 1],
+        }
+    }
+}
+
 /// Everything a fit at one frequency and order can share between records: the table of
-/// `cos/sin(hθm)` and the factored normal equations of the last record length seen.
+/// `cos/sin(hθm)` and the factored normal equations of the record lengths seen.
 #[derive(Debug, Clone)]
 pub struct Basis {
     theta: f64,
     order: usize,
     tcos: Vec<f64>,
     tsin: Vec<f64>,
-    /// Record length and its factors (`None` when singular).
-    factors: Option<(usize, Option<Factors>)>,
+    /// Factors by (record length, order), `None` when singular; a few entries at most.
+    factors: Vec<((usize, usize), Option<Factors>)>,
 }
+
+/// Factor sets kept per [`Basis`]; a whole record and its sub-records need two.
+const FACTOR_CACHE: usize = 4;
 
 /// `e^{jhx}` for h = 0..=order by repeated multiplication (one `sin_cos` per call).
 fn powers(x: f64, order: usize, out: &mut Vec<Complex64>) {
@@ -150,7 +171,29 @@ impl Basis {
             order,
             tcos,
             tsin,
-            factors: None,
+            factors: Vec::new(),
+        }
+    }
+
+    /// Factors the normal equations for records of `n` samples fitted to `order` (at most the
+    /// basis's own) ahead of time, so that [`Basis::fit_parts`] on a shared basis finds them.
+    pub fn prepare(&mut self, n: usize, order: usize) {
+        let order = order.min(self.order);
+        if self.factors.iter().any(|(key, _)| *key == (n, order)) {
+            return;
+        }
+        if self.factors.len() == FACTOR_CACHE {
+            self.factors.remove(0);
+        }
+        self.factors
+            .push(((n, order), factor_gram(self.theta, order, n)));
+    }
+
+    /// The factors for `n` samples at `order`: from the cache, else made now.
+    fn factors(&self, n: usize, order: usize) -> Cow<'_, Option<Factors>> {
+        match self.factors.iter().find(|(key, _)| *key == (n, order)) {
+            Some((_, f)) => Cow::Borrowed(f),
+            None => Cow::Owned(factor_gram(self.theta, order, n)),
         }
     }
 
@@ -160,17 +203,73 @@ impl Basis {
         if n < 2 * order + 2 {
             return None;
         }
-        let (proj_cos, proj_sin) = self.project(y);
-        if !matches!(&self.factors, Some((len, _)) if *len == n) {
-            self.factors = Some((n, factor_gram(self.theta, order, n)));
+        self.prepare(n, order);
+        let (whole, _) = self.project(y, &[]);
+        self.solve_projection(n, order, whole, dot(y, y))
+    }
+
+    /// Fits the whole of `y` and, from the same pass over the samples, each of `parts`: ranges of
+    /// `y` in ascending order that do not overlap, fitted to `part_order` (at most the basis's
+    /// order) each about its own centre. Exactly what separate fits of each range would give, up
+    /// to rounding. `None` when the whole record's normal equations are singular; a part's fit is
+    /// `None` when its own are.
+    ///
+    /// # Panics
+    /// When `parts` are not ascending, overlap, or reach past `y`.
+    pub fn fit_parts(
+        &self,
+        y: &[f64],
+        parts: &[Range<usize>],
+        part_order: usize,
+    ) -> Option<(HarmonicFit, Vec<Option<HarmonicFit>>)> {
+        let (n, order) = (y.len(), self.order);
+        let mut last = 0;
+        for p in parts {
+            assert!(
+                last <= p.start && p.start <= p.end && p.end <= n,
+                "fit_parts: the parts must be ascending ranges inside the record"
+            );
+            last = p.end;
         }
-        let f = self.factors.as_ref()?.1.as_ref()?;
+        if n < 2 * order + 2 {
+            return None;
+        }
+        let part_order = part_order.min(order);
+        let (whole, each) = self.project(y, parts);
+        let fit = self.solve_projection(n, order, whole, dot(y, y))?;
+        let fits = each
+            .into_iter()
+            .zip(parts)
+            .map(|(mut p, range)| {
+                let seg = &y[range.clone()];
+                if seg.len() < 2 * part_order + 2 {
+                    return None;
+                }
+                p.cos.truncate(part_order + 1);
+                p.sin.truncate(part_order + 1);
+                self.solve_projection(seg.len(), part_order, p, dot(seg, seg))
+            })
+            .collect();
+        Some((fit, fits))
+    }
+
+    /// Solves the normal equations of an `n`-sample record at `order` from its projections and
+    /// its energy Σ y².
+    fn solve_projection(
+        &self,
+        n: usize,
+        order: usize,
+        p: Projection,
+        energy: f64,
+    ) -> Option<HarmonicFit> {
+        let factors = self.factors(n, order);
+        let f = factors.as_ref().as_ref()?;
+        let (proj_cos, proj_sin) = (p.cos, p.sin);
         let coef_cos = solve(&f.cos, &proj_cos);
         let mut coef_sin = vec![0.0];
         if order > 0 {
             coef_sin.extend(solve(&f.sin, &proj_sin[1..]));
         }
-        let energy: f64 = dot(y, y);
         let explained: f64 = dot(&coef_cos, &proj_cos) + dot(&coef_sin[1..], &proj_sin[1..]);
         let amplitudes = (1..=order)
             .map(|h| Complex64::new(coef_cos[h], -coef_sin[h]))
@@ -188,29 +287,59 @@ impl Basis {
         })
     }
 
-    /// Σ y·cos(hθτ) and Σ y·sin(hθτ) for h = 0..=order, τ centred.
-    fn project(&self, y: &[f64]) -> (Vec<f64>, Vec<f64>) {
+    /// Σ y·cos(hθτ) and Σ y·sin(hθτ) for h = 0..=order with τ about the record's centre, and
+    /// the same for each of `parts` about the part's own centre (ascending, not overlapping).
+    ///
+    /// The record is walked in chunks of at most [`BLOCK`] samples that never straddle a part's
+    /// edge; each chunk's sums against the table are turned to the record's centre and added to
+    /// the record's total and to its part's. A part's total is turned to the part's centre at the
+    /// end: `Σ y e^{jhθ(n−c_p)} = e^{jhθ(c−c_p)} Σ y e^{jhθ(n−c)}`.
+    fn project(&self, y: &[f64], parts: &[Range<usize>]) -> (Projection, Vec<Projection>) {
         let order = self.order;
         let n = y.len();
         let centre = (n as f64 - 1.0) / 2.0;
-        let mut pc = vec![0.0; order + 1];
-        let mut ps = vec![0.0; order + 1];
+        let mut whole = Projection::zero(order);
+        let mut each: Vec<Projection> = parts.iter().map(|_| Projection::zero(order)).collect();
         let mut rot = Vec::with_capacity(order + 1);
+        let mut part = 0;
         let mut n0 = 0;
         while n0 < n {
-            let len = BLOCK.min(n - n0);
+            while part < parts.len() && parts[part].end <= n0 {
+                part += 1;
+            }
+            let inside = part < parts.len() && parts[part].start <= n0;
+            let edge = match parts.get(part) {
+                Some(p) if inside => p.end,
+                Some(p) => p.start,
+                None => n,
+            };
+            let len = BLOCK.min(edge - n0);
             let seg = &y[n0..n0 + len];
             // Σ y e^{jhθ(start+m)} = e^{jhθ·start} (c + js)
             powers(self.theta * (n0 as f64 - centre), order, &mut rot);
             for (h, r) in rot.iter().enumerate() {
                 let c = dot(seg, &self.tcos[h * BLOCK..h * BLOCK + len]);
                 let s = dot(seg, &self.tsin[h * BLOCK..h * BLOCK + len]);
-                pc[h] += r.re * c - r.im * s;
-                ps[h] += r.im * c + r.re * s;
+                let (pc, ps) = (r.re * c - r.im * s, r.im * c + r.re * s);
+                whole.cos[h] += pc;
+                whole.sin[h] += ps;
+                if inside {
+                    each[part].cos[h] += pc;
+                    each[part].sin[h] += ps;
+                }
             }
             n0 += len;
         }
-        (pc, ps)
+        for (p, range) in each.iter_mut().zip(parts) {
+            let own_centre = range.start as f64 + (range.len() as f64 - 1.0) / 2.0;
+            powers(self.theta * (centre - own_centre), order, &mut rot);
+            for (h, r) in rot.iter().enumerate() {
+                let (c, s) = (p.cos[h], p.sin[h]);
+                p.cos[h] = r.re * c - r.im * s;
+                p.sin[h] = r.im * c + r.re * s;
+            }
+        }
+        (whole, each)
     }
 }
 
@@ -350,7 +479,8 @@ mod tests {
     fn block_projection_matches_direct_sums() {
         let y: Vec<f64> = (0..1300).map(|k| ((k * 37 % 101) as f64) - 50.0).collect();
         let theta = 0.0123;
-        let (pc, ps) = Basis::new(theta, 7).project(&y);
+        let (p, _) = Basis::new(theta, 7).project(&y, &[]);
+        let (pc, ps) = (p.cos, p.sin);
         let c = (y.len() as f64 - 1.0) / 2.0;
         for h in 0..=7 {
             let dc: f64 = y
@@ -366,6 +496,38 @@ mod tests {
             assert!((pc[h] - dc).abs() < 1e-8 * dc.abs().max(1.0), "h{h} cos");
             assert!((ps[h] - ds).abs() < 1e-8 * ds.abs().max(1.0), "h{h} sin");
         }
+    }
+
+    /// Parts fitted from the whole record's pass equal separate fits of the same samples, with
+    /// parts that start off a block edge, end inside one, span several and use a lower order.
+    #[test]
+    fn parts_match_separate_fits() {
+        let y: Vec<f64> = (0..2000)
+            .map(|k| {
+                let t = k as f64 * 0.031;
+                3.0 * t.cos() + 0.4 * (3.0 * t + 0.3).sin() + ((k * 37 % 101) as f64) / 500.0
+            })
+            .collect();
+        let theta = 0.031;
+        let parts = [0..300, 300..301, 301..900, 1000..1777];
+        let mut basis = Basis::new(theta, 9);
+        let (whole, fits) = basis.fit_parts(&y, &parts, 6).unwrap();
+        let alone = fit(&y, theta, 9).unwrap();
+        assert!((whole.dc - alone.dc).abs() < 1e-12);
+        assert!((whole.residual_ss - alone.residual_ss).abs() < 1e-9 * alone.energy);
+        assert!(fits[1].is_none(), "one sample cannot carry a fit");
+        for (k, range) in parts.iter().enumerate().filter(|(k, _)| *k != 1) {
+            let a = fit(&y[range.clone()], theta, 6).unwrap();
+            let b = fits[k].as_ref().unwrap();
+            assert_eq!(b.amplitudes.len(), 6);
+            assert!((a.dc - b.dc).abs() < 1e-10, "part {k} dc");
+            for (x, z) in a.amplitudes.iter().zip(&b.amplitudes) {
+                assert!((x - z).norm() < 1e-10, "part {k}: {x} vs {z}");
+            }
+            assert!((a.residual_ss - b.residual_ss).abs() < 1e-9 * a.energy);
+        }
+        basis.prepare(600, 6);
+        assert!(basis.fit_parts(&y, &parts, 6).is_some());
     }
 
     /// A sum of harmonics on 3.37 cycles (not an integer) comes back exactly.

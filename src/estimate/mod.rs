@@ -20,6 +20,7 @@ use crate::condition::{block_average_gain, decimate};
 use crate::warning::Trace;
 use rustfft::num_complex::Complex64;
 use std::f64::consts::{PI, SQRT_2};
+use std::ops::Range;
 pub use zero_crossing::CrossingPhase;
 
 /// Harmonic orders fitted at least (when the sample rate allows), whatever is reported: unmodelled
@@ -153,19 +154,12 @@ pub const WINDOW_SECONDS: f64 = 0.2;
 /// At most this many sub-records; longer records get longer windows.
 pub const MAX_WINDOWS: usize = 200;
 
-/// Fits both traces over consecutive windows of whole cycles (about [`WINDOW_SECONDS`] each, at
-/// least two windows). `f` is the fundamental in Hz, `fs` the rate of `vd` and `id`; `correct`
-/// undoes the decimation gain of harmonic h.
-fn window_fits(
-    vd: &[f64],
-    id: &[f64],
-    f: f64,
-    fs: f64,
-    order: usize,
-    correct: impl Fn(usize, Complex64) -> Complex64,
-) -> Vec<WindowEstimate> {
+/// Consecutive windows of whole cycles (about [`WINDOW_SECONDS`] each, at least two) over a
+/// record of `n` samples at `fs` Hz with fundamental `f`, and the harmonic order each can carry
+/// (at most `order`; 0 when they are too short for any fit).
+fn window_ranges(n: usize, f: f64, fs: f64, order: usize) -> (Vec<Range<usize>>, usize) {
     let per_cycle = fs / f;
-    let cycles = (vd.len() as f64 / per_cycle).floor();
+    let cycles = (n as f64 / per_cycle).floor();
     let mut cpw = (WINDOW_SECONDS * f).round().max(1.0);
     if (cycles / cpw).floor() > MAX_WINDOWS as f64 {
         cpw = (cycles / MAX_WINDOWS as f64).ceil();
@@ -174,39 +168,47 @@ fn window_fits(
     let len = if (cycles / cpw).floor() >= 2.0 {
         (cpw * per_cycle).round() as usize
     } else {
-        vd.len() / 2
+        n / 2
     };
     let order = order.min(len.saturating_sub(4) / 3);
-    let theta = 2.0 * PI * f / fs;
-    let mut out = Vec::with_capacity(count);
-    if order == 0 {
-        return out;
-    }
-    let mut basis = fit::Basis::new(theta, order);
-    for w in 0..count {
-        let range = w * len..(w + 1) * len;
-        let (Some(fv), Some(fi)) = (basis.fit(&vd[range.clone()]), basis.fit(&id[range.clone()]))
-        else {
-            continue;
-        };
-        let sum_vi: f64 = fit::dot(&vd[range.clone()], &id[range]);
-        let phasors = |x: &fit::HarmonicFit| WindowPhasors {
-            dc: x.dc,
-            harmonics: x
-                .amplitudes
-                .iter()
-                .enumerate()
-                .map(|(k, a)| correct(k + 1, *a))
-                .collect(),
-            residual_ms: x.residual_ms(),
-        };
-        out.push(WindowEstimate {
-            voltage: phasors(&fv),
-            current: phasors(&fi),
-            residual_cross: fv.residual_cross(&fi, sum_vi) / len as f64,
-        });
-    }
-    out
+    ((0..count).map(|w| w * len..(w + 1) * len).collect(), order)
+}
+
+/// Puts the window fits of the two traces together (`correct` undoes the decimation gain of
+/// harmonic h); a window either trace could not fit is left out.
+fn window_estimates(
+    vd: &[f64],
+    id: &[f64],
+    ranges: &[Range<usize>],
+    fits_v: &[Option<fit::HarmonicFit>],
+    fits_i: &[Option<fit::HarmonicFit>],
+    correct: impl Fn(usize, Complex64) -> Complex64,
+) -> Vec<WindowEstimate> {
+    let phasors = |x: &fit::HarmonicFit| WindowPhasors {
+        dc: x.dc,
+        harmonics: x
+            .amplitudes
+            .iter()
+            .enumerate()
+            .map(|(k, a)| correct(k + 1, *a))
+            .collect(),
+        residual_ms: x.residual_ms(),
+    };
+    ranges
+        .iter()
+        .zip(fits_v.iter().zip(fits_i))
+        .filter_map(|(range, pair)| {
+            let (Some(fv), Some(fi)) = pair else {
+                return None;
+            };
+            let sum_vi = fit::dot(&vd[range.clone()], &id[range.clone()]);
+            Some(WindowEstimate {
+                voltage: phasors(fv),
+                current: phasors(fi),
+                residual_cross: fv.residual_cross(fi, sum_vi) / range.len() as f64,
+            })
+        })
+        .collect()
 }
 
 /// Estimates frequency and phasors of `v` and `i` sampled at `fs` Hz, fitting at least
@@ -273,9 +275,25 @@ pub fn estimate(
     // Peak amplitude at the decimated rate -> RMS phasor of the input signal.
     let correct =
         |h: usize, a: Complex64| a / (SQRT_2 * block_average_gain(h as f64 * omega_in, decimation));
-    let channel = |y: &[f64], yd: &[f64]| -> Result<ChannelPhasors, EstimateError> {
-        let fit = fit::Basis::new(theta, order)
-            .fit(yd)
+    // One basis for both traces; the windows' fits come from the same pass as the whole
+    // record's.
+    let (ranges, window_order) = window_ranges(vd.len(), f, fsd, order);
+    let ranges = if window_order == 0 {
+        Vec::new()
+    } else {
+        ranges
+    };
+    let mut basis = fit::Basis::new(theta, order);
+    basis.prepare(vd.len(), order);
+    if let Some(r) = ranges.first() {
+        basis.prepare(r.len(), window_order);
+    }
+    let basis = &basis;
+    let channel = |y: &[f64],
+                   yd: &[f64]|
+     -> Result<(ChannelPhasors, Vec<Option<fit::HarmonicFit>>), EstimateError> {
+        let (fit, window_fits) = basis
+            .fit_parts(yd, &ranges, window_order)
             .ok_or(EstimateError::NoPeriodicSignal)?;
         let harmonics: Vec<Complex64> = fit
             .amplitudes
@@ -313,7 +331,7 @@ pub fn estimate(
         } else {
             None
         };
-        Ok(ChannelPhasors {
+        let phasors = ChannelPhasors {
             dc: fit.dc,
             harmonics,
             residual_rms,
@@ -321,10 +339,11 @@ pub fn estimate(
             has_fundamental,
             fundamental_ratio,
             crossing,
-        })
+        };
+        Ok((phasors, window_fits))
     };
     let (voltage, current) = both(|| channel(v, &vd), || channel(i, &id));
-    let (voltage, current) = (voltage?, current?);
+    let ((voltage, windows_v), (current, windows_i)) = (voltage?, current?);
     // Cramér-Rao bound for the frequency (Kay, vol. I; references §4), in cycles per sample.
     let src = if source == Trace::Voltage {
         &voltage
@@ -345,7 +364,7 @@ pub fn estimate(
         reference_sample,
         voltage,
         current,
-        windows: window_fits(&vd, &id, f, fsd, order, correct),
+        windows: window_estimates(&vd, &id, &ranges, &windows_v, &windows_i, correct),
     })
 }
 
