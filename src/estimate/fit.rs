@@ -15,6 +15,8 @@
 //!
 //! The fit stays exact on a non-integer number of cycles, where a bare DFT leaks.
 
+pub(crate) use super::simd::dot;
+use super::simd::table_sums;
 use ndarray::Array2;
 use rustfft::num_complex::Complex64;
 use std::borrow::Cow;
@@ -22,7 +24,7 @@ use std::f64::consts::PI;
 use std::ops::Range;
 
 /// Samples per projection block; the trig table holds `2·(H+1)·BLOCK` values.
-const BLOCK: usize = 256;
+const BLOCK: usize = 64;
 
 /// Result of one fit.
 #[derive(Debug, Clone, PartialEq)]
@@ -135,9 +137,16 @@ pub struct Basis {
     order: usize,
     tcos: Vec<f64>,
     tsin: Vec<f64>,
+    /// `e^{jhθ·BLOCK}`, h = 0..=order: the turn from one full chunk to the next.
+    step_re: Vec<f64>,
+    step_im: Vec<f64>,
     /// Factors by (record length, order), `None` when singular; a few entries at most.
     factors: Vec<((usize, usize), Option<Factors>)>,
 }
+
+/// Full-length chunks the turn is carried over before it is computed afresh (its rounding grows
+/// by about one unit in the last place per chunk).
+const RESYNC: usize = 32;
 
 /// Factor sets kept per [`Basis`]; a whole record and its sub-records need two.
 const FACTOR_CACHE: usize = 4;
@@ -166,11 +175,19 @@ impl Basis {
                 tsin[h * BLOCK + m] = z.im;
             }
         }
+        let (step_re, step_im) = (0..=order)
+            .map(|h| {
+                let (s, c) = (theta * (h * BLOCK) as f64).sin_cos();
+                (c, s)
+            })
+            .unzip();
         Basis {
             theta,
             order,
             tcos,
             tsin,
+            step_re,
+            step_im,
             factors: Vec::new(),
         }
     }
@@ -301,6 +318,13 @@ impl Basis {
         let mut whole = Projection::zero(order);
         let mut each: Vec<Projection> = parts.iter().map(|_| Projection::zero(order)).collect();
         let mut rot = Vec::with_capacity(order + 1);
+        // e^{jhθ(n0−c)} for the chunk at n0, split in parts for the vectorised loops, and the
+        // sample it is good for with the full-length steps taken since it was computed afresh
+        let (mut rot_re, mut rot_im) = (vec![0.0; order + 1], vec![0.0; order + 1]);
+        let mut rot_at: Option<(usize, usize)> = None;
+        let (mut c, mut s) = (vec![0.0; order + 1], vec![0.0; order + 1]);
+        // the chunk, zero-padded to a multiple of four samples
+        let mut chunk = [0.0f64; BLOCK];
         let mut part = 0;
         let mut n0 = 0;
         while n0 < n {
@@ -314,19 +338,43 @@ impl Basis {
                 None => n,
             };
             let len = BLOCK.min(edge - n0);
-            let seg = &y[n0..n0 + len];
-            // Σ y e^{jhθ(start+m)} = e^{jhθ·start} (c + js)
-            powers(self.theta * (n0 as f64 - centre), order, &mut rot);
-            for (h, r) in rot.iter().enumerate() {
-                let c = dot(seg, &self.tcos[h * BLOCK..h * BLOCK + len]);
-                let s = dot(seg, &self.tsin[h * BLOCK..h * BLOCK + len]);
-                let (pc, ps) = (r.re * c - r.im * s, r.im * c + r.re * s);
-                whole.cos[h] += pc;
-                whole.sin[h] += ps;
-                if inside {
-                    each[part].cos[h] += pc;
-                    each[part].sin[h] += ps;
+            let padded = len.div_ceil(4) * 4;
+            chunk[..len].copy_from_slice(&y[n0..n0 + len]);
+            chunk[len..padded].fill(0.0);
+            table_sums(
+                &chunk[..padded],
+                &self.tcos,
+                &self.tsin,
+                BLOCK,
+                &mut c,
+                &mut s,
+            );
+            // Σ y e^{jhθ(start+m)} = e^{jhθ·start} (c + js). The turn e^{jhθ·start} is carried
+            // from chunk to chunk by one multiplication per harmonic (independent, so they run
+            // side by side), and computed afresh after a short chunk and every RESYNC chunks.
+            let steps = match rot_at {
+                Some((at, k)) if at == n0 && k < RESYNC => k,
+                _ => {
+                    powers(self.theta * (n0 as f64 - centre), order, &mut rot);
+                    for (h, r) in rot.iter().enumerate() {
+                        rot_re[h] = r.re;
+                        rot_im[h] = r.im;
+                    }
+                    0
                 }
+            };
+            let target = if inside { Some(&mut each[part]) } else { None };
+            turn_and_add(&rot_re, &rot_im, &c, &s, &mut whole, target);
+            if len == BLOCK {
+                for h in 0..=order {
+                    let (re, im) = (rot_re[h], rot_im[h]);
+                    let (sr, si) = (self.step_re[h], self.step_im[h]);
+                    rot_re[h] = re * sr - im * si;
+                    rot_im[h] = re * si + im * sr;
+                }
+                rot_at = Some((n0 + BLOCK, steps + 1));
+            } else {
+                rot_at = None;
             }
             n0 += len;
         }
@@ -340,6 +388,40 @@ impl Basis {
             }
         }
         (whole, each)
+    }
+}
+
+/// Adds the chunk sums `c + js`, turned by `rot`, to the record's projection and, when given, to
+/// its part's.
+#[inline]
+fn turn_and_add(
+    rot_re: &[f64],
+    rot_im: &[f64],
+    c: &[f64],
+    s: &[f64],
+    whole: &mut Projection,
+    part: Option<&mut Projection>,
+) {
+    let n = c.len();
+    let (rr, ri, s) = (&rot_re[..n], &rot_im[..n], &s[..n]);
+    let (wc, ws) = (&mut whole.cos[..n], &mut whole.sin[..n]);
+    match part {
+        Some(p) => {
+            let (pc, ps) = (&mut p.cos[..n], &mut p.sin[..n]);
+            for h in 0..n {
+                let (x, y) = (rr[h] * c[h] - ri[h] * s[h], ri[h] * c[h] + rr[h] * s[h]);
+                wc[h] += x;
+                ws[h] += y;
+                pc[h] += x;
+                ps[h] += y;
+            }
+        }
+        None => {
+            for h in 0..n {
+                wc[h] += rr[h] * c[h] - ri[h] * s[h];
+                ws[h] += ri[h] * c[h] + rr[h] * s[h];
+            }
+        }
     }
 }
 
@@ -373,41 +455,6 @@ fn factor_gram(theta: f64, order: usize, n: usize) -> Option<Factors> {
         cos: cholesky(gc)?,
         sin: cholesky(gs)?,
     })
-}
-
-/// Dot product with eight accumulators (lets the compiler use SIMD without `-ffast-math`).
-#[inline(always)]
-fn dot_lanes(a: &[f64], b: &[f64]) -> f64 {
-    let mut acc = [0.0f64; 8];
-    let ca = a.chunks_exact(8);
-    let cb = b.chunks_exact(8);
-    let (ra, rb) = (ca.remainder(), cb.remainder());
-    for (x, y) in ca.zip(cb) {
-        for k in 0..8 {
-            acc[k] += x[k] * y[k];
-        }
-    }
-    let tail: f64 = ra.iter().zip(rb).map(|(x, y)| x * y).sum();
-    ((acc[0] + acc[4]) + (acc[1] + acc[5])) + ((acc[2] + acc[6]) + (acc[3] + acc[7])) + tail
-}
-
-/// The same code compiled for AVX2 and FMA, for processors that have them.
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2,fma")]
-fn dot_avx2(a: &[f64], b: &[f64]) -> f64 {
-    dot_lanes(a, b)
-}
-
-/// Dot product; uses AVX2 and FMA where the processor has them (checked once, then cached by
-/// the standard library). The sum is the same expression either way, up to FMA rounding.
-#[inline]
-pub(crate) fn dot(a: &[f64], b: &[f64]) -> f64 {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma") {
-        // SAFETY: the processor supports AVX2 and FMA, checked just above.
-        return unsafe { dot_avx2(a, b) };
-    }
-    dot_lanes(a, b)
 }
 
 /// Cholesky factor (lower triangle, in place) of a symmetric positive-definite matrix; `None`

@@ -14,6 +14,7 @@
 
 pub mod fit;
 pub mod frequency;
+pub mod simd;
 pub mod zero_crossing;
 
 use crate::condition::{block_average_gain, decimate};
@@ -201,7 +202,7 @@ fn window_estimates(
             let (Some(fv), Some(fi)) = pair else {
                 return None;
             };
-            let sum_vi = fit::dot(&vd[range.clone()], &id[range.clone()]);
+            let sum_vi = simd::dot(&vd[range.clone()], &id[range.clone()]);
             Some(WindowEstimate {
                 voltage: phasors(fv),
                 current: phasors(fi),
