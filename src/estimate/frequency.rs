@@ -39,27 +39,37 @@ pub fn coarse(y: &[f64], fs: f64) -> Option<f64> {
         return None;
     }
     let mean = x.iter().sum::<f64>() / n as f64;
+    // Hann window 0.5 − 0.5·cos(2πk/n); the cosine by rotation, taken afresh every 1024 samples
+    // so rounding cannot build up.
+    let step = Complex64::from_polar(1.0, 2.0 * PI / n as f64);
+    let mut z = Complex64::new(1.0, 0.0);
     let mut buf: Vec<Complex64> = x
         .iter()
         .enumerate()
         .map(|(k, v)| {
-            let w = 0.5 - 0.5 * (2.0 * PI * k as f64 / n as f64).cos();
+            if k % 1024 == 0 {
+                z = Complex64::from_polar(1.0, 2.0 * PI * k as f64 / n as f64);
+            }
+            let w = 0.5 - 0.5 * z.re;
+            z *= step;
             Complex64::new((v - mean) * w, 0.0)
         })
         .collect();
     PLANNER
         .with(|p| p.borrow_mut().plan_fft_forward(n))
         .process(&mut buf);
-    let mag: Vec<f64> = buf[..n / 2].iter().map(|c| c.norm()).collect();
+    // the magnitude as the root of the squared norm: much cheaper than `hypot`, and no sample
+    // here is large enough for the square to overflow (see `MAX_MAGNITUDE`)
+    let mag: Vec<f64> = buf[..n / 2].iter().map(|c| c.norm_sqr().sqrt()).collect();
     let first = 2; // below two bins: DC leakage of the window, and under two cycles
     if mag.len() <= first + 2 {
         return None;
     }
     let peak = (first..mag.len() - 1).max_by(|&a, &b| mag[a].total_cmp(&mag[b]))?;
     // The peak must stand well above the spectrum's median (noise floor).
-    let mut sorted = mag[first..].to_vec();
-    sorted.sort_unstable_by(f64::total_cmp);
-    let median = sorted[sorted.len() / 2];
+    let mut rest = mag[first..].to_vec();
+    let mid = rest.len() / 2;
+    let median = *rest.select_nth_unstable_by(mid, f64::total_cmp).1;
     if !(mag[peak] > 10.0 * median) {
         return None;
     }
