@@ -206,10 +206,17 @@ fn rss(parts: &[f64]) -> f64 {
 /// The smallest positive step between distinct values among up to 4096 samples.
 fn observed_step(y: &[f64]) -> f64 {
     let stride = (y.len() / 4096).max(1);
-    let mut s: Vec<f64> = y.iter().step_by(stride).copied().collect();
-    s.sort_unstable_by(f64::total_cmp);
+    // Sorted as integers in the order of `f64::total_cmp` (the same bit flip, its own inverse),
+    // which sorts several times faster than comparing floats.
+    let flip = |b: i64| b ^ ((((b >> 63) as u64) >> 1) as i64);
+    let mut s: Vec<i64> = y
+        .iter()
+        .step_by(stride)
+        .map(|x| flip(x.to_bits() as i64))
+        .collect();
+    s.sort_unstable();
     s.windows(2)
-        .map(|w| w[1] - w[0])
+        .map(|w| f64::from_bits(flip(w[1]) as u64) - f64::from_bits(flip(w[0]) as u64))
         .filter(|d| *d > 0.0)
         .fold(f64::INFINITY, f64::min)
 }
@@ -328,5 +335,31 @@ pub fn uncertainty(
             active_w: k * u_p,
             reactive_var: k * u_q,
         },
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::observed_step;
+
+    /// The step of a quantised trace, across zero and with repeats, matches a plain
+    /// float-comparison sort.
+    #[test]
+    fn observed_step_finds_the_quantisation_step() {
+        let q = 0.0625;
+        let y: Vec<f64> = (0..3000)
+            .map(|k| ((k as f64 * 0.37).sin() * 40.0).round() * q - 0.5)
+            .collect();
+        let mut naive = y.clone();
+        naive.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        let want = naive
+            .windows(2)
+            .map(|w| w[1] - w[0])
+            .filter(|d| *d > 0.0)
+            .fold(f64::INFINITY, f64::min);
+        assert_eq!(observed_step(&y), want);
+        assert!((want - q).abs() < 1e-12);
+        assert_eq!(observed_step(&[-1.0, -3.0, 2.0, -0.5]), 0.5);
+        assert_eq!(observed_step(&[1.0, 1.0]), f64::INFINITY);
     }
 }
