@@ -522,9 +522,11 @@ mod tests {
         }
     }
 
+    /// 5 300 samples: more full chunks than the turn is carried over (RESYNC), and a short last
+    /// chunk.
     #[test]
     fn block_projection_matches_direct_sums() {
-        let y: Vec<f64> = (0..1300).map(|k| ((k * 37 % 101) as f64) - 50.0).collect();
+        let y: Vec<f64> = (0..5300).map(|k| ((k * 37 % 101) as f64) - 50.0).collect();
         let theta = 0.0123;
         let (p, _) = Basis::new(theta, 7).project(&y, &[]);
         let (pc, ps) = (p.cos, p.sin);
