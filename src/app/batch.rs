@@ -135,7 +135,8 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     for (p, e) in &discovery.unreadable {
         let _ = writeln!(err, "error: {}: cannot read: {e}", p.display());
     }
-    let jobs: Vec<Job> = batch::plan(&discovery.files, &layer_from(&a.overrides), &mc);
+    let cli_layer = layer_from(&a.overrides);
+    let mut planner = batch::Planner::new(&cli_layer, &mc);
     let columns = match format {
         SummaryFormat::Csv => batch::csv_columns(),
         SummaryFormat::Json => Vec::new(),
@@ -175,14 +176,16 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         .num_threads(jobs_n)
         .build()
         .map_err(|e| format!("cannot start {jobs_n} worker threads: {e}"))?;
-    let progress = ProgressBar::new(jobs.len() as u64);
+    let progress = ProgressBar::new(discovery.files.len() as u64);
     let mut tally = Tally::default();
     // With --resume the final file is rewritten in sorted order: keep every line for that.
     let mut all_lines: Vec<String> = Vec::new();
     // With --report every analysis is kept for the report (memory grows with the folder).
     let keep = a.report.is_some();
     let mut kept: Vec<Result<crate::analysis::Analysis, (String, String)>> = Vec::new();
-    for chunk in jobs.chunks(CHUNK) {
+    // Settings are resolved a chunk at a time: only that chunk's jobs are held.
+    for found in discovery.files.chunks(CHUNK) {
+        let chunk: Vec<Job> = found.iter().map(|f| planner.job(f)).collect();
         let results: Vec<Outcome1> = pool.install(|| {
             chunk
                 .par_iter()
@@ -264,7 +267,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         }
     }
     let total = started.elapsed().as_secs_f64();
-    let n = jobs.len();
+    let n = discovery.files.len();
     let _ = writeln!(
         err,
         "batch: {n} files in {total:.2} s ({:.0} files/s): {} ok, {} warning, {} error{}; {} other files skipped{}",

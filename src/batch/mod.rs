@@ -71,46 +71,66 @@ pub struct Job {
 
 /// Resolves the settings of every capture: sidecars from the root down, then `cli`.
 pub fn plan(found: &[Found], cli: &Layer, monte_carlo: &MonteCarloConfig) -> Vec<Job> {
-    let mut sidecars: HashMap<PathBuf, Option<Result<Arc<Sidecar>, String>>> = HashMap::new();
-    let mut models: HashMap<PathBuf, Result<Arc<Circuit>, String>> = HashMap::new();
-    found
-        .iter()
-        .map(|f| {
-            let name = f
-                .path
-                .file_name()
-                .map(|n| n.to_string_lossy().into_owned())
-                .unwrap_or_default();
-            let mut layer = Layer::default();
-            let mut trouble = None;
-            for dir in folders_between(&f.root, &f.path) {
-                let entry = sidecars.entry(dir.clone()).or_insert_with(|| {
-                    let p = dir.join(SIDECAR);
-                    p.is_file()
-                        .then(|| Sidecar::load(&p).map(Arc::new).map_err(|e| e.to_string()))
-                });
-                match entry {
-                    Some(Ok(s)) => s.layers_for(&name).for_each(|l| layer.apply(l)),
-                    Some(Err(e)) => trouble = Some(e.clone()),
-                    None => {}
-                }
+    let mut planner = Planner::new(cli, monte_carlo);
+    found.iter().map(|f| planner.job(f)).collect()
+}
+
+/// Resolves settings capture by capture, so a batch can plan one chunk at a time and hold only
+/// that chunk's jobs. Sidecars and circuit models are read once each and kept.
+pub struct Planner<'a> {
+    cli: &'a Layer,
+    monte_carlo: &'a MonteCarloConfig,
+    sidecars: HashMap<PathBuf, Option<Result<Arc<Sidecar>, String>>>,
+    models: HashMap<PathBuf, Result<Arc<Circuit>, String>>,
+}
+
+impl<'a> Planner<'a> {
+    /// A planner with the command line's settings on top of every sidecar.
+    pub fn new(cli: &'a Layer, monte_carlo: &'a MonteCarloConfig) -> Self {
+        Planner {
+            cli,
+            monte_carlo,
+            sidecars: HashMap::new(),
+            models: HashMap::new(),
+        }
+    }
+
+    /// The job of one capture.
+    pub fn job(&mut self, f: &Found) -> Job {
+        let name = f
+            .path
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_default();
+        let mut layer = Layer::default();
+        let mut trouble = None;
+        for dir in folders_between(&f.root, &f.path) {
+            let entry = self.sidecars.entry(dir.clone()).or_insert_with(|| {
+                let p = dir.join(SIDECAR);
+                p.is_file()
+                    .then(|| Sidecar::load(&p).map(Arc::new).map_err(|e| e.to_string()))
+            });
+            match entry {
+                Some(Ok(s)) => s.layers_for(&name).for_each(|l| layer.apply(l)),
+                Some(Err(e)) => trouble = Some(e.clone()),
+                None => {}
             }
-            layer.apply(cli);
-            let settings_json = serde_json::to_string(&layer).unwrap_or_default();
-            let settings_hash =
-                summary::fingerprint(format!("{settings_json}|{monte_carlo:?}").as_bytes());
-            let setup = match trouble {
-                Some(e) => Err(e),
-                None => resolve(&layer, monte_carlo, &mut models),
-            };
-            Job {
-                path: f.path.clone(),
-                setup,
-                settings_json,
-                settings_hash,
-            }
-        })
-        .collect()
+        }
+        layer.apply(self.cli);
+        let settings_json = serde_json::to_string(&layer).unwrap_or_default();
+        let settings_hash =
+            summary::fingerprint(format!("{settings_json}|{:?}", self.monte_carlo).as_bytes());
+        let setup = match trouble {
+            Some(e) => Err(e),
+            None => resolve(&layer, self.monte_carlo, &mut self.models),
+        };
+        Job {
+            path: f.path.clone(),
+            setup,
+            settings_json,
+            settings_hash,
+        }
+    }
 }
 
 /// The folders from `root` down to the folder holding `file` (both included).
