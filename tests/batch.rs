@@ -315,3 +315,49 @@ fn a_failed_verdict_gives_exit_code_1() {
         "outside"
     );
 }
+
+/// JSON Lines: a resumed run after one capture changed and one was added writes the same summary
+/// as a fresh run over the folder as it now is.
+#[test]
+fn resume_in_json_lines_equals_a_fresh_run() {
+    let dir = site();
+    std::fs::remove_file(dir.path().join("site/motors/broken.csv")).unwrap();
+    let run = |out: &Path, extra: &[&str]| {
+        tracephase()
+            .args(["batch", "--format", "json", "--out"])
+            .arg(out)
+            .args(extra)
+            .arg(dir.path().join("site"))
+            .assert()
+            .success()
+            .get_output()
+            .stderr
+            .clone()
+    };
+    let resumed = dir.path().join("resumed.jsonl");
+    run(&resumed, &[]);
+    capture(
+        &dir.path().join("site/motors/m1.csv"),
+        6.0,
+        40.0,
+        10.0,
+        2000,
+    );
+    capture(
+        &dir.path().join("site/motors/m0-added.csv"),
+        3.0,
+        20.0,
+        10.0,
+        2000,
+    );
+    let err = String::from_utf8(run(&resumed, &["--resume"])).unwrap();
+    assert!(err.contains("kept from the earlier summary"), "{err}");
+    let fresh = dir.path().join("fresh.jsonl");
+    run(&fresh, &[]);
+    let (a, b) = (
+        std::fs::read_to_string(&resumed).unwrap(),
+        std::fs::read_to_string(&fresh).unwrap(),
+    );
+    assert_eq!(a.lines().count(), b.lines().count());
+    assert_eq!(a, b);
+}

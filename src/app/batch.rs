@@ -12,6 +12,7 @@ use rayon::prelude::*;
 use std::collections::HashMap;
 use std::fs::{File, OpenOptions};
 use std::io::{BufRead, Write};
+use std::io::{Read, Seek, SeekFrom};
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
@@ -154,21 +155,27 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     };
     let cannot =
         |p: &Path, e: std::io::Error| format!("{}: cannot write the summary: {e}", p.display());
+    // Bytes in the summary file so far: new rows' places follow from it.
+    let mut written: u64;
     let mut sink = match &a.out {
-        Some(p) if !past.is_empty() => Sink::File(
-            OpenOptions::new()
+        Some(p) if !past.is_empty() => {
+            let f = OpenOptions::new()
                 .append(true)
                 .open(p)
-                .map_err(|e| cannot(p, e))?,
-        ),
+                .map_err(|e| cannot(p, e))?;
+            written = f.metadata().map_err(|e| cannot(p, e))?.len();
+            Sink::File(f)
+        }
         Some(p) => {
             let mut f = File::create(p).map_err(|e| cannot(p, e))?;
             f.write_all(header.as_bytes()).map_err(|e| cannot(p, e))?;
+            written = header.len() as u64;
             Sink::File(f)
         }
         None => {
             out.write_all(header.as_bytes())
                 .map_err(|e| e.to_string())?;
+            written = header.len() as u64;
             Sink::Stdout(out)
         }
     };
@@ -178,8 +185,9 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         .map_err(|e| format!("cannot start {jobs_n} worker threads: {e}"))?;
     let progress = ProgressBar::new(discovery.files.len() as u64);
     let mut tally = Tally::default();
-    // With --resume the final file is rewritten in sorted order: keep every line for that.
-    let mut all_lines: Vec<String> = Vec::new();
+    // With --resume the final file is rewritten in sorted order from the rows' places in it
+    // (kept rows where the earlier run wrote them, new rows where this run appended them).
+    let mut spans: Vec<std::ops::Range<u64>> = Vec::new();
     // With --report every analysis is kept for the report (memory grows with the folder).
     let keep = a.report.is_some();
     let mut kept: Vec<Result<crate::analysis::Analysis, (String, String)>> = Vec::new();
@@ -211,7 +219,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                 Outcome1::Kept(p) => {
                     tally.kept += 1;
                     tally.count(&p.status, p.verdict_failed);
-                    all_lines.push(p.line);
+                    spans.push(p.span);
                 }
                 Outcome1::New(row, took, analysis) => {
                     if keep {
@@ -232,9 +240,11 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                     let line = row.line(format, &columns).map_err(|e| e.to_string())?;
                     sink.line(&line)
                         .map_err(|e| format!("cannot write the summary: {e}"))?;
+                    let end = written + line.len() as u64;
                     if a.resume {
-                        all_lines.push(line);
+                        spans.push(written..end);
                     }
+                    written = end;
                 }
             }
         }
@@ -245,12 +255,17 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         // the same rows as an uninterrupted run, in sorted order, swapped in at once
         let tmp = p.with_extension("tmp-resume");
         let write = || -> std::io::Result<()> {
-            let mut f = File::create(&tmp)?;
+            let mut from = File::open(p)?;
+            let mut f = std::io::BufWriter::new(File::create(&tmp)?);
             f.write_all(header.as_bytes())?;
-            for l in &all_lines {
-                f.write_all(l.as_bytes())?;
+            let mut line = Vec::new();
+            for span in &spans {
+                line.resize((span.end - span.start) as usize, 0);
+                from.seek(SeekFrom::Start(span.start))?;
+                from.read_exact(&mut line)?;
+                f.write_all(&line)?;
             }
-            f.sync_all()?;
+            f.into_inner().map_err(|e| e.into_error())?.sync_all()?;
             std::fs::rename(&tmp, p)
         };
         write().map_err(|e| cannot(p, e))?;

@@ -195,8 +195,9 @@ pub struct PastRow {
     pub content_hash: String,
     /// Settings fingerprint when it was written.
     pub settings_hash: String,
-    /// The line exactly as it should be written again.
-    pub line: String,
+    /// Where the line sits in the summary file, in bytes (its newline included); the file is
+    /// only ever cut back to a whole line and appended to, so the place holds for the whole run.
+    pub span: std::ops::Range<u64>,
     /// Its status word.
     pub status: String,
     /// Some verdict in it was `outside` or `fail`.
@@ -220,9 +221,16 @@ pub fn read_past(
     };
     match format {
         SummaryFormat::Json => {
-            for line in io::BufReader::new(file).lines() {
-                let Ok(line) = line else { break };
-                let Ok(Value::Object(m)) = serde_json::from_str::<Value>(&line) else {
+            let mut r = io::BufReader::new(file);
+            let (mut line, mut at) = (String::new(), 0u64);
+            loop {
+                line.clear();
+                let Ok(read @ 1..) = r.read_line(&mut line) else {
+                    break;
+                };
+                let span = at..at + read as u64;
+                at = span.end;
+                let Ok(Value::Object(m)) = serde_json::from_str::<Value>(line.trim_end()) else {
                     continue;
                 };
                 let get = |k: &str| m.get(k).and_then(Value::as_str).unwrap_or("").to_string();
@@ -238,7 +246,7 @@ pub fn read_past(
                     PastRow {
                         content_hash: get("content_hash"),
                         settings_hash: get("settings_hash"),
-                        line: format!("{line}\n"),
+                        span,
                         status: get("status"),
                         verdict_failed: failed_verdict(&verdict("expected"), &verdict("meter")),
                     },
@@ -258,20 +266,22 @@ pub fn read_past(
             }
             let col = |name: &str| columns.iter().position(|c| c == name);
             let (ev, mv) = (col("expected.verdict"), col("meter.verdict"));
-            for rec in rdr.records() {
-                let Ok(rec) = rec else { break };
+            let mut rec = ::csv::StringRecord::new();
+            loop {
+                let start = rdr.position().byte();
+                let Ok(true) = rdr.read_record(&mut rec) else {
+                    break;
+                };
+                let span = start..rdr.position().byte();
                 if rec.len() != columns.len() {
                     continue;
                 }
-                let Ok(line) = csv_line(&rec.iter().collect::<Vec<_>>()) else {
-                    continue;
-                };
                 out.insert(
                     rec[0].to_string(),
                     PastRow {
                         content_hash: rec[3].to_string(),
                         settings_hash: rec[4].to_string(),
-                        line,
+                        span,
                         status: rec[1].to_string(),
                         verdict_failed: failed_verdict(
                             ev.and_then(|k| rec.get(k)).unwrap_or(""),
@@ -334,7 +344,8 @@ mod tests {
         std::fs::write(&path, &text).unwrap();
         let past = read_past(&path, SummaryFormat::Csv, &columns);
         let p = &past["site/a \"quoted\", name.csv"];
-        assert_eq!(p.line, row.line(SummaryFormat::Csv, &columns).unwrap());
+        let span = p.span.start as usize..p.span.end as usize;
+        assert_eq!(text[span], row.line(SummaryFormat::Csv, &columns).unwrap());
         assert_eq!(
             (p.content_hash.as_str(), p.settings_hash.as_str()),
             ("00ff", "aa")
