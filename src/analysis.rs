@@ -1,8 +1,10 @@
 //! The analysis pipeline for one capture: condition -> estimate -> quantities.
 
 use crate::capture::{Capture, SourceFormat};
-use crate::check::expected::Expected;
+use crate::check::circuit::Circuit;
+use crate::check::expected::{self, Expectation, Expected};
 use crate::check::meter::Measured;
+use crate::check::tolerance::MonteCarloConfig;
 use crate::condition;
 use crate::estimate::{self, Estimate, EstimateError};
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
@@ -204,6 +206,25 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
 }
 
 impl Analysis {
+    /// Compares the measured angle with what `circuit` predicts at the measured frequency and
+    /// records the verdict in [`Analysis::expected`], when the angle is defined; gives the
+    /// prediction (band, Monte Carlo spread) for plots.
+    pub fn compare_with_model(
+        &mut self,
+        circuit: &Circuit,
+        mc: &MonteCarloConfig,
+    ) -> Option<Expectation> {
+        let q = &self.quantities;
+        let (Some(angle), Some(u)) = (q.phase_angle_dft_deg, self.uncertainty.phase_angle_deg.dft)
+        else {
+            return None;
+        };
+        let (v1, i1) = q.fundamentals;
+        let e = expected::expectation(circuit, q.frequency_hz, mc);
+        self.expected = Some(expected::compare_to(circuit, &e, v1, i1, angle, u));
+        Some(e)
+    }
+
     /// Our measurement as the meter check needs it; `None` without a defined PF.
     pub fn meter_measured(&self) -> Option<Measured> {
         let q = &self.quantities;

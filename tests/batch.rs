@@ -301,8 +301,10 @@ fn a_failed_verdict_gives_exit_code_1() {
     )
     .unwrap();
     std::fs::write(dir.path().join("tracephase.toml"), "expect = \"r.toml\"\n").unwrap();
+    let report = dir.path().join("report.html");
     let out = tracephase()
-        .args(["batch", "--draws", "1000"])
+        .args(["batch", "--draws", "1000", "--report"])
+        .arg(&report)
         .arg(dir.path())
         .assert()
         .code(1)
@@ -314,6 +316,10 @@ fn a_failed_verdict_gives_exit_code_1() {
         &rows(&text)[0][column(&text, "expected.verdict")],
         "outside"
     );
+    // the report plots the sidecar model's band with its Monte Carlo spread
+    let html = std::fs::read_to_string(&report).unwrap();
+    assert!(html.contains("class=\"plot-band\""));
+    assert!(html.contains("1000 draws (uniform, seed 1)"));
 }
 
 /// JSON Lines: a resumed run after one capture changed and one was added writes the same summary

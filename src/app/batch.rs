@@ -2,10 +2,12 @@
 //! write the summary row by row in sorted order, resume, shard, and report on stderr.
 
 use super::{Outcome, resolve_monte_carlo};
+use crate::analysis::Analysis;
 use crate::batch::sidecar::{Layer, UncertaintyLayer};
 use crate::batch::summary::{self, PastRow, Row, Status, SummaryFormat};
 use crate::batch::walk::{self, Discovery, Found};
 use crate::batch::{self, Job};
+use crate::check::expected::Expectation;
 use crate::cli::{BatchArgs, OverrideArgs, SummaryFormatArg};
 use indicatif::ProgressBar;
 use rayon::prelude::*;
@@ -45,7 +47,7 @@ pub fn layer_from(o: &OverrideArgs) -> Layer {
 
 /// What one capture gave: a new row, or an earlier row kept as it was.
 enum Outcome1 {
-    New(Row, Duration, Option<Box<crate::analysis::Analysis>>),
+    New(Row, Duration, Option<Box<(Analysis, Option<Expectation>)>>),
     Kept(PastRow),
 }
 
@@ -190,7 +192,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     let mut spans: Vec<std::ops::Range<u64>> = Vec::new();
     // With --report every analysis is kept for the report (memory grows with the folder).
     let keep = a.report.is_some();
-    let mut kept: Vec<Result<crate::analysis::Analysis, (String, String)>> = Vec::new();
+    let mut kept: Vec<super::html::FileResult> = Vec::new();
     // Settings are resolved a chunk at a time: only that chunk's jobs are held.
     for found in discovery.files.chunks(CHUNK) {
         let chunk: Vec<Job> = found.iter().map(|f| planner.job(f)).collect();
@@ -272,7 +274,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     }
     if let Some(path) = &a.report {
         let title = format!("tracephase batch: {} captures", kept.len());
-        super::html::save_analyses(path, title, &kept, None, None)?;
+        super::html::save_analyses(path, title, &kept, None)?;
         if tally.kept > 0 {
             let _ = writeln!(
                 err,

@@ -6,11 +6,11 @@
 //! each and still appear in the report as failed entries.
 
 use super::bank::analyse_file;
-use super::{ConfigError, Outcome, compare_with_model, resolve_channels};
+use super::{ConfigError, Outcome, resolve_channels};
 use crate::analysis::{Analysis, Settings};
 use crate::capture::LoadOptions;
 use crate::check::circuit::Circuit;
-use crate::check::expected::{Expectation, expectation};
+use crate::check::expected::Expectation;
 use crate::check::tolerance::{Distribution, MonteCarloConfig};
 use crate::cli::ReportArgs;
 use crate::report::html::{Entry, HtmlDoc, settings_rows, write_html};
@@ -43,7 +43,7 @@ fn config(a: &ReportArgs) -> Result<ReportConfig, ConfigError> {
 }
 
 /// One file's result: the analysis and its model prediction, or the file and why it failed.
-type FileResult = Result<(Analysis, Option<Expectation>), (String, String)>;
+pub type FileResult = Result<(Analysis, Option<Expectation>), (String, String)>;
 
 /// Runs `report`.
 pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
@@ -61,12 +61,9 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
             Ok(mut an) => {
                 let mut predicted = None;
                 if let Some((circuit, mc)) = &cfg.expect {
-                    compare_with_model(&mut an, circuit, mc);
-                    if let Some(e) = &an.expected {
-                        predicted = Some(expectation(circuit, e.frequency_hz, mc));
-                        if e.failed() {
-                            outcome = outcome.worst(Outcome::VerdictFailed);
-                        }
+                    predicted = an.compare_with_model(circuit, mc);
+                    if an.expected.as_ref().is_some_and(|e| e.failed()) {
+                        outcome = outcome.worst(Outcome::VerdictFailed);
                     }
                 }
                 results.push(Ok((an, predicted)));
@@ -187,11 +184,15 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
 
 /// Writes every plot of `a` (default options) as `STEM-NAME.svg` into `dir`, creating it, and
 /// returns the paths written. STEM is the capture's file stem, made safe for any file system.
-pub fn write_plot_dir(dir: &Path, a: &Analysis) -> io::Result<Vec<PathBuf>> {
+pub fn write_plot_dir(
+    dir: &Path,
+    a: &Analysis,
+    expectation: Option<&Expectation>,
+) -> io::Result<Vec<PathBuf>> {
     write_plots(
         dir,
         &file_stem(a),
-        &plot::plots_with(a, &PlotOptions::default(), None),
+        &plot::plots_with(a, &PlotOptions::default(), expectation),
     )
 }
 
@@ -274,27 +275,15 @@ pub fn save(path: &Path, doc: &HtmlDoc) -> Result<(), String> {
 pub fn save_analyses(
     path: &Path,
     title: String,
-    results: &[Result<Analysis, (String, String)>],
+    results: &[FileResult],
     settings: Option<&Settings>,
-    model: Option<(&Circuit, &MonteCarloConfig)>,
 ) -> Result<(), String> {
-    let predicted: Vec<Option<Expectation>> = results
-        .iter()
-        .map(|r| match (r, model) {
-            (Ok(a), Some((c, mc))) => a
-                .expected
-                .as_ref()
-                .map(|e| expectation(c, e.frequency_hz, mc)),
-            _ => None,
-        })
-        .collect();
     let entries: Vec<Entry> = results
         .iter()
-        .zip(&predicted)
-        .map(|(r, p)| match r {
-            Ok(analysis) => Entry::Analysed {
+        .map(|r| match r {
+            Ok((analysis, predicted)) => Entry::Analysed {
                 analysis,
-                expectation: p.as_ref(),
+                expectation: predicted.as_ref(),
             },
             Err((file, message)) => Entry::Failed {
                 file: file.clone(),

@@ -8,7 +8,7 @@ pub mod meter;
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
 use crate::check::circuit::Circuit;
-use crate::check::expected::{self, expectation};
+use crate::check::expected::expectation;
 use crate::check::tolerance::{Distribution, MonteCarloConfig};
 use crate::cli::{
     AnalyzeArgs, ChannelArgs, Cli, Command, DistributionArg, ExpectArgs, FormatArg, MonteCarloArgs,
@@ -285,22 +285,23 @@ pub fn run_analyze(
     let mut io_ok = exporter.begin(out).is_ok();
     // kept only when a report or plots are asked for
     let keep = cfg.report.is_some() || cfg.plot_dir.is_some();
-    let mut kept: Vec<Result<analysis::Analysis, (String, String)>> = Vec::new();
+    let mut kept: Vec<html::FileResult> = Vec::new();
     for path in files {
         let result = capture::load(path, &cfg.load)
             .map_err(|e| e.to_string())
             .and_then(|c| analysis::analyze(c, &cfg.settings).map_err(|e| e.to_string()));
         match result {
             Ok(mut a) => {
+                let mut predicted = None;
                 if let Some((circuit, mc)) = &cfg.expect {
-                    compare_with_model(&mut a, circuit, mc);
+                    predicted = a.compare_with_model(circuit, mc);
                     if a.expected.as_ref().is_some_and(|e| e.failed()) {
                         outcome = outcome.worst(Outcome::VerdictFailed);
                     }
                 }
                 io_ok &= exporter.write(out, &a).is_ok();
                 if keep {
-                    kept.push(Ok(a));
+                    kept.push(Ok((a, predicted)));
                 }
             }
             Err(msg) => {
@@ -315,8 +316,8 @@ pub fn run_analyze(
         }
     }
     if let Some(dir) = &cfg.plot_dir {
-        for a in kept.iter().flatten() {
-            if let Err(e) = html::write_plot_dir(dir, a) {
+        for (a, predicted) in kept.iter().flatten() {
+            if let Err(e) = html::write_plot_dir(dir, a, predicted.as_ref()) {
                 let _ = writeln!(
                     err,
                     "error: {}: could not write the plots: {e}",
@@ -328,8 +329,7 @@ pub fn run_analyze(
     }
     if let Some(path) = &cfg.report {
         let title = format!("tracephase analysis: {} capture(s)", files.len());
-        let model = cfg.expect.as_ref().map(|(c, m)| (c, m));
-        if let Err(e) = html::save_analyses(path, title, &kept, Some(&cfg.settings), model) {
+        if let Err(e) = html::save_analyses(path, title, &kept, Some(&cfg.settings)) {
             let _ = writeln!(err, "error: {e}");
             outcome = outcome.worst(Outcome::InputErrors);
         }
@@ -343,22 +343,4 @@ pub fn run_analyze(
         outcome = Outcome::InputErrors;
     }
     outcome
-}
-
-/// Adds the comparison with a circuit model to an analysis, at the measured frequency, when the
-/// angle is defined.
-pub fn compare_with_model(a: &mut analysis::Analysis, circuit: &Circuit, mc: &MonteCarloConfig) {
-    let q = &a.quantities;
-    if let (Some(angle), Some(u)) = (q.phase_angle_dft_deg, a.uncertainty.phase_angle_deg.dft) {
-        let (v1, i1) = q.fundamentals;
-        a.expected = Some(expected::compare(
-            circuit,
-            q.frequency_hz,
-            v1,
-            i1,
-            angle,
-            u,
-            mc,
-        ));
-    }
 }

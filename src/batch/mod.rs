@@ -16,7 +16,7 @@ pub mod walk;
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
 use crate::check::circuit::Circuit;
-use crate::check::expected;
+use crate::check::expected::Expectation;
 use crate::check::meter::{self, AccuracyClass, MeterVerdict, PfSign, Reading};
 use crate::check::tolerance::MonteCarloConfig;
 use crate::quantity::uncertainty::UncertaintyInputs;
@@ -256,8 +256,9 @@ pub fn process(job: &Job) -> Row {
     process_keeping(job).0
 }
 
-/// [`process`], also returning the analysis (for a report) when there is one.
-pub fn process_keeping(job: &Job) -> (Row, Option<analysis::Analysis>) {
+/// [`process`], also returning the analysis and the circuit model's prediction (for a report)
+/// when there is one.
+pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Expectation>)>) {
     let file = job.path.display().to_string();
     let mut row = Row {
         file: file.clone(),
@@ -286,25 +287,11 @@ pub fn process_keeping(job: &Job) -> (Row, Option<analysis::Analysis>) {
             return (row, None);
         }
     };
-    if let Some(model) = &setup.expect
-        && let (Some(angle), Some(u)) = (
-            a.quantities.phase_angle_dft_deg,
-            a.uncertainty.phase_angle_deg.dft,
-        )
-    {
-        let (v1, i1) = a.quantities.fundamentals;
-        let e = expected::compare(
-            model,
-            a.quantities.frequency_hz,
-            v1,
-            i1,
-            angle,
-            u,
-            &setup.monte_carlo,
-        );
-        row.verdict_failed |= e.failed();
-        a.expected = Some(e);
-    }
+    let predicted = match &setup.expect {
+        Some(model) => a.compare_with_model(model, &setup.monte_carlo),
+        None => None,
+    };
+    row.verdict_failed |= a.expected.as_ref().is_some_and(|e| e.failed());
     let mut result = serde_json::to_value(AnalysisRecord::from(&a)).unwrap_or(Value::Null);
     if let (Some(spec), Some(m)) = (&setup.meter, a.meter_measured()) {
         let r = meter::check_meter(&spec.reading, &m, spec.class, spec.pf_sign);
@@ -352,7 +339,7 @@ pub fn process_keeping(job: &Job) -> (Row, Option<analysis::Analysis>) {
         .collect::<Vec<_>>()
         .join("; ");
     row.result = Some(result);
-    (row, Some(a))
+    (row, Some((a, predicted)))
 }
 
 /// The CSV columns of a summary: the lead columns, the `analyze` keys flattened with dots (the

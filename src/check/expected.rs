@@ -214,6 +214,20 @@ pub fn compare(
     mc: &MonteCarloConfig,
 ) -> Expected {
     let e = expectation(circuit, frequency_hz, mc);
+    compare_to(circuit, &e, v1, i1, angle_deg, u_angle_deg)
+}
+
+/// [`compare`] against an expectation already worked out at the measured frequency, so that a
+/// report plotting its band and histogram does not draw the Monte Carlo a second time.
+pub fn compare_to(
+    circuit: &Circuit,
+    e: &Expectation,
+    v1: Complex64,
+    i1: Complex64,
+    angle_deg: f64,
+    u_angle_deg: f64,
+) -> Expected {
+    let frequency_hz = e.frequency_hz;
     let d = decide(angle_deg, u_angle_deg, e.band_deg[0], e.band_deg[1]);
     let z = v1 / i1;
     let omega = 2.0 * PI * frequency_hz;
@@ -280,7 +294,7 @@ pub fn compare(
             e.percentile(2.5).unwrap_or(f64::NAN),
             e.percentile(97.5).unwrap_or(f64::NAN),
         ],
-        model: e.model,
+        model: e.model.clone(),
         frequency_hz,
         nominal_phase_deg: e.nominal_phase_deg,
         nominal_impedance_ohm: e.nominal_impedance_ohm,
