@@ -52,6 +52,9 @@ pub struct AnalyzeArgs {
     /// Also write a self-contained HTML report here.
     #[arg(long, value_name = "PATH")]
     pub report: Option<PathBuf>,
+    /// Point-of-common-coupling data for the limits on the spectrum.
+    #[command(flatten)]
+    pub pcc: PccArgs,
     /// Also write each plot as its own SVG file in this folder.
     #[arg(long, value_name = "DIR")]
     pub plot_dir: Option<PathBuf>,
@@ -120,6 +123,9 @@ pub struct BankArgs {
     /// Also write a self-contained HTML report here.
     #[arg(long, value_name = "PATH")]
     pub report: Option<PathBuf>,
+    /// Point-of-common-coupling data for the limits on the spectrum.
+    #[command(flatten)]
+    pub pcc: PccArgs,
     /// Channel, scale and timing options (the same for both captures).
     #[command(flatten)]
     pub channels: ChannelArgs,
@@ -147,6 +153,9 @@ pub struct MeterArgs {
     /// Also write a self-contained HTML report here.
     #[arg(long, value_name = "PATH")]
     pub report: Option<PathBuf>,
+    /// Point-of-common-coupling data for the limits on the spectrum.
+    #[command(flatten)]
+    pub pcc: PccArgs,
     /// Highest harmonic order analysed.
     #[arg(long, default_value_t = 50, value_name = "N")]
     pub harmonics: usize,
@@ -186,6 +195,9 @@ pub struct BatchArgs {
     /// Also write a self-contained HTML report here (holds every analysis until the end).
     #[arg(long, value_name = "PATH")]
     pub report: Option<PathBuf>,
+    /// Point-of-common-coupling data for the limits on the spectrum.
+    #[command(flatten)]
+    pub pcc: PccArgs,
     /// Settings that override every sidecar file.
     #[command(flatten)]
     pub overrides: OverrideArgs,
@@ -260,6 +272,9 @@ pub struct ReportArgs {
     /// Where to write the HTML report.
     #[arg(short = 'o', long = "output", value_name = "PATH")]
     pub output: PathBuf,
+    /// Point-of-common-coupling data for the limits on the spectrum.
+    #[command(flatten)]
+    pub pcc: PccArgs,
     /// Also write each plot as its own SVG file in this folder.
     #[arg(long, value_name = "DIR")]
     pub plot_dir: Option<PathBuf>,
@@ -298,6 +313,20 @@ pub struct ExpectArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = FormatArg::Table)]
     pub format: FormatArg,
+}
+
+/// Point-of-common-coupling data for the IEEE 519-2014 limits drawn on the harmonic spectrum.
+#[derive(Debug, Args, Clone, Default)]
+#[command(next_help_heading = "Harmonic limits (IEEE 519-2014) in reports")]
+pub struct PccArgs {
+    /// Nominal line-to-line voltage of the bus at the point of common coupling, kV; picks the
+    /// voltage limits [default: the ≤ 1 kV row].
+    #[arg(long, value_name = "KV")]
+    pub pcc_kv: Option<f64>,
+    /// Short-circuit current over maximum demand load current at the point of common coupling
+    /// (ISC/IL); the current limits are drawn only when it is given.
+    #[arg(long, value_name = "RATIO")]
+    pub isc_il: Option<f64>,
 }
 
 /// How the tolerance band is sampled.

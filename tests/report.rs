@@ -347,7 +347,7 @@ fn plot_dir_gets_one_svg_per_plot_and_capture() {
     // the library entry point for other commands
     let a = analyse(RLC);
     let other = dir.path().join("other");
-    let written = tracephase::app::html::write_plot_dir(&other, &a, None).unwrap();
+    let written = tracephase::app::html::write_plot_dir(&other, &a, None, &PlotOptions::default()).unwrap();
     assert_eq!(written.len(), 4);
     assert!(written.iter().all(|p| p.starts_with(&other) && p.exists()));
 }
@@ -497,4 +497,42 @@ fn bank_and_meter_checks_get_their_sections_and_cautions() {
     assert!(html.contains(&tracephase::report::html::escape(
         tracephase::report::meter::CAUTIONS
     )));
+}
+
+/// `--pcc-kv` and `--isc-il` pick the IEEE 519-2014 rows the spectrum's limits come from; a
+/// bad value stops before any file is read.
+#[test]
+fn pcc_options_pick_the_ieee_519_rows() {
+    let dir = TempDir::new().unwrap();
+    let out = dir.path().join("r.html");
+    tracephase()
+        .arg("report")
+        .arg(fixture(COMPRESSOR))
+        .args(["--pcc-kv", "11", "--isc-il", "35", "-o"])
+        .arg(&out)
+        .assert()
+        .code(0);
+    let html = fs::read_to_string(&out).unwrap();
+    // IEEE 519-2014 Table 1, 1 kV < V ≤ 69 kV: individual 3.0 %, THD 5.0 % (from memory)
+    assert!(
+        html.contains("bus voltage of 11000 V (1 kV &lt; V ≤ 69 kV) (individual 3.0 %, THD 5.0 %)")
+    );
+    // IEEE 519-2014 Table 2, 20 ≤ ISC/IL < 50: TDD 8.0 % (from memory)
+    assert!(html.contains("ISC/IL = 35.00 (TDD 8.0 %)"));
+    let err = tracephase()
+        .arg("report")
+        .arg(fixture(COMPRESSOR))
+        .args(["--isc-il", "0", "-o"])
+        .arg(dir.path().join("bad.html"))
+        .assert()
+        .code(2)
+        .get_output()
+        .stderr
+        .clone();
+    assert!(
+        String::from_utf8(err)
+            .unwrap()
+            .contains("--isc-il must be a positive number")
+    );
+    assert!(!dir.path().join("bad.html").exists());
 }

@@ -136,9 +136,10 @@ pub fn run_bank(a: &BankArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outco
         Ok((
             plate,
             resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?,
+            super::resolve_plot_options(&a.pcc)?,
         ))
     });
-    let (plate, (load, settings)) = match config {
+    let (plate, (load, settings), plot_options) = match config {
         Ok(c) => c,
         Err(e) => {
             let _ = writeln!(err, "error: {e}");
@@ -186,6 +187,7 @@ pub fn run_bank(a: &BankArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outco
         ];
         let mut doc = HtmlDoc::new("tracephase capacitor bank check", entries);
         doc.settings = settings_rows(&settings);
+        doc.plot_options = plot_options;
         doc.bank = Some(BankSection {
             report: &r,
             nameplate: &plate,

@@ -117,6 +117,7 @@ pub fn run_batch(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
 fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcome, String> {
     let started = Instant::now();
     let mc = resolve_monte_carlo(&a.monte_carlo).map_err(|e| e.to_string())?;
+    let plot_options = super::resolve_plot_options(&a.pcc).map_err(|e| e.to_string())?;
     let jobs_n = match a.jobs {
         Some(0) => return Err("--jobs must be at least 1".into()),
         Some(n) => n,
@@ -274,7 +275,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     }
     if let Some(path) = &a.report {
         let title = format!("tracephase batch: {} captures", kept.len());
-        super::html::save_analyses(path, title, &kept, None)?;
+        super::html::save_analyses(path, title, &kept, None, &plot_options)?;
         if tally.kept > 0 {
             let _ = writeln!(
                 err,

@@ -25,6 +25,7 @@ struct ReportConfig {
     load: LoadOptions,
     settings: Settings,
     expect: Option<(Circuit, MonteCarloConfig)>,
+    plot_options: PlotOptions,
 }
 
 fn config(a: &ReportArgs) -> Result<ReportConfig, ConfigError> {
@@ -39,6 +40,7 @@ fn config(a: &ReportArgs) -> Result<ReportConfig, ConfigError> {
         load,
         settings,
         expect,
+        plot_options: super::resolve_plot_options(&a.pcc)?,
     })
 }
 
@@ -80,7 +82,7 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
             }
         }
     }
-    let options = PlotOptions::default();
+    let options = cfg.plot_options;
     let entries: Vec<Entry> = results
         .iter()
         .map(|r| match r {
@@ -188,11 +190,12 @@ pub fn write_plot_dir(
     dir: &Path,
     a: &Analysis,
     expectation: Option<&Expectation>,
+    options: &PlotOptions,
 ) -> io::Result<Vec<PathBuf>> {
     write_plots(
         dir,
         &file_stem(a),
-        &plot::plots_with(a, &PlotOptions::default(), expectation),
+        &plot::plots_with(a, options, expectation),
     )
 }
 
@@ -277,6 +280,7 @@ pub fn save_analyses(
     title: String,
     results: &[FileResult],
     settings: Option<&Settings>,
+    options: &PlotOptions,
 ) -> Result<(), String> {
     let entries: Vec<Entry> = results
         .iter()
@@ -292,6 +296,7 @@ pub fn save_analyses(
         })
         .collect();
     let mut doc = HtmlDoc::new(title, entries);
+    doc.plot_options = *options;
     if let Some(s) = settings {
         doc.settings = settings_rows(s);
         doc.pf_threshold = Some(s.pf_threshold);

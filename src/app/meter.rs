@@ -17,9 +17,10 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
             AccuracyClass::parse(&a.class).map_err(|e| ConfigError(format!("--class: {e}")))?;
         let sign = PfSign::parse(&a.pf_sign).map_err(|e| ConfigError(format!("--pf-sign: {e}")))?;
         let (load, settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
-        Ok((reading, class, sign, load, settings))
+        let plot_options = super::resolve_plot_options(&a.pcc)?;
+        Ok((reading, class, sign, load, settings, plot_options))
     })();
-    let (reading, class, sign, load, settings) = match config {
+    let (reading, class, sign, load, settings, plot_options) = match config {
         Ok(c) => c,
         Err(e) => {
             let _ = writeln!(err, "error: {e}");
@@ -57,6 +58,7 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
         }];
         let mut doc = HtmlDoc::new("tracephase meter check", entries);
         doc.settings = settings_rows(&settings);
+        doc.plot_options = plot_options;
         doc.meter = Some(MeterSection {
             report: &r,
             analysis: &analysis,

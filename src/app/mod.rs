@@ -12,9 +12,10 @@ use crate::check::expected::expectation;
 use crate::check::tolerance::{Distribution, MonteCarloConfig};
 use crate::cli::{
     AnalyzeArgs, ChannelArgs, Cli, Command, DistributionArg, ExpectArgs, FormatArg, MonteCarloArgs,
-    UncertaintyArgs,
+    PccArgs, UncertaintyArgs,
 };
 use crate::quantity::uncertainty::{Adc, UncertaintyInputs};
+use crate::report::plot::PlotOptions;
 use crate::report::{self, Format};
 use std::io::Write;
 
@@ -63,6 +64,8 @@ pub struct AnalyzeConfig {
     pub report: Option<std::path::PathBuf>,
     /// Where to write each plot as SVG.
     pub plot_dir: Option<std::path::PathBuf>,
+    /// What the plots show.
+    pub plot_options: PlotOptions,
 }
 
 /// A setting that makes no sense, found before any file is read.
@@ -115,6 +118,21 @@ pub fn resolve_channels(
             pf_threshold: analysis::DEFAULT_PF_THRESHOLD,
         },
     ))
+}
+
+/// Checks the point-of-common-coupling data and turns it into plot options.
+pub fn resolve_plot_options(p: &PccArgs) -> Result<PlotOptions, ConfigError> {
+    let positive = |x: Option<f64>, what: &str| match x {
+        Some(v) if !(v.is_finite() && v > 0.0) => Err(ConfigError(format!(
+            "{what} must be a positive number, not {v}"
+        ))),
+        _ => Ok(x),
+    };
+    Ok(PlotOptions {
+        bus_voltage_v: positive(p.pcc_kv, "--pcc-kv")?.map(|kv| kv * 1e3),
+        isc_over_il: positive(p.isc_il, "--isc-il")?,
+        ..PlotOptions::default()
+    })
 }
 
 /// Checks the instrument limits: each must be a finite number, zero or more.
@@ -202,6 +220,7 @@ impl AnalyzeConfig {
             expect,
             report: a.report.clone(),
             plot_dir: a.plot_dir.clone(),
+            plot_options: resolve_plot_options(&a.pcc)?,
         })
     }
 }
@@ -317,7 +336,7 @@ pub fn run_analyze(
     }
     if let Some(dir) = &cfg.plot_dir {
         for (a, predicted) in kept.iter().flatten() {
-            if let Err(e) = html::write_plot_dir(dir, a, predicted.as_ref()) {
+            if let Err(e) = html::write_plot_dir(dir, a, predicted.as_ref(), &cfg.plot_options) {
                 let _ = writeln!(
                     err,
                     "error: {}: could not write the plots: {e}",
@@ -329,7 +348,9 @@ pub fn run_analyze(
     }
     if let Some(path) = &cfg.report {
         let title = format!("tracephase analysis: {} capture(s)", files.len());
-        if let Err(e) = html::save_analyses(path, title, &kept, Some(&cfg.settings)) {
+        if let Err(e) =
+            html::save_analyses(path, title, &kept, Some(&cfg.settings), &cfg.plot_options)
+        {
             let _ = writeln!(err, "error: {e}");
             outcome = outcome.worst(Outcome::InputErrors);
         }
