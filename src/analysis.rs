@@ -1,6 +1,7 @@
 //! The analysis pipeline for one capture: condition -> estimate -> quantities.
 
 use crate::capture::{Capture, SourceFormat};
+use crate::check::bank::BankSide;
 use crate::check::circuit::Circuit;
 use crate::check::expected::{self, Expectation, Expected};
 use crate::check::meter::Measured;
@@ -206,6 +207,20 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
 }
 
 impl Analysis {
+    /// Our measurement as the capacitor bank check needs it; `None` without a defined angle.
+    pub fn bank_side(&self) -> Option<BankSide> {
+        let q = &self.quantities;
+        Some(BankSide {
+            p_w: q.power.active_w,
+            q_var: q.power.reactive_var,
+            u_q_var: self.uncertainty.power.reactive_var,
+            v1: q.voltage.fundamental_rms,
+            frequency_hz: q.frequency_hz,
+            angle_deg: q.phase_angle_dft_deg?,
+            current_harmonics: q.harmonics.iter().map(|h| h.current_rms).collect(),
+        })
+    }
+
     /// Compares the measured angle with what `circuit` predicts at the measured frequency and
     /// records the verdict in [`Analysis::expected`], when the angle is defined; gives the
     /// prediction (band, Monte Carlo spread) for plots.

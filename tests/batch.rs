@@ -367,3 +367,124 @@ fn resume_in_json_lines_equals_a_fresh_run() {
     assert_eq!(a.lines().count(), b.lines().count());
     assert_eq!(a, b);
 }
+
+/// A bank folder: the feeder at 230 V with a 10 A load lagging 40° (bank out), then with a bank
+/// of 1 kvar at 230 V switched in. The capacitor draws I = Q/V = 4.348 A leading 90°
+/// (Q = V²·ωC, handbook formula, common practice), added to the load current: the truth is in
+/// the arithmetic. Written with `samples` per capture, 10 A : 1 V clamp as `capture` takes it.
+fn bank_site(sidecar: &str) -> TempDir {
+    let dir = TempDir::new().unwrap();
+    let b = dir.path().join("bank");
+    capture(&b.join("feeder-bank-off.csv"), 10.0, 40.0, 1.0, 4000);
+    let load = rustfft::num_complex::Complex64::from_polar(10.0, -40f64.to_radians());
+    let cap = rustfft::num_complex::Complex64::new(0.0, 1000.0 / 230.0);
+    let on = load + cap;
+    capture(
+        &b.join("feeder-bank-on.csv"),
+        on.norm(),
+        -on.arg().to_degrees(),
+        1.0,
+        4000,
+    );
+    std::fs::write(b.join("tracephase.toml"), sidecar).unwrap();
+    // a 2 kvar bank in four steps at 230 V, 50 Hz, single phase (invented)
+    std::fs::write(
+        b.join("plate.toml"),
+        "rated_kvar = 2\nrated_voltage = 230\nrated_frequency_hz = 50\nsteps = 4\n",
+    )
+    .unwrap();
+    dir
+}
+
+const BANK_SIDECAR: &str = "[[files]]\npattern = \"*-bank-on.csv\"\n[files.bank]\n\
+                            nameplate = \"plate.toml\"\nbefore = \"feeder-bank-off.csv\"\n";
+
+#[test]
+fn a_bank_pair_in_a_sidecar_gets_the_bank_verdict() {
+    let dir = bank_site(BANK_SIDECAR);
+    let out = dir.path().join("s.csv");
+    tracephase()
+        .args(["batch", "--out"])
+        .arg(&out)
+        .arg(dir.path().join("bank"))
+        .assert()
+        .code(1); // a failed bank verdict
+    let text = std::fs::read_to_string(&out).unwrap();
+    let r = rows(&text);
+    assert_eq!(r.len(), 2);
+    let (off, on) = (&r[0], &r[1]);
+    assert!(off[0].ends_with("feeder-bank-off.csv"));
+    assert_eq!(
+        &off[column(&text, "bank.verdict")],
+        "",
+        "the bank-out capture is not checked"
+    );
+    // 1 kvar delivered of 2 kvar rated: two of four 0.5 kvar steps failed
+    assert_eq!(&on[column(&text, "bank.verdict")], "fail");
+    assert_eq!(&on[column(&text, "bank.failed_steps")], "2");
+    let delivered: f64 = on[column(&text, "bank.delivered_kvar")].parse().unwrap();
+    assert!((delivered - 1.0).abs() < 1e-3, "{delivered}");
+    let expected: f64 = on[column(&text, "bank.expected_kvar")].parse().unwrap();
+    assert!((expected - 2.0).abs() < 0.01, "{expected}");
+    assert!(on[column(&text, "bank.before")].ends_with("feeder-bank-off.csv"));
+}
+
+#[test]
+fn a_bank_layer_overrides_the_nameplate_and_a_changed_nameplate_is_redone_on_resume() {
+    // the pattern layer says only two steps (1 kvar) are meant to be in
+    let sidecar = format!("{BANK_SIDECAR}rated_kvar = 1\nsteps = 2\n");
+    let dir = bank_site(&sidecar);
+    let out = dir.path().join("s.csv");
+    let run = |extra: &[&str]| {
+        let a = tracephase()
+            .args(["batch", "--out"])
+            .arg(&out)
+            .args(extra)
+            .arg(dir.path().join("bank"))
+            .assert();
+        let stderr = String::from_utf8(a.get_output().stderr.clone()).unwrap();
+        (a.get_output().status.code(), stderr)
+    };
+    let (code, _) = run(&[]);
+    let text = std::fs::read_to_string(&out).unwrap();
+    let on = &rows(&text)[1];
+    assert_ne!(&on[column(&text, "bank.verdict")], "fail");
+    assert_ne!(code, Some(1));
+    let expected: f64 = on[column(&text, "bank.expected_kvar")].parse().unwrap();
+    assert!((expected - 1.0).abs() < 0.01, "{expected}");
+    // the nameplate file changes its standard: only the checked capture is analysed again
+    let plate = dir.path().join("bank/plate.toml");
+    let mut p = std::fs::read_to_string(&plate).unwrap();
+    p.push_str("standard = \"iec-60831\"\n");
+    std::fs::write(&plate, p).unwrap();
+    let (_, err) = run(&["--resume"]);
+    assert!(err.contains("(1 kept from the earlier summary)"), "{err}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert!(rows(&text)[1][column(&text, "settings")].contains("rated_kvar"));
+}
+
+#[test]
+fn a_missing_bank_out_capture_is_an_error_row_that_keeps_the_analysis() {
+    let sidecar = BANK_SIDECAR.replace("feeder-bank-off.csv", "no-such-capture.csv");
+    let dir = bank_site(&sidecar);
+    let out = tracephase()
+        .arg("batch")
+        .arg(dir.path().join("bank"))
+        .assert()
+        .code(2)
+        .get_output()
+        .stdout
+        .clone();
+    let text = String::from_utf8(out).unwrap();
+    let on = &rows(&text)[1];
+    assert_eq!(&on[column(&text, "status")], "error");
+    assert!(
+        on[column(&text, "message")].contains("bank check: bank-out capture"),
+        "{:?}",
+        on
+    );
+    assert!(on[column(&text, "message")].contains("no-such-capture.csv"));
+    // the capture's own figures are still there
+    let irms: f64 = on[column(&text, "current.rms")].parse().unwrap();
+    assert!(irms > 7.0 && irms < 9.0, "{irms}");
+}

@@ -347,7 +347,8 @@ fn plot_dir_gets_one_svg_per_plot_and_capture() {
     // the library entry point for other commands
     let a = analyse(RLC);
     let other = dir.path().join("other");
-    let written = tracephase::app::html::write_plot_dir(&other, &a, None, &PlotOptions::default()).unwrap();
+    let written =
+        tracephase::app::html::write_plot_dir(&other, &a, None, &PlotOptions::default()).unwrap();
     assert_eq!(written.len(), 4);
     assert!(written.iter().all(|p| p.starts_with(&other) && p.exists()));
 }

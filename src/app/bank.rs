@@ -3,13 +3,19 @@
 use super::{ConfigError, Outcome, format, resolve_channels};
 use crate::analysis::{self, Analysis, Settings};
 use crate::capture::{self, LoadOptions};
-use crate::check::bank::{
-    BankSide, BankVerdict, CapacitorStandard, Nameplate, NameplateFile, Supply, check_bank,
-};
+use crate::check::bank::{BankSide, BankVerdict, KeyNames, Nameplate, NameplateFile, check_bank};
 use crate::cli::BankArgs;
 use crate::report;
 use std::io::Write;
 use std::path::Path;
+
+/// The option that sets each nameplate key, for messages.
+fn option_name(key: &'static str) -> String {
+    match key {
+        "rated_frequency_hz" => "--rated-frequency".into(),
+        k => format!("--{}", k.replace('_', "-")),
+    }
+}
 
 /// Merges the nameplate file (if any) with the options, options winning, and checks the result.
 pub fn resolve_nameplate(a: &BankArgs) -> Result<Nameplate, ConfigError> {
@@ -17,88 +23,24 @@ pub fn resolve_nameplate(a: &BankArgs) -> Result<Nameplate, ConfigError> {
         Some(p) => NameplateFile::load(p).map_err(|e| ConfigError(e.to_string()))?,
         None => NameplateFile::default(),
     };
-    let need = |v: Option<f64>, what: &str| -> Result<f64, ConfigError> {
-        match v {
-            Some(x) if x.is_finite() && x > 0.0 => Ok(x),
-            Some(x) => Err(ConfigError(format!(
-                "{what} must be a positive number, not {x}"
-            ))),
-            None => Err(ConfigError(format!(
-                "{what} is missing: give it as an option or in --nameplate"
-            ))),
-        }
+    let options = NameplateFile {
+        rated_kvar: a.rated_kvar,
+        rated_voltage: a.rated_voltage,
+        rated_frequency_hz: a.rated_frequency,
+        steps: a.steps,
+        step_kvar: a.step_kvar.clone(),
+        three_phase: a.three_phase.then_some(true),
+        standard: a.standard.clone(),
+        target_pf: a.target_pf,
+        supply_mva: a.supply_mva,
+        transformer_kva: a.transformer_kva,
+        transformer_z_percent: a.transformer_z_percent,
     };
-    let rated_kvar = need(a.rated_kvar.or(file.rated_kvar), "--rated-kvar")?;
-    let rated_voltage = need(a.rated_voltage.or(file.rated_voltage), "--rated-voltage")?;
-    let rated_frequency_hz = need(
-        a.rated_frequency.or(file.rated_frequency_hz),
-        "--rated-frequency",
-    )?;
-    let steps_kvar = match (
-        a.step_kvar.clone().or(file.step_kvar),
-        a.steps.or(file.steps),
-    ) {
-        (Some(list), _) => {
-            if list.is_empty() || list.iter().any(|q| !(q.is_finite() && *q > 0.0)) {
-                return Err(ConfigError("--step-kvar needs positive kvar values".into()));
-            }
-            let sum: f64 = list.iter().sum();
-            if (sum / rated_kvar - 1.0).abs() > 0.01 {
-                return Err(ConfigError(format!(
-                    "the steps add up to {sum} kvar, not the rated {rated_kvar} kvar"
-                )));
-            }
-            list
-        }
-        (None, Some(0)) => return Err(ConfigError("--steps must be at least 1".into())),
-        (None, Some(n)) => vec![rated_kvar / n as f64; n],
-        (None, None) => vec![rated_kvar],
+    let keys = KeyNames {
+        name: option_name,
+        where_given: "an option or in --nameplate",
     };
-    if steps_kvar.len() > 20 {
-        return Err(ConfigError("at most 20 steps are supported".into()));
-    }
-    let standard = match a.standard.as_deref().or(file.standard.as_deref()) {
-        None => CapacitorStandard::default(),
-        Some(s) => CapacitorStandard::parse(s).ok_or_else(|| {
-            ConfigError(format!(
-                "unknown capacitor standard '{s}': use {}",
-                CapacitorStandard::NAMES.join(" or ")
-            ))
-        })?,
-    };
-    let supply = match (
-        a.supply_mva.or(file.supply_mva),
-        a.transformer_kva.or(file.transformer_kva),
-        a.transformer_z_percent.or(file.transformer_z_percent),
-    ) {
-        (Some(s), _, _) => Some(Supply::ShortCircuitMva(need(Some(s), "--supply-mva")?)),
-        (None, Some(k), Some(z)) => Some(Supply::Transformer {
-            kva: need(Some(k), "--transformer-kva")?,
-            z_percent: need(Some(z), "--transformer-z-percent")?,
-        }),
-        (None, Some(_), None) | (None, None, Some(_)) => {
-            return Err(ConfigError(
-                "a transformer needs both --transformer-kva and --transformer-z-percent".into(),
-            ));
-        }
-        (None, None, None) => None,
-    };
-    let target_pf = a.target_pf.or(file.target_pf).unwrap_or(0.95);
-    if !(target_pf > 0.0 && target_pf <= 1.0) {
-        return Err(ConfigError(format!(
-            "--target-pf must be above 0 and at most 1, not {target_pf}"
-        )));
-    }
-    Ok(Nameplate {
-        rated_kvar,
-        rated_voltage,
-        rated_frequency_hz,
-        steps_kvar,
-        three_phase: a.three_phase || file.three_phase.unwrap_or(false),
-        standard,
-        supply,
-        target_pf,
-    })
+    Nameplate::resolve(&options.or(file), &keys).map_err(ConfigError)
 }
 
 /// Loads and analyses one capture, or says why not in one line.
@@ -112,21 +54,11 @@ pub(super) fn analyse_file(
 }
 
 fn side(a: &Analysis, which: &str) -> Result<BankSide, String> {
-    let q = &a.quantities;
-    let angle = q.phase_angle_dft_deg.ok_or_else(|| {
+    a.bank_side().ok_or_else(|| {
         format!(
             "{}: the {which} capture has no defined phase angle (no fundamental in a trace)",
             a.path.display()
         )
-    })?;
-    Ok(BankSide {
-        p_w: q.power.active_w,
-        q_var: q.power.reactive_var,
-        u_q_var: a.uncertainty.power.reactive_var,
-        v1: q.voltage.fundamental_rms,
-        frequency_hz: q.frequency_hz,
-        angle_deg: angle,
-        current_harmonics: q.harmonics.iter().map(|h| h.current_rms).collect(),
     })
 }
 

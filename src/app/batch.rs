@@ -42,6 +42,7 @@ pub fn layer_from(o: &OverrideArgs) -> Layer {
             clock_ppm: o.clock_ppm,
         },
         meter: Default::default(),
+        bank: Default::default(),
     }
 }
 

@@ -15,6 +15,7 @@ pub mod walk;
 
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
+use crate::check::bank::{self, BankReport, BankVerdict, KeyNames, Nameplate, NameplateFile};
 use crate::check::circuit::Circuit;
 use crate::check::expected::Expectation;
 use crate::check::meter::{self, AccuracyClass, MeterVerdict, PfSign, Reading};
@@ -41,6 +42,15 @@ pub struct MeterSpec {
     pub pf_sign: PfSign,
 }
 
+/// A capacitor bank check: the capture is the bank switched in, `before` the one with it out.
+#[derive(Debug, Clone)]
+pub struct BankSpec {
+    /// The bank.
+    pub nameplate: Nameplate,
+    /// The capture with the bank switched out.
+    pub before: PathBuf,
+}
+
 /// Everything needed to process one capture.
 #[derive(Debug, Clone)]
 pub struct Setup {
@@ -54,6 +64,8 @@ pub struct Setup {
     pub monte_carlo: MonteCarloConfig,
     /// Meter reading to check.
     pub meter: Option<MeterSpec>,
+    /// Capacitor bank check.
+    pub bank: Option<BankSpec>,
 }
 
 /// One capture with its resolved settings.
@@ -81,7 +93,26 @@ pub struct Planner<'a> {
     cli: &'a Layer,
     monte_carlo: &'a MonteCarloConfig,
     sidecars: HashMap<PathBuf, Option<Result<Arc<Sidecar>, String>>>,
+    files: FileCache,
+}
+
+/// The files settings refer to (circuit models, nameplates, bank-out captures), each read once,
+/// and their content fingerprints, which go into the settings fingerprint so that `--resume`
+/// redoes a capture when one of them changed.
+#[derive(Default)]
+struct FileCache {
     models: HashMap<PathBuf, Result<Arc<Circuit>, String>>,
+    nameplates: HashMap<PathBuf, Result<NameplateFile, String>>,
+    fingerprints: HashMap<PathBuf, String>,
+}
+
+impl FileCache {
+    fn fingerprint(&mut self, path: &Path) -> String {
+        self.fingerprints
+            .entry(path.to_path_buf())
+            .or_insert_with(|| fingerprint_file(path).unwrap_or_else(|_| "unreadable".into()))
+            .clone()
+    }
 }
 
 impl<'a> Planner<'a> {
@@ -91,7 +122,7 @@ impl<'a> Planner<'a> {
             cli,
             monte_carlo,
             sidecars: HashMap::new(),
-            models: HashMap::new(),
+            files: FileCache::default(),
         }
     }
 
@@ -118,12 +149,26 @@ impl<'a> Planner<'a> {
         }
         layer.apply(self.cli);
         let settings_json = serde_json::to_string(&layer).unwrap_or_default();
-        let settings_hash =
-            summary::fingerprint(format!("{settings_json}|{:?}", self.monte_carlo).as_bytes());
         let setup = match trouble {
             Some(e) => Err(e),
-            None => resolve(&layer, self.monte_carlo, &mut self.models),
+            None => resolve(&layer, &f.path, self.monte_carlo, &mut self.files),
         };
+        let mut referenced = String::new();
+        let before = setup
+            .as_ref()
+            .ok()
+            .and_then(|s| s.bank.as_ref())
+            .map(|b| b.before.clone());
+        for p in [layer.expect.clone(), layer.bank.nameplate.clone(), before]
+            .into_iter()
+            .flatten()
+        {
+            referenced.push('|');
+            referenced.push_str(&self.files.fingerprint(&p));
+        }
+        let settings_hash = summary::fingerprint(
+            format!("{settings_json}|{:?}{referenced}", self.monte_carlo).as_bytes(),
+        );
         Job {
             path: f.path.clone(),
             setup,
@@ -166,8 +211,9 @@ fn limit(x: Option<f64>, default: f64, name: &str) -> Result<f64, String> {
 /// Turns a resolved layer into a [`Setup`].
 fn resolve(
     l: &Layer,
+    capture: &Path,
     monte_carlo: &MonteCarloConfig,
-    models: &mut HashMap<PathBuf, Result<Arc<Circuit>, String>>,
+    files: &mut FileCache,
 ) -> Result<Setup, String> {
     let d = Settings::default();
     let du = UncertaintyInputs::default();
@@ -208,7 +254,8 @@ fn resolve(
     let expect = match &l.expect {
         None => None,
         Some(p) => Some(
-            models
+            files
+                .models
                 .entry(p.clone())
                 .or_insert_with(|| Circuit::load(p).map(Arc::new).map_err(|e| e.to_string()))
                 .clone()?,
@@ -224,6 +271,30 @@ fn resolve(
         }),
         _ => return Err("a meter needs both a reading and a class".into()),
     };
+    let bank = if l.bank == Default::default() {
+        None
+    } else {
+        let b = &l.bank;
+        let before = b
+            .before
+            .as_ref()
+            .ok_or("bank: `before` is missing: name the capture with the bank switched out")?;
+        let file = match &b.nameplate {
+            None => NameplateFile::default(),
+            Some(p) => files
+                .nameplates
+                .entry(p.clone())
+                .or_insert_with(|| NameplateFile::load(p).map_err(|e| e.to_string()))
+                .clone()?,
+        };
+        let nameplate = Nameplate::resolve(&b.values.clone().or(file), &KeyNames::FILE)
+            .map_err(|e| format!("bank: {e}"))?;
+        let folder = capture.parent().unwrap_or(Path::new(""));
+        Some(BankSpec {
+            nameplate,
+            before: folder.join(before),
+        })
+    };
     Ok(Setup {
         load: LoadOptions {
             voltage: l.voltage.as_deref().map(ChannelSel::parse),
@@ -234,6 +305,7 @@ fn resolve(
         expect,
         monte_carlo: monte_carlo.clone(),
         meter,
+        bank,
     })
 }
 
@@ -338,8 +410,65 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
         .map(|w| w.to_string())
         .collect::<Vec<_>>()
         .join("; ");
+    // The bank-out capture itself, matched by the same pattern, has nothing to compare with.
+    if let Some(spec) = setup.bank.as_ref().filter(|b| b.before != job.path) {
+        match bank_check(&a, spec, setup) {
+            Ok(r) => {
+                row.verdict_failed |= r.verdict == BankVerdict::Fail;
+                if let Value::Object(m) = &mut result {
+                    m.insert(
+                        "bank".into(),
+                        serde_json::json!({
+                            "verdict": r.verdict,
+                            "before": spec.before.display().to_string(),
+                            "delivered_kvar": r.delivered_kvar,
+                            "delivered_uncertainty_kvar": r.delivered_uncertainty_kvar,
+                            "expected_kvar": r.expected_kvar,
+                            "ratio": r.ratio,
+                            "failed_steps": r.failed_steps,
+                            "standard": r.standard,
+                            "over_corrected": r.over_corrected,
+                            "warnings": r.warnings,
+                        }),
+                    );
+                }
+            }
+            // The check was asked for and could not run: an input error, like an unreadable file.
+            Err(e) => {
+                row.status = Status::Error;
+                row.message = if row.message.is_empty() {
+                    format!("{file}: bank check: {e}")
+                } else {
+                    format!("{file}: bank check: {e}; {}", row.message)
+                };
+            }
+        }
+    }
     row.result = Some(result);
     (row, Some((a, predicted)))
+}
+
+/// The bank check of an analysed capture against its bank-out capture, analysed here with the
+/// same settings.
+fn bank_check(
+    after: &analysis::Analysis,
+    spec: &BankSpec,
+    setup: &Setup,
+) -> Result<BankReport, String> {
+    let before = capture::load(&spec.before, &setup.load)
+        .map_err(|e| format!("bank-out capture {e}"))
+        .and_then(|c| {
+            analysis::analyze(c, &setup.settings).map_err(|e| format!("bank-out capture {e}"))
+        })?;
+    let no_angle = |a: &analysis::Analysis| {
+        format!(
+            "{} has no defined phase angle (no fundamental in a trace)",
+            a.path.display()
+        )
+    };
+    let b = before.bank_side().ok_or_else(|| no_angle(&before))?;
+    let a = after.bank_side().ok_or_else(|| no_angle(after))?;
+    Ok(bank::check_bank(&b, &a, &spec.nameplate))
 }
 
 /// The CSV columns of a summary: the lead columns, the `analyze` keys flattened with dots (the

@@ -28,11 +28,16 @@
 //! reading = "pf=0.87,p=12.4kW"
 //! class = "1"
 //! pf_sign = "power-flow"
+//! [bank]                       # capacitor bank check: this capture has the bank switched in
+//! nameplate = "bank.toml"      # relative to this file; its keys may also be given here
+//! before = "feeder-bank-off.csv"   # the bank-out capture, beside the capture checked
+//! rated_kvar = 50              # over the nameplate file's value
 //! [[files]]
 //! pattern = "*clamp-b*"        # * any run of characters, ? one character
 //! i_scale = 100
 //! ```
 
+use crate::check::bank::NameplateFile;
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
 
@@ -73,6 +78,32 @@ pub struct Layer {
     /// A meter reading to check against the capture.
     #[serde(default, skip_serializing_if = "MeterLayer::is_empty")]
     pub meter: MeterLayer,
+    /// A capacitor bank check: this capture is the bank switched in.
+    #[serde(default, skip_serializing_if = "BankLayer::is_empty")]
+    pub bank: BankLayer,
+}
+
+/// A capacitor bank check in a layer: the capture it applies to is the one with the bank
+/// switched in (or with more steps in), `before` the one with it out.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct BankLayer {
+    /// Nameplate file (a relative path is relative to the sidecar that names it).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub nameplate: Option<PathBuf>,
+    /// File name of the capture with the bank switched out, in the same folder as the capture
+    /// checked (a relative path from there).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub before: Option<PathBuf>,
+    /// Nameplate values given here, over the nameplate file's (the same keys).
+    #[serde(flatten)]
+    pub values: NameplateFile,
+}
+
+impl BankLayer {
+    fn is_empty(&self) -> bool {
+        *self == BankLayer::default()
+    }
 }
 
 /// Instrument limits in a layer.
@@ -146,6 +177,22 @@ impl Layer {
             clock_ppm
         );
         take!(self.meter, over.meter, reading, class, pf_sign);
+        take!(self.bank, over.bank, nameplate, before);
+        take!(
+            self.bank.values,
+            over.bank.values,
+            rated_kvar,
+            rated_voltage,
+            rated_frequency_hz,
+            steps,
+            step_kvar,
+            three_phase,
+            standard,
+            target_pf,
+            supply_mva,
+            transformer_kva,
+            transformer_z_percent
+        );
     }
 }
 
@@ -207,10 +254,10 @@ impl Sidecar {
         })?;
         let dir = path.parent().unwrap_or(Path::new("."));
         let anchor = |l: &mut Layer| {
-            if let Some(e) = &l.expect
-                && e.is_relative()
-            {
-                l.expect = Some(dir.join(e));
+            for p in [&mut l.expect, &mut l.bank.nameplate].into_iter().flatten() {
+                if p.is_relative() {
+                    *p = dir.join(&*p);
+                }
             }
         };
         anchor(&mut s.base);
@@ -323,5 +370,31 @@ mod tests {
         std::fs::write(&p, "i_scale = 10\ni_scael = 100\n").unwrap();
         let e = Sidecar::load(&p).unwrap_err().to_string();
         assert!(e.contains("line 2: ") && e.contains("i_scael"), "{e}");
+    }
+
+    /// A `[bank]` table: the nameplate path is anchored to the sidecar, nameplate keys sit beside
+    /// it, a pattern's table overrides key by key, and a misspelt key is named with its line.
+    #[test]
+    fn bank_tables_take_nameplate_keys_and_name_their_mistakes() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join(SIDECAR);
+        std::fs::write(
+            &p,
+            "[bank]\nnameplate = \"plate.toml\"\nbefore = \"off.csv\"\nrated_kvar = 75\n\
+             [[files]]\npattern = \"*-two.csv\"\n[files.bank]\nrated_kvar = 50\nsteps = 2\n",
+        )
+        .unwrap();
+        let s = Sidecar::load(&p).unwrap();
+        let mut l = Layer::default();
+        s.layers_for("step-two.csv").for_each(|x| l.apply(x));
+        assert_eq!(l.bank.nameplate, Some(dir.path().join("plate.toml")));
+        assert_eq!(l.bank.before, Some(PathBuf::from("off.csv")));
+        assert_eq!(
+            (l.bank.values.rated_kvar, l.bank.values.steps),
+            (Some(50.0), Some(2))
+        );
+        std::fs::write(&p, "[bank]\nbefore = \"off.csv\"\nrated_kvr = 5\n").unwrap();
+        let e = Sidecar::load(&p).unwrap_err().to_string();
+        assert!(e.contains("line 3: ") && e.contains("rated_kvr"), "{e}");
     }
 }

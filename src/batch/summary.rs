@@ -51,7 +51,7 @@ pub const LEAD_COLUMNS: [&str; 6] = [
 ];
 
 /// Columns of the verdicts, after the analysis keys.
-pub const VERDICT_COLUMNS: [&str; 7] = [
+pub const VERDICT_COLUMNS: [&str; 14] = [
     "expected.verdict",
     "expected.nominal_phase_deg",
     "expected.band_deg",
@@ -59,6 +59,13 @@ pub const VERDICT_COLUMNS: [&str; 7] = [
     "meter.verdict",
     "meter.failed_checks",
     "meter.wiring_hints",
+    "bank.verdict",
+    "bank.before",
+    "bank.delivered_kvar",
+    "bank.delivered_uncertainty_kvar",
+    "bank.expected_kvar",
+    "bank.ratio",
+    "bank.failed_steps",
 ];
 
 /// 64-bit FNV-1a over 8-byte little-endian words, then the last 0-7 bytes one by one, then the
@@ -204,8 +211,8 @@ pub struct PastRow {
     pub verdict_failed: bool,
 }
 
-fn failed_verdict(expected: &str, meter: &str) -> bool {
-    expected == "outside" || meter == "fail"
+fn failed_verdict(expected: &str, meter: &str, bank: &str) -> bool {
+    expected == "outside" || meter == "fail" || bank == "fail"
 }
 
 /// Reads an earlier summary for `--resume`: rows by file. A file that is missing, empty, of the
@@ -248,7 +255,11 @@ pub fn read_past(
                         settings_hash: get("settings_hash"),
                         span,
                         status: get("status"),
-                        verdict_failed: failed_verdict(&verdict("expected"), &verdict("meter")),
+                        verdict_failed: failed_verdict(
+                            &verdict("expected"),
+                            &verdict("meter"),
+                            &verdict("bank"),
+                        ),
                     },
                 );
             }
@@ -265,7 +276,11 @@ pub fn read_past(
                 return out;
             }
             let col = |name: &str| columns.iter().position(|c| c == name);
-            let (ev, mv) = (col("expected.verdict"), col("meter.verdict"));
+            let (ev, mv, bv) = (
+                col("expected.verdict"),
+                col("meter.verdict"),
+                col("bank.verdict"),
+            );
             let mut rec = ::csv::StringRecord::new();
             loop {
                 let start = rdr.position().byte();
@@ -286,6 +301,7 @@ pub fn read_past(
                         verdict_failed: failed_verdict(
                             ev.and_then(|k| rec.get(k)).unwrap_or(""),
                             mv.and_then(|k| rec.get(k)).unwrap_or(""),
+                            bv.and_then(|k| rec.get(k)).unwrap_or(""),
                         ),
                     },
                 );

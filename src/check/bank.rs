@@ -422,33 +422,169 @@ fn nearest_subset(steps: &[f64], target: f64) -> Vec<usize> {
         .collect()
 }
 
-/// The nameplate as a file may give it (TOML, our own keys); every key optional, command-line
-/// options fill or override them.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
+/// The nameplate as a file may give it (TOML, our own keys); every key optional. Command-line
+/// options, or a batch sidecar's `[bank]` table, fill or override them ([`NameplateFile::or`]),
+/// and [`Nameplate::resolve`] checks the result.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct NameplateFile {
     /// Rated kvar of the whole bank.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub rated_kvar: Option<f64>,
     /// Rated voltage (line-to-line for three-phase), V.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub rated_voltage: Option<f64>,
     /// Rated frequency, Hz.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub rated_frequency_hz: Option<f64>,
     /// Number of equal steps.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub steps: Option<usize>,
     /// Rated kvar of each step, when unequal.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub step_kvar: Option<Vec<f64>>,
     /// One phase of a balanced three-phase bank.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub three_phase: Option<bool>,
     /// "ieee-18" or "iec-60831".
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub standard: Option<String>,
     /// Target PF.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub target_pf: Option<f64>,
     /// Supply short-circuit power, MVA.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub supply_mva: Option<f64>,
     /// Supplying transformer rating, kVA.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub transformer_kva: Option<f64>,
     /// Supplying transformer impedance, percent.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub transformer_z_percent: Option<f64>,
+}
+
+impl NameplateFile {
+    /// Every value `self` gives, and `under`'s where `self` gives none.
+    pub fn or(self, under: NameplateFile) -> NameplateFile {
+        NameplateFile {
+            rated_kvar: self.rated_kvar.or(under.rated_kvar),
+            rated_voltage: self.rated_voltage.or(under.rated_voltage),
+            rated_frequency_hz: self.rated_frequency_hz.or(under.rated_frequency_hz),
+            steps: self.steps.or(under.steps),
+            step_kvar: self.step_kvar.or(under.step_kvar),
+            three_phase: self.three_phase.or(under.three_phase),
+            standard: self.standard.or(under.standard),
+            target_pf: self.target_pf.or(under.target_pf),
+            supply_mva: self.supply_mva.or(under.supply_mva),
+            transformer_kva: self.transformer_kva.or(under.transformer_kva),
+            transformer_z_percent: self.transformer_z_percent.or(under.transformer_z_percent),
+        }
+    }
+
+    /// True when no value is given.
+    pub fn is_empty(&self) -> bool {
+        *self == NameplateFile::default()
+    }
+}
+
+/// The key names [`Nameplate::resolve`] uses in its messages, and where a missing value may be
+/// given.
+pub struct KeyNames {
+    /// The name of a key (a `NameplateFile` field name) as the user writes it.
+    pub name: fn(&'static str) -> String,
+    /// Where a missing value can be given, for the message.
+    pub where_given: &'static str,
+}
+
+impl KeyNames {
+    /// Names as in the nameplate file and a sidecar's `[bank]` table.
+    pub const FILE: KeyNames = KeyNames {
+        name: |k| k.to_string(),
+        where_given: "the nameplate file or the [bank] table",
+    };
+}
+
+impl Nameplate {
+    /// Checks a merged nameplate and fills the defaults: one step, the default standard, target
+    /// PF 0.95. Messages name keys through `keys`.
+    pub fn resolve(f: &NameplateFile, keys: &KeyNames) -> Result<Nameplate, String> {
+        let name = keys.name;
+        let need = |v: Option<f64>, key: &'static str| -> Result<f64, String> {
+            match v {
+                Some(x) if x.is_finite() && x > 0.0 => Ok(x),
+                Some(x) => Err(format!("{} must be a positive number, not {x}", name(key))),
+                None => Err(format!(
+                    "{} is missing: give it in {}",
+                    name(key),
+                    keys.where_given
+                )),
+            }
+        };
+        let rated_kvar = need(f.rated_kvar, "rated_kvar")?;
+        let rated_voltage = need(f.rated_voltage, "rated_voltage")?;
+        let rated_frequency_hz = need(f.rated_frequency_hz, "rated_frequency_hz")?;
+        let steps_kvar = match (&f.step_kvar, f.steps) {
+            (Some(list), _) => {
+                if list.is_empty() || list.iter().any(|q| !(q.is_finite() && *q > 0.0)) {
+                    return Err(format!("{} needs positive kvar values", name("step_kvar")));
+                }
+                let sum: f64 = list.iter().sum();
+                if (sum / rated_kvar - 1.0).abs() > 0.01 {
+                    return Err(format!(
+                        "the steps add up to {sum} kvar, not the rated {rated_kvar} kvar"
+                    ));
+                }
+                list.clone()
+            }
+            (None, Some(0)) => return Err(format!("{} must be at least 1", name("steps"))),
+            (None, Some(n)) => vec![rated_kvar / n as f64; n],
+            (None, None) => vec![rated_kvar],
+        };
+        if steps_kvar.len() > 20 {
+            return Err("at most 20 steps are supported".into());
+        }
+        let standard = match f.standard.as_deref() {
+            None => CapacitorStandard::default(),
+            Some(s) => CapacitorStandard::parse(s).ok_or_else(|| {
+                format!(
+                    "unknown capacitor standard '{s}': use {}",
+                    CapacitorStandard::NAMES.join(" or ")
+                )
+            })?,
+        };
+        let supply = match (f.supply_mva, f.transformer_kva, f.transformer_z_percent) {
+            (Some(s), _, _) => Some(Supply::ShortCircuitMva(need(Some(s), "supply_mva")?)),
+            (None, Some(k), Some(z)) => Some(Supply::Transformer {
+                kva: need(Some(k), "transformer_kva")?,
+                z_percent: need(Some(z), "transformer_z_percent")?,
+            }),
+            (None, Some(_), None) | (None, None, Some(_)) => {
+                return Err(format!(
+                    "a transformer needs both {} and {}",
+                    name("transformer_kva"),
+                    name("transformer_z_percent")
+                ));
+            }
+            (None, None, None) => None,
+        };
+        let target_pf = f.target_pf.unwrap_or(0.95);
+        if !(target_pf > 0.0 && target_pf <= 1.0) {
+            return Err(format!(
+                "{} must be above 0 and at most 1, not {target_pf}",
+                name("target_pf")
+            ));
+        }
+        Ok(Nameplate {
+            rated_kvar,
+            rated_voltage,
+            rated_frequency_hz,
+            steps_kvar,
+            three_phase: f.three_phase.unwrap_or(false),
+            standard,
+            supply,
+            target_pf,
+        })
+    }
 }
 
 /// A nameplate file that cannot be used.
