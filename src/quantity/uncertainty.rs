@@ -6,8 +6,10 @@
 //! - the spread of each figure across sub-records of about 200 ms (the IEC 61000-4-7 window):
 //!   `s/√M` over M windows, used when there are at least [`MIN_WINDOWS_FOR_SPREAD`] windows;
 //! - otherwise, and always for the frequency, the noise the fit leaves, propagated analytically
-//!   (Cramér-Rao bound for the frequency, `σ/(X1·√N)` for a phase), or the crossing scatter for the
-//!   zero-crossing angle. With four or more windows the larger of spread and noise is kept.
+//!   (Cramér-Rao bound for the frequency, `σ/(X1·√N)` for a phase, `σ/√N` for an RMS,
+//!   `√(σ_v²I² + σ_i²V²)/√N` for P and Q1, `σ/(X1·√N)·√(1 + THD²)` for a THD), or the crossing
+//!   scatter for the zero-crossing angle. With two or three windows the larger of their rough
+//!   spread and the noise is kept.
 //!
 //! Type B (from the instrument, [`UncertaintyInputs`], each a ± limit with a rectangular
 //! distribution, u = limit/√3, GUM 4.3.7):
@@ -266,6 +268,23 @@ pub fn uncertainty(
     let u_theta_b = u_phase_b.to_radians();
     let u_theta_noise = u_angle_noise.to_radians();
 
+    // Noise floors for fewer than four windows, from the fit residuals σ_v, σ_i over the N fitted
+    // samples (block averaging keeps σ²/N): an RMS reading moves by σ/√N, P = mean(v·i) by
+    // √(σ_v²·I² + σ_i²·V²)/√N, a harmonic magnitude by σ/√N (radially, as the phase moves by
+    // σ/(X1·√N)), so THD = D/X1 moves by (σ/(X1·√N))·√(1 + THD²) (first-order propagation,
+    // GUM; Kay vol. I for the phasor variances, references §4).
+    let n_fit = (v.len() / est.decimation.max(1)).max(1) as f64;
+    let (sv, si) = (est.voltage.residual_rms, est.current.residual_rms);
+    let noise_rms = |sigma: f64| sigma / n_fit.sqrt();
+    let noise_thd = |sigma: f64, t: &TraceFigures| match t.thd_percent {
+        Some(thd) if t.fundamental_rms > 0.0 => {
+            100.0 * sigma / (t.fundamental_rms * n_fit.sqrt())
+                * (1.0 + (thd / 100.0).powi(2)).sqrt()
+        }
+        _ => 0.0,
+    };
+    let noise_power = |vr: f64, ir: f64| (sv * ir).hypot(si * vr) / n_fit.sqrt();
+
     // RMS: ratio accuracy, converter resolution, spread.
     let steps = match inputs.adc {
         Some(a) => (
@@ -274,7 +293,11 @@ pub fn uncertainty(
         ),
         None => (observed_step(v), observed_step(i)),
     };
-    let rms_u = |t: &TraceFigures, ratio_pct: f64, step: f64, get: fn(&WindowFigures) -> f64| {
+    let rms_u = |t: &TraceFigures,
+                 ratio_pct: f64,
+                 step: f64,
+                 noise: f64,
+                 get: fn(&WindowFigures) -> f64| {
         // Quantisation with step q adds noise of variance q²/12 to every sample (Widrow's model,
         // textbook): the RMS reads √(X² + q²/12), a bias left uncorrected and taken as a ±limit.
         let resolution = if step.is_finite() {
@@ -285,11 +308,23 @@ pub fn uncertainty(
         rss(&[
             t.rms * rect(ratio_pct / 100.0),
             resolution,
-            type_a(get, 0.0),
+            type_a(get, noise),
         ])
     };
-    let u_v = rms_u(&q.voltage, inputs.v_ratio_percent, steps.0, |w| w.v_rms);
-    let u_i = rms_u(&q.current, inputs.i_ratio_percent, steps.1, |w| w.i_rms);
+    let u_v = rms_u(
+        &q.voltage,
+        inputs.v_ratio_percent,
+        steps.0,
+        noise_rms(sv),
+        |w| w.v_rms,
+    );
+    let u_i = rms_u(
+        &q.current,
+        inputs.i_ratio_percent,
+        steps.1,
+        noise_rms(si),
+        |w| w.i_rms,
+    );
 
     // Powers: ratio errors of both channels, the angle, spread.
     let ratio_rel =
@@ -298,12 +333,15 @@ pub fn uncertainty(
     let u_p = rss(&[
         q.power.active_w.abs() * ratio_rel,
         s1 * theta.sin().abs() * u_theta_b,
-        type_a(|w| w.p, 0.0),
+        type_a(|w| w.p, noise_power(q.voltage.rms, q.current.rms)),
     ]);
     let u_q = rss(&[
         q.power.reactive_var.abs() * ratio_rel,
         s1 * theta.cos().abs() * u_theta_b,
-        type_a(|w| w.q1, 0.0),
+        type_a(
+            |w| w.q1,
+            noise_power(q.voltage.fundamental_rms, q.current.fundamental_rms),
+        ),
     ]);
     let s = q.power.apparent_va;
     let defined = q.phase_angle_dft_deg.is_some();
@@ -325,11 +363,17 @@ pub fn uncertainty(
         }),
         voltage: TraceUncertainty {
             rms: k * u_v,
-            thd_percent: q.voltage.thd_percent.map(|_| k * type_a(|w| w.v_thd, 0.0)),
+            thd_percent: q
+                .voltage
+                .thd_percent
+                .map(|_| k * type_a(|w| w.v_thd, noise_thd(sv, &q.voltage))),
         },
         current: TraceUncertainty {
             rms: k * u_i,
-            thd_percent: q.current.thd_percent.map(|_| k * type_a(|w| w.i_thd, 0.0)),
+            thd_percent: q
+                .current
+                .thd_percent
+                .map(|_| k * type_a(|w| w.i_thd, noise_thd(si, &q.current))),
         },
         power: PowerUncertainty {
             active_w: k * u_p,
