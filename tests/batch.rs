@@ -65,6 +65,21 @@ fn rows(csv_text: &str) -> Vec<csv::StringRecord> {
         .collect()
 }
 
+/// Runs `batch` over `root` into `out` with `extra` options, expecting success; gives stderr.
+fn batch_ok(root: &Path, out: &Path, extra: &[&str]) -> String {
+    let stderr = tracephase()
+        .args(["batch", "--out"])
+        .arg(out)
+        .args(extra)
+        .arg(root)
+        .assert()
+        .success()
+        .get_output()
+        .stderr
+        .clone();
+    String::from_utf8(stderr).unwrap()
+}
+
 fn column(csv_text: &str, name: &str) -> usize {
     let mut r = csv::Reader::from_reader(csv_text.as_bytes());
     r.headers().unwrap().iter().position(|h| h == name).unwrap()
@@ -220,18 +235,7 @@ fn resume_redoes_a_changed_file_and_keeps_the_rest() {
     let dir = site();
     std::fs::remove_file(dir.path().join("site/motors/broken.csv")).unwrap();
     let out = dir.path().join("s.csv");
-    let run = |extra: &[&str]| {
-        tracephase()
-            .args(["batch", "--out"])
-            .arg(&out)
-            .args(extra)
-            .arg(dir.path().join("site"))
-            .assert()
-            .success()
-            .get_output()
-            .stderr
-            .clone()
-    };
+    let run = |extra: &[&str]| batch_ok(&dir.path().join("site"), &out, extra);
     run(&[]);
     capture(
         &dir.path().join("site/motors/m1.csv"),
@@ -240,7 +244,7 @@ fn resume_redoes_a_changed_file_and_keeps_the_rest() {
         10.0,
         2000,
     );
-    let err = String::from_utf8(run(&["--resume"])).unwrap();
+    let err = run(&["--resume"]);
     assert!(err.contains("(2 kept from the earlier summary)"), "{err}");
     let text = std::fs::read_to_string(&out).unwrap();
     let irms = column(&text, "current.rms");
@@ -329,16 +333,8 @@ fn resume_in_json_lines_equals_a_fresh_run() {
     let dir = site();
     std::fs::remove_file(dir.path().join("site/motors/broken.csv")).unwrap();
     let run = |out: &Path, extra: &[&str]| {
-        tracephase()
-            .args(["batch", "--format", "json", "--out"])
-            .arg(out)
-            .args(extra)
-            .arg(dir.path().join("site"))
-            .assert()
-            .success()
-            .get_output()
-            .stderr
-            .clone()
+        let args = [&["--format", "json"], extra].concat();
+        batch_ok(&dir.path().join("site"), out, &args)
     };
     let resumed = dir.path().join("resumed.jsonl");
     run(&resumed, &[]);
@@ -356,7 +352,7 @@ fn resume_in_json_lines_equals_a_fresh_run() {
         10.0,
         2000,
     );
-    let err = String::from_utf8(run(&resumed, &["--resume"])).unwrap();
+    let err = run(&resumed, &["--resume"]);
     assert!(err.contains("kept from the earlier summary"), "{err}");
     let fresh = dir.path().join("fresh.jsonl");
     run(&fresh, &[]);

@@ -138,18 +138,22 @@ fn analytic_budget_matches_monte_carlo_with_instrument_errors() {
     compare(10.3, inputs, 101);
 }
 
-#[test]
-fn analytic_noise_term_matches_monte_carlo_on_a_long_record() {
-    // No instrument errors: only the noise, seen through the spread of 200 ms windows (6 here).
-    let inputs = UncertaintyInputs {
+/// No instrument errors: the noise alone.
+fn noise_only() -> UncertaintyInputs {
+    UncertaintyInputs {
         v_ratio_percent: 0.0,
         i_ratio_percent: 0.0,
         phase_error_deg: 0.0,
         skew_s: 0.0,
         clock_ppm: 0.0,
         adc: None,
-    };
-    compare(60.7, inputs, 202);
+    }
+}
+
+#[test]
+fn analytic_noise_term_matches_monte_carlo_on_a_long_record() {
+    // No instrument errors: only the noise, seen through the spread of 200 ms windows (6 here).
+    compare(60.7, noise_only(), 202);
 }
 
 #[test]
@@ -157,13 +161,5 @@ fn analytic_noise_floor_matches_monte_carlo_on_a_short_record() {
     // 3.3 cycles: two windows of half the record. Type A is the larger of the analytic noise
     // term and the two windows' rough spread, so the budget may only err on the high side:
     // the band is 0.8 to 1.4 times the Monte Carlo spread.
-    let inputs = UncertaintyInputs {
-        v_ratio_percent: 0.0,
-        i_ratio_percent: 0.0,
-        phase_error_deg: 0.0,
-        skew_s: 0.0,
-        clock_ppm: 0.0,
-        adc: None,
-    };
-    compare_within(3.3, inputs, 303, 0.8, 1.4);
+    compare_within(3.3, noise_only(), 303, 0.8, 1.4);
 }
