@@ -150,6 +150,10 @@ pub struct MeterArgs {
     /// How the meter signs PF: power-flow (sign of P), lead-negative, unsigned.
     #[arg(long, value_name = "CONVENTION", default_value = "power-flow")]
     pub pf_sign: String,
+    /// The meter's rated current, A (Ib, or In for a transformer-operated meter): the IEC
+    /// classes' wider limits at low current then apply.
+    #[arg(long, value_name = "A")]
+    pub rated_current: Option<f64>,
     /// Also write a self-contained HTML report here.
     #[arg(long, value_name = "PATH")]
     pub report: Option<PathBuf>,

@@ -150,7 +150,7 @@ struct CheckJson {
     meter_value: f64,
     measured_value: f64,
     error_percent: Option<f64>,
-    limit_percent: f64,
+    limit_percent: Option<f64>,
     verdict: String,
 }
 
@@ -198,7 +198,48 @@ fn the_demo_meter_reading_inside_class_1_passes() {
     let e = 100.0 * (p.meter_value - p.measured_value) / p.measured_value;
     assert!((p.error_percent.unwrap() - e).abs() < 1e-9);
     // IEC 62053-21 class 1 at PF near 1: ±1.0 % (from memory)
-    assert_eq!(p.limit_percent, 1.0);
+    assert_eq!(p.limit_percent, Some(1.0));
+}
+
+/// With the meter's rated current the limits follow the measured current (7.8 A here).
+#[test]
+fn the_rated_current_widens_or_lifts_the_limits() {
+    let reading = "@fixtures/demo-workshop-compressor-meter.reading";
+    fn with(rated: &'static str) -> Vec<&'static str> {
+        [&GOOD_PROBES[..], &["--rated-current", rated]].concat()
+    }
+    // 7.8 A of 100 A: inside 5-10 % of Ib, where class 1 allows ±1.5 % at unity PF (IEC 62053-21,
+    // from memory); the PF of 0.967 is under the lower test point's 10 % of Ib: no limit, no verdict
+    let (code, r) = meter(reading, &with("100"));
+    assert_eq!(code, 0, "{r:?}");
+    let find = |q: &str| r.checks.iter().find(|c| c.quantity == q).unwrap();
+    assert_eq!(find("v").limit_percent, Some(1.5));
+    assert_eq!(find("p").limit_percent, None);
+    assert_eq!(find("p").verdict, "inconclusive");
+    // 7.8 A of 20 A is 39 % of Ib: the full-current limits
+    let (_, r) = meter(reading, &with("20"));
+    assert!(r.checks.iter().all(|c| c.verdict == "pass"), "{r:?}");
+    let out = tracephase()
+        .args([
+            "meter",
+            "fixtures/demo-workshop-compressor-after-capacitor.csv",
+        ])
+        .args([
+            "--class",
+            "1",
+            "--reading",
+            "pf=0.97",
+            "--rated-current",
+            "0",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(
+        err.contains("--rated-current must be a positive number"),
+        "{err}"
+    );
 }
 
 #[test]

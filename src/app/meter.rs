@@ -3,7 +3,7 @@
 
 use super::bank::analyse_file;
 use super::{ConfigError, Outcome, format, resolve_channels};
-use crate::check::meter::{AccuracyClass, MeterVerdict, PfSign, Reading, check_meter};
+use crate::check::meter::{AccuracyClass, MeterVerdict, PfSign, Reading, check_meter_rated};
 use crate::cli::MeterArgs;
 use crate::report;
 use std::io::Write;
@@ -18,6 +18,13 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
         let sign = PfSign::parse(&a.pf_sign).map_err(|e| ConfigError(format!("--pf-sign: {e}")))?;
         let (load, settings) = resolve_channels(&a.uncertainty, &a.channels, a.harmonics)?;
         let plot_options = super::resolve_plot_options(&a.pcc)?;
+        if let Some(r) = a.rated_current
+            && !(r.is_finite() && r > 0.0)
+        {
+            return Err(ConfigError(format!(
+                "--rated-current must be a positive number of amperes, not {r}"
+            )));
+        }
         Ok((reading, class, sign, load, settings, plot_options))
     })();
     let (reading, class, sign, load, settings, plot_options) = match config {
@@ -42,7 +49,7 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
         );
         return Outcome::InputErrors;
     };
-    let r = check_meter(&reading, &m, class, sign);
+    let r = check_meter_rated(&reading, &m, class, sign, a.rated_current);
     if report::meter::write(out, &r, &analysis, format(a.format)).is_err() {
         let _ = writeln!(
             err,

@@ -40,6 +40,8 @@ pub struct MeterSpec {
     pub class: AccuracyClass,
     /// The PF sign convention.
     pub pf_sign: PfSign,
+    /// The rated current, A, when known.
+    pub rated_current: Option<f64>,
 }
 
 /// A capacitor bank check: the capture is the bank switched in, `before` the one with it out.
@@ -268,6 +270,14 @@ fn resolve(
             class: AccuracyClass::parse(c).map_err(|e| format!("meter class: {e}"))?,
             pf_sign: PfSign::parse(l.meter.pf_sign.as_deref().unwrap_or("power-flow"))
                 .map_err(|e| format!("meter pf_sign: {e}"))?,
+            rated_current: match l.meter.rated_current {
+                Some(r) if !(r.is_finite() && r > 0.0) => {
+                    return Err(format!(
+                        "meter rated_current must be a positive number of amperes, not {r}"
+                    ));
+                }
+                r => r,
+            },
         }),
         _ => return Err("a meter needs both a reading and a class".into()),
     };
@@ -366,7 +376,13 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
     row.verdict_failed |= a.expected.as_ref().is_some_and(|e| e.failed());
     let mut result = serde_json::to_value(AnalysisRecord::from(&a)).unwrap_or(Value::Null);
     if let (Some(spec), Some(m)) = (&setup.meter, a.meter_measured()) {
-        let r = meter::check_meter(&spec.reading, &m, spec.class, spec.pf_sign);
+        let r = meter::check_meter_rated(
+            &spec.reading,
+            &m,
+            spec.class,
+            spec.pf_sign,
+            spec.rated_current,
+        );
         let failed: Vec<&str> = r
             .checks
             .iter()

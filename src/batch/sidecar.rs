@@ -28,6 +28,7 @@
 //! reading = "pf=0.87,p=12.4kW"
 //! class = "1"
 //! pf_sign = "power-flow"
+//! rated_current = 5            # A (Ib, or In): low-current limits apply
 //! [bank]                       # capacitor bank check: this capture has the bank switched in
 //! nameplate = "bank.toml"      # relative to this file; its keys may also be given here
 //! before = "feeder-bank-off.csv"   # the bank-out capture, beside the capture checked
@@ -146,6 +147,9 @@ pub struct MeterLayer {
     /// PF sign convention, as for `meter --pf-sign`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub pf_sign: Option<String>,
+    /// Rated current, A, as for `meter --rated-current`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rated_current: Option<f64>,
 }
 
 impl MeterLayer {
@@ -176,7 +180,14 @@ impl Layer {
             skew_s,
             clock_ppm
         );
-        take!(self.meter, over.meter, reading, class, pf_sign);
+        take!(
+            self.meter,
+            over.meter,
+            reading,
+            class,
+            pf_sign,
+            rated_current
+        );
         take!(self.bank, over.bank, nameplate, before);
         take!(
             self.bank.values,

@@ -186,14 +186,34 @@ pub fn quadrant(p: f64, q: f64) -> (u8, &'static str) {
     }
 }
 
-/// Compares the meter's reading with our measurement, quantity by quantity.
+/// Compares the meter's reading with our measurement, quantity by quantity, at the class's
+/// full-current limits.
 pub fn check_meter(
     reading: &Reading,
     measured: &Measured,
     class: AccuracyClass,
     pf_sign: PfSign,
 ) -> MeterReport {
+    check_meter_rated(reading, measured, class, pf_sign, None)
+}
+
+/// [`check_meter`] for a meter of known rated current (Ib, or In for a transformer-operated
+/// meter), A: the limits follow the measured current ([`AccuracyClass::at_current`]).
+pub fn check_meter_rated(
+    reading: &Reading,
+    measured: &Measured,
+    class: AccuracyClass,
+    pf_sign: PfSign,
+    rated_current_a: Option<f64>,
+) -> MeterReport {
     let m = measured;
+    let ratio = rated_current_a.filter(|r| *r > 0.0).map(|r| m.i_rms / r);
+    // A limit at the measured current: NaN where none applies, with the reason as a note.
+    let at = |base: f64, x: f64, scale: f64| {
+        let (l, note) = class.at_current(base, x, ratio, scale);
+        (l.unwrap_or(f64::NAN), note)
+    };
+    let reactive_scale = if class.is_reactive() { 1.0 } else { 2.0 };
     let pf_abs = m.pf.abs();
     let sin_phi = if m.angle_deg.is_finite() {
         m.angle_deg.to_radians().sin().abs()
@@ -201,16 +221,24 @@ pub fn check_meter(
         (m.q_var / m.s_va).abs()
     };
     let mut checks = Vec::new();
+    let active = at(class.active_limit_percent(pf_abs), pf_abs, 1.0);
     if let Some(x) = reading.pf {
-        checks.push(check_pf(x, m, class, pf_sign));
+        checks.push(check_pf(x, m, class, pf_sign, active.clone()));
     }
     if let Some(x) = reading.p_w {
-        let limit = class.active_limit_percent(pf_abs);
-        let c = Compare::new("p", x, m.p_w, m.u_p_w, limit, class.active_note(pf_abs));
-        checks.push(c.share_of_s(m.s_va, "P").finish());
+        let c = Compare::new("p", x, m.p_w, m.u_p_w, active.0, class.active_note(pf_abs));
+        checks.push(
+            c.with_note(active.1.clone())
+                .share_of_s(m.s_va, "P")
+                .finish(),
+        );
     }
     if let Some(x) = reading.q_var {
-        let limit = class.reactive_limit_percent(sin_phi);
+        let (limit, note) = at(
+            class.reactive_limit_percent(sin_phi),
+            sin_phi,
+            reactive_scale,
+        );
         let c = Compare::new(
             "q",
             x,
@@ -219,12 +247,18 @@ pub fn check_meter(
             limit,
             class.reactive_note(sin_phi),
         );
-        checks.push(c.share_of_s(m.s_va, "Q").finish());
+        checks.push(c.with_note(note).share_of_s(m.s_va, "Q").finish());
     }
     if let Some(x) = reading.s_va {
-        let limit = class.active_limit_percent(pf_abs);
-        let c = Compare::new("s", x, m.s_va, m.u_s_va, limit, class.active_note(pf_abs));
-        checks.push(c.finish());
+        let c = Compare::new(
+            "s",
+            x,
+            m.s_va,
+            m.u_s_va,
+            active.0,
+            class.active_note(pf_abs),
+        );
+        checks.push(c.with_note(active.1.clone()).finish());
     }
     let unity_note = || {
         class.active_note(1.0).or_else(|| {
@@ -235,12 +269,14 @@ pub fn check_meter(
             ))
         })
     };
-    let unity = class.active_limit_percent(1.0);
+    let (unity, unity_current) = at(class.active_limit_percent(1.0), 1.0, 1.0);
     if let Some(x) = reading.v {
-        checks.push(Compare::new("v", x, m.v_rms, m.u_v, unity, unity_note()).finish());
+        let c = Compare::new("v", x, m.v_rms, m.u_v, unity, unity_note());
+        checks.push(c.with_note(unity_current.clone()).finish());
     }
     if let Some(x) = reading.i {
-        checks.push(Compare::new("i", x, m.i_rms, m.u_i, unity, unity_note()).finish());
+        let c = Compare::new("i", x, m.i_rms, m.u_i, unity, unity_note());
+        checks.push(c.with_note(unity_current).finish());
     }
     let wiring_hints = hints::wiring_hints(reading, m, class, pf_sign, &checks);
     let (quadrant, text) = quadrant(m.p_w, m.q_var);
@@ -285,6 +321,12 @@ impl Compare {
         }
     }
 
+    /// Adds a note, if any.
+    fn with_note(mut self, note: Option<String>) -> Self {
+        self.notes.extend(note);
+        self
+    }
+
     /// Takes the error in percent of S when |measured| is below [`LOW_SHARE`] of S.
     fn share_of_s(mut self, s: f64, symbol: &str) -> Self {
         if s > 0.0 && self.measured.abs() < LOW_SHARE * s {
@@ -304,8 +346,13 @@ impl Compare {
             if self.reference > 0.0 && self.reference.is_finite() && self.u.is_finite() {
                 let error = 100.0 * (self.meter - self.measured) / self.reference;
                 let u_pct = 100.0 * self.u.abs() / self.reference;
-                let d = decide(error, u_pct, -self.limit, self.limit);
-                (error, u_pct, d.verdict.into())
+                if self.limit.is_finite() {
+                    let d = decide(error, u_pct, -self.limit, self.limit);
+                    (error, u_pct, d.verdict.into())
+                } else {
+                    // no limit applies (below the lowest current the class lists): no verdict
+                    (error, u_pct, MeterVerdict::Inconclusive)
+                }
             } else {
                 notes.push(
                     "nothing measured to compare with (our value is zero or unknown)".to_string(),
@@ -326,15 +373,21 @@ impl Compare {
 }
 
 /// The PF check: our PF signed the meter's way, a wrong sign explained.
-fn check_pf(meter: f64, m: &Measured, class: AccuracyClass, sign: PfSign) -> MeterCheck {
+fn check_pf(
+    meter: f64,
+    m: &Measured,
+    class: AccuracyClass,
+    sign: PfSign,
+    (limit, current_note): (f64, Option<String>),
+) -> MeterCheck {
     let pf_abs = m.pf.abs();
-    let limit = class.active_limit_percent(pf_abs);
     let uncertain_sign = match sign {
         PfSign::PowerFlow => m.p_w.abs() <= m.u_p_w.abs(),
         PfSign::LeadNegative => m.q_var.abs() <= m.u_q_var.abs(),
         PfSign::Unsigned => false,
     };
     let mut notes: Vec<String> = class.active_note(pf_abs).into_iter().collect();
+    notes.extend(current_note);
     let ours = if uncertain_sign {
         notes.push(format!(
             "our {} is within its uncertainty of zero, so the PF sign cannot be told: sizes \
@@ -358,14 +411,15 @@ fn check_pf(meter: f64, m: &Measured, class: AccuracyClass, sign: PfSign) -> Met
     let reference = c.reference;
     let mut check = c.finish();
     if wrong_sign {
-        let size_fits = decide(
-            100.0 * (meter.abs() - ours.abs()) / reference,
-            check.uncertainty_percent,
-            -limit,
-            limit,
-        )
-        .verdict
-            != Verdict::Outside;
+        let size_fits = limit.is_finite()
+            && decide(
+                100.0 * (meter.abs() - ours.abs()) / reference,
+                check.uncertainty_percent,
+                -limit,
+                limit,
+            )
+            .verdict
+                != Verdict::Outside;
         let fitting: Vec<&str> = [PfSign::PowerFlow, PfSign::LeadNegative]
             .into_iter()
             .filter(|s| (s.apply(m.pf, m.p_w, m.q_var) < 0.0) == (meter < 0.0))
@@ -455,6 +509,66 @@ mod tests {
             "quadrant I: importing active power, inductive (current lags)"
         );
         assert_eq!(rep.class, "IEC 62053-21 class 1");
+    }
+
+    /// IEC 62053-21 class 1 (from memory): ±1.0 % at PF 1 from 0.1 Ib, ±1.5 % from 0.05 Ib to
+    /// 0.1 Ib, nothing below 0.05 Ib; at PF 0.5 inductive ±1.0 % from 0.2 Ib, ±1.5 % from 0.1 Ib.
+    /// The capture's 50 A against a rated current of 700 A is 7.1 % of Ib.
+    #[test]
+    fn low_current_limits_follow_the_rated_current() {
+        let m = measured(0.0);
+        let r = Reading {
+            p_w: Some(1.012 * m.p_w),
+            ..Reading::default()
+        };
+        let at = |rated: Option<f64>| {
+            check_meter_rated(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow, rated).checks[0]
+                .clone()
+        };
+        // at full current a 1.2 % error fails the 1 % limit
+        let full = at(Some(100.0));
+        assert_eq!(
+            (full.limit_percent, full.verdict),
+            (1.0, MeterVerdict::Fail)
+        );
+        assert_eq!(at(None).verdict, MeterVerdict::Fail);
+        // at 7.1 % of Ib the class allows 1.5 %
+        let low = at(Some(700.0));
+        assert_eq!((low.limit_percent, low.verdict), (1.5, MeterVerdict::Pass));
+        assert!(
+            low.note.as_deref().unwrap().contains("7 % of rated"),
+            "{low:?}"
+        );
+        // below 5 % of Ib no limit applies: no verdict either way
+        let below = at(Some(2000.0));
+        assert!(below.limit_percent.is_nan());
+        assert_eq!(below.verdict, MeterVerdict::Inconclusive);
+        assert!(below.note.as_deref().unwrap().contains("no limit applies"));
+        // at PF 0.5 the low-current range runs from 0.1 Ib to 0.2 Ib: 50 A of 300 A is 16.7 %
+        let m60 = measured(60.0);
+        let r60 = Reading {
+            p_w: Some(1.012 * m60.p_w),
+            ..Reading::default()
+        };
+        let c = &check_meter_rated(
+            &r60,
+            &m60,
+            AccuracyClass::Iec1,
+            PfSign::PowerFlow,
+            Some(300.0),
+        )
+        .checks[0];
+        assert_eq!((c.limit_percent, c.verdict), (1.5, MeterVerdict::Pass));
+        // IEC 62053-22 class 0.2S (from memory): ±0.4 % at PF 1 from 0.01 In to 0.05 In
+        let c = &check_meter_rated(
+            &r,
+            &m,
+            AccuracyClass::Iec02S,
+            PfSign::PowerFlow,
+            Some(2000.0),
+        )
+        .checks[0];
+        assert_eq!(c.limit_percent, 0.4);
     }
 
     #[test]

@@ -175,8 +175,8 @@ fn parse_value(
 /// test points the standard lists: PF 1 and PF 0.5 inductive / 0.8 capacitive for the active
 /// classes, sin φ 1 and 0.5 for the reactive ones. Figures are from memory
 /// (IEC 62053-21/-22/-23, ANSI C12.20); see [`AccuracyClass::active_limit_percent`] for how a PF
-/// between or below the test points is treated. The wider limits the standards allow at low
-/// current are not applied: the meter's rated current is not known here.
+/// between or below the test points is treated. With the meter's rated current known, the wider
+/// limits the IEC classes allow at low current apply ([`AccuracyClass::at_current`]).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub enum AccuracyClass {
     /// IEC 62053-21 class 1 (active energy). Accepted name `1`.
@@ -345,6 +345,73 @@ impl AccuracyClass {
             ))
         } else {
             None
+        }
+    }
+
+    /// The IEC classes' low-current ranges, as multiples of the rated current (Ib for the
+    /// direct-connected classes of IEC 62053-21 and -23, In for the transformer-operated ones of
+    /// IEC 62053-22): for the unity point and the lower point, the lowest current the class lists
+    /// a limit for, the current from which the full-current limit holds, and the limit between
+    /// the two, ± %. All from memory. ANSI C12.20's light-load points are not listed here.
+    fn low_current(&self) -> Option<[(f64, f64, f64); 2]> {
+        match self {
+            AccuracyClass::Iec1 => Some([(0.05, 0.1, 1.5), (0.1, 0.2, 1.5)]), // IEC 62053-21
+            AccuracyClass::Iec2 => Some([(0.05, 0.1, 2.5), (0.1, 0.2, 2.5)]), // IEC 62053-21
+            AccuracyClass::Iec02S => Some([(0.01, 0.05, 0.4), (0.02, 0.1, 0.5)]), // IEC 62053-22
+            AccuracyClass::Iec05S => Some([(0.01, 0.05, 1.0), (0.02, 0.1, 1.0)]), // IEC 62053-22
+            AccuracyClass::Reactive2 => Some([(0.05, 0.1, 2.5), (0.1, 0.2, 2.5)]), // IEC 62053-23
+            AccuracyClass::Reactive3 => Some([(0.05, 0.1, 4.0), (0.1, 0.2, 4.0)]), // IEC 62053-23
+            AccuracyClass::Ansi01 | AccuracyClass::Ansi02 | AccuracyClass::Ansi05 => None,
+        }
+    }
+
+    /// `limit` (the full-current limit at point `x`, a |PF| or |sin φ| as the class's own test
+    /// points go) at a current of `ratio` times the rated current: widened in the low-current
+    /// range, `None` below the lowest current the class lists (no limit applies there), with a
+    /// note saying which. `scale` multiplies the class's own figures (2 where an active class
+    /// stands in for a reactive limit, our rule). Unchanged without a ratio or for a class with no
+    /// low-current ranges listed here.
+    pub fn at_current(
+        &self,
+        limit: f64,
+        x: f64,
+        ratio: Option<f64>,
+        scale: f64,
+    ) -> (Option<f64>, Option<String>) {
+        let (Some(r), Some(ranges)) = (ratio.filter(|r| r.is_finite()), self.low_current()) else {
+            return (Some(limit), None);
+        };
+        let (lowest, full, wide) = ranges[usize::from(x.abs() < UNITY_POINT)];
+        let at = if x.abs() < UNITY_POINT {
+            "the lower test point"
+        } else {
+            "the unity test point"
+        };
+        let pct = |v: f64| format!("{:.0} %", 100.0 * v);
+        if r < lowest {
+            (
+                None,
+                Some(format!(
+                    "the current is {} of rated, below the {} {} lists at {at}: no limit applies",
+                    pct(r),
+                    pct(lowest),
+                    self.name()
+                )),
+            )
+        } else if r < full {
+            let widened = (wide * scale).max(limit);
+            (
+                Some(widened),
+                Some(format!(
+                    "the current is {} of rated: {} allows ±{widened} % from {} to {} at {at}",
+                    pct(r),
+                    self.name(),
+                    pct(lowest),
+                    pct(full)
+                )),
+            )
+        } else {
+            (Some(limit), None)
         }
     }
 
