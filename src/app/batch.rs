@@ -4,7 +4,7 @@
 use super::{Outcome, resolve_monte_carlo};
 use crate::analysis::Analysis;
 use crate::batch::sidecar::{Layer, UncertaintyLayer};
-use crate::batch::summary::{self, PastRow, Row, Status, SummaryFormat};
+use crate::batch::summary::{self, PastRow, Status, SummaryFormat};
 use crate::batch::walk::{self, Discovery, Found};
 use crate::batch::{self, Job};
 use crate::check::expected::Expectation;
@@ -48,8 +48,22 @@ pub fn layer_from(o: &OverrideArgs) -> Layer {
 
 /// What one capture gave: a new row, or an earlier row kept as it was.
 enum Outcome1 {
-    New(Row, Duration, Option<Box<(Analysis, Option<Expectation>)>>),
+    New(Box<Done>),
     Kept(PastRow),
+}
+
+/// A capture analysed in this run, its row already written out as a line by the worker (so the
+/// thread that writes the summary only writes).
+struct Done {
+    file: String,
+    status: Status,
+    message: String,
+    verdict_failed: bool,
+    /// The summary line, or why it could not be made.
+    line: Result<String, String>,
+    took: Duration,
+    /// The analysis and model prediction, kept for `--report`.
+    analysis: Option<(Analysis, Option<Expectation>)>,
 }
 
 /// Counts for the end-of-run report.
@@ -212,8 +226,17 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                     }
                     let t = Instant::now();
                     let (row, analysis) = batch::process_keeping(job);
-                    let analysis = if keep { analysis.map(Box::new) } else { None };
-                    Outcome1::New(row, t.elapsed(), analysis)
+                    let took = t.elapsed();
+                    let line = row.line(format, &columns).map_err(|e| e.to_string());
+                    Outcome1::New(Box::new(Done {
+                        line,
+                        file: row.file,
+                        status: row.status,
+                        message: row.message,
+                        verdict_failed: row.verdict_failed,
+                        took,
+                        analysis: if keep { analysis } else { None },
+                    }))
                 })
                 .collect()
         });
@@ -225,10 +248,11 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                     tally.count(&p.status, p.verdict_failed);
                     spans.push(p.span);
                 }
-                Outcome1::New(row, took, analysis) => {
+                Outcome1::New(done) => {
+                    let row = *done;
                     if keep {
-                        kept.push(match analysis {
-                            Some(a) => Ok(*a),
+                        kept.push(match row.analysis {
+                            Some(a) => Ok(a),
                             None => Err((row.file.clone(), row.message.clone())),
                         });
                     }
@@ -238,10 +262,10 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                         });
                     }
                     tally.count(row.status.as_str(), row.verdict_failed);
-                    if tally.slowest.as_ref().is_none_or(|(_, t)| took > *t) {
-                        tally.slowest = Some((row.file.clone(), took));
+                    if tally.slowest.as_ref().is_none_or(|(_, t)| row.took > *t) {
+                        tally.slowest = Some((row.file.clone(), row.took));
                     }
-                    let line = row.line(format, &columns).map_err(|e| e.to_string())?;
+                    let line = row.line?;
                     sink.line(&line)
                         .map_err(|e| format!("cannot write the summary: {e}"))?;
                     let end = written + line.len() as u64;
