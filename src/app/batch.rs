@@ -3,6 +3,7 @@
 
 use super::{Outcome, resolve_monte_carlo};
 use crate::analysis::Analysis;
+use crate::batch::ordered::{Stopped, ordered_map};
 use crate::batch::sidecar::{Layer, UncertaintyLayer};
 use crate::batch::summary::{self, PastRow, Status, SummaryFormat};
 use crate::batch::walk::{self, Discovery, Found};
@@ -10,7 +11,6 @@ use crate::batch::{self, Job};
 use crate::check::expected::Expectation;
 use crate::cli::{BatchArgs, OverrideArgs, SummaryFormatArg};
 use indicatif::ProgressBar;
-use rayon::prelude::*;
 use std::collections::HashMap;
 use std::fs::{File, OpenOptions};
 use std::io::{BufRead, Write};
@@ -18,9 +18,9 @@ use std::io::{Read, Seek, SeekFrom};
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
-/// Captures analysed in parallel before their rows are written: bounds memory, whatever the
-/// folder size, while keeping both cores busy.
-const CHUNK: usize = 64;
+/// Captures planned but not yet written, per job: bounds memory whatever the folder size, and
+/// lets a slow capture hold back only this many finished ones.
+const WINDOW_PER_JOB: usize = 32;
 
 /// The command-line layer of settings.
 pub fn layer_from(o: &OverrideArgs) -> Layer {
@@ -209,74 +209,85 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     // With --report every analysis is kept for the report (memory grows with the folder).
     let keep = a.report.is_some();
     let mut kept: Vec<super::html::FileResult> = Vec::new();
-    // Settings are resolved a chunk at a time: only that chunk's jobs are held.
-    for found in discovery.files.chunks(CHUNK) {
-        let chunk: Vec<Job> = found.iter().map(|f| planner.job(f)).collect();
-        let results: Vec<Outcome1> = pool.install(|| {
-            chunk
-                .par_iter()
-                .map(|job| {
-                    let file = job.path.display().to_string();
-                    if let Some(p) = past.get(&file)
-                        && p.settings_hash == job.settings_hash
-                        && batch::fingerprint_file(&job.path).ok().as_deref()
-                            == Some(p.content_hash.as_str())
-                    {
-                        return Outcome1::Kept(p.clone());
-                    }
-                    let t = Instant::now();
-                    let (row, analysis) = batch::process_keeping(job);
-                    let took = t.elapsed();
-                    let line = row.line(format, &columns).map_err(|e| e.to_string());
-                    Outcome1::New(Box::new(Done {
-                        line,
-                        file: row.file,
-                        status: row.status,
-                        message: row.message,
-                        verdict_failed: row.verdict_failed,
-                        took,
-                        analysis: if keep { analysis } else { None },
-                    }))
-                })
-                .collect()
-        });
-        for r in results {
-            progress.inc(1);
-            match r {
-                Outcome1::Kept(p) => {
-                    tally.kept += 1;
-                    tally.count(&p.status, p.verdict_failed);
-                    spans.push(p.span);
+    // Captures are planned, analysed on the pool and written back in order, each row as soon as
+    // it and every row before it are done; at most WINDOW captures are in between.
+    let work = |job: Job| {
+        let file = job.path.display().to_string();
+        if let Some(p) = past.get(&file)
+            && p.settings_hash == job.settings_hash
+            && batch::fingerprint_file(&job.path).ok().as_deref() == Some(p.content_hash.as_str())
+        {
+            return Outcome1::Kept(p.clone());
+        }
+        let t = Instant::now();
+        let (row, analysis) = batch::process_keeping(&job);
+        let took = t.elapsed();
+        let line = row.line(format, &columns).map_err(|e| e.to_string());
+        Outcome1::New(Box::new(Done {
+            line,
+            file: row.file,
+            status: row.status,
+            message: row.message,
+            verdict_failed: row.verdict_failed,
+            took,
+            analysis: if keep { analysis } else { None },
+        }))
+    };
+    let take = |r: Outcome1| -> Result<(), String> {
+        progress.inc(1);
+        match r {
+            Outcome1::Kept(p) => {
+                tally.kept += 1;
+                tally.count(&p.status, p.verdict_failed);
+                spans.push(p.span);
+            }
+            Outcome1::New(done) => {
+                let row = *done;
+                if keep {
+                    kept.push(match row.analysis {
+                        Some(a) => Ok(a),
+                        None => Err((row.file.clone(), row.message.clone())),
+                    });
                 }
-                Outcome1::New(done) => {
-                    let row = *done;
-                    if keep {
-                        kept.push(match row.analysis {
-                            Some(a) => Ok(a),
-                            None => Err((row.file.clone(), row.message.clone())),
-                        });
-                    }
-                    if row.status == Status::Error {
-                        progress.suspend(|| {
-                            let _ = writeln!(err, "error: {}", row.message);
-                        });
-                    }
-                    tally.count(row.status.as_str(), row.verdict_failed);
-                    if tally.slowest.as_ref().is_none_or(|(_, t)| row.took > *t) {
-                        tally.slowest = Some((row.file.clone(), row.took));
-                    }
-                    let line = row.line?;
-                    sink.line(&line)
-                        .map_err(|e| format!("cannot write the summary: {e}"))?;
-                    let end = written + line.len() as u64;
-                    if a.resume {
-                        spans.push(written..end);
-                    }
-                    written = end;
+                if row.status == Status::Error {
+                    progress.suspend(|| {
+                        let _ = writeln!(err, "error: {}", row.message);
+                    });
                 }
+                tally.count(row.status.as_str(), row.verdict_failed);
+                if tally.slowest.as_ref().is_none_or(|(_, t)| row.took > *t) {
+                    tally.slowest = Some((row.file.clone(), row.took));
+                }
+                let line = row.line?;
+                sink.line(&line)
+                    .map_err(|e| format!("cannot write the summary: {e}"))?;
+                let end = written + line.len() as u64;
+                if a.resume {
+                    spans.push(written..end);
+                }
+                written = end;
             }
         }
-    }
+        Ok(())
+    };
+    let window = WINDOW_PER_JOB * jobs_n;
+    ordered_map(
+        &pool,
+        jobs_n,
+        window,
+        &discovery.files,
+        |f| planner.job(f),
+        work,
+        take,
+    )
+    .map_err(|stopped| match stopped {
+        Stopped::Take(e) => e,
+        Stopped::Panicked(i) => format!(
+            "{}: internal error while analysing this file (a bug: please report it); the \
+             summary holds the files before it",
+            discovery.files[i].path.display()
+        ),
+    })?;
     progress.finish_and_clear();
     drop(sink);
     if let (Some(p), true) = (&a.out, a.resume) {

@@ -9,6 +9,7 @@
 //! - [`process`] loads, analyses and checks one capture; whatever goes wrong becomes an `error`
 //!   row naming the file, never a stop.
 
+pub mod ordered;
 pub mod sidecar;
 pub mod summary;
 pub mod walk;
