@@ -44,6 +44,23 @@ fn config(a: &ReportArgs) -> Result<ReportConfig, ConfigError> {
     })
 }
 
+/// The report's entries for these results, in their order.
+fn entries(results: &[FileResult]) -> Vec<Entry<'_>> {
+    results
+        .iter()
+        .map(|r| match r {
+            Ok((analysis, predicted)) => Entry::Analysed {
+                analysis,
+                expectation: predicted.as_ref(),
+            },
+            Err((file, message)) => Entry::Failed {
+                file: file.clone(),
+                message: message.clone(),
+            },
+        })
+        .collect()
+}
+
 /// One file's result: the analysis and its model prediction, or the file and why it failed.
 pub type FileResult = Result<(Analysis, Option<Expectation>), (String, String)>;
 
@@ -83,19 +100,7 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
         }
     }
     let options = cfg.plot_options;
-    let entries: Vec<Entry> = results
-        .iter()
-        .map(|r| match r {
-            Ok((analysis, predicted)) => Entry::Analysed {
-                analysis,
-                expectation: predicted.as_ref(),
-            },
-            Err((file, message)) => Entry::Failed {
-                file: file.clone(),
-                message: message.clone(),
-            },
-        })
-        .collect();
+    let entries = entries(&results);
     let title = match a.files.as_slice() {
         [one] => format!("tracephase report: {}", one.display()),
         many => format!("tracephase report: {} captures", many.len()),
@@ -282,19 +287,7 @@ pub fn save_analyses(
     settings: Option<&Settings>,
     options: &PlotOptions,
 ) -> Result<(), String> {
-    let entries: Vec<Entry> = results
-        .iter()
-        .map(|r| match r {
-            Ok((analysis, predicted)) => Entry::Analysed {
-                analysis,
-                expectation: predicted.as_ref(),
-            },
-            Err((file, message)) => Entry::Failed {
-                file: file.clone(),
-                message: message.clone(),
-            },
-        })
-        .collect();
+    let entries = entries(results);
     let mut doc = HtmlDoc::new(title, entries);
     doc.plot_options = *options;
     if let Some(s) = settings {
