@@ -324,6 +324,9 @@ fn a_failed_verdict_gives_exit_code_1() {
     let html = std::fs::read_to_string(&report).unwrap();
     assert!(html.contains("class=\"plot-band\""));
     assert!(html.contains("1000 draws (uniform, seed 1)"));
+    // and the summary table gives the verdict in words
+    assert!(html.contains("<th>checks</th>"));
+    assert!(html.contains("<td>model outside</td>"));
 }
 
 /// JSON Lines: a resumed run after one capture changed and one was added writes the same summary
@@ -399,12 +402,17 @@ const BANK_SIDECAR: &str = "[[files]]\npattern = \"*-bank-on.csv\"\n[files.bank]
 fn a_bank_pair_in_a_sidecar_gets_the_bank_verdict() {
     let dir = bank_site(BANK_SIDECAR);
     let out = dir.path().join("s.csv");
+    let report = dir.path().join("r.html");
     tracephase()
         .args(["batch", "--out"])
         .arg(&out)
+        .arg("--report")
+        .arg(&report)
         .arg(dir.path().join("bank"))
         .assert()
         .code(1); // a failed bank verdict
+    let html = std::fs::read_to_string(&report).unwrap();
+    assert!(html.contains("<td>bank fail (2 steps failed)</td>"), "{html}");
     let text = std::fs::read_to_string(&out).unwrap();
     let r = rows(&text);
     assert_eq!(r.len(), 2);

@@ -10,6 +10,7 @@ use crate::batch::walk::{self, Discovery, Found};
 use crate::batch::{self, Job};
 use crate::check::expected::Expectation;
 use crate::cli::{BatchArgs, OverrideArgs, SummaryFormatArg};
+use crate::report::html::BatchRow;
 use indicatif::ProgressBar;
 use std::collections::HashMap;
 use std::fs::{File, OpenOptions};
@@ -59,6 +60,8 @@ struct Done {
     status: Status,
     message: String,
     verdict_failed: bool,
+    /// The checks' verdicts in a few words, for the report.
+    checks: String,
     /// The summary line, or why it could not be made.
     line: Result<String, String>,
     took: Duration,
@@ -209,6 +212,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     // With --report every analysis is kept for the report (memory grows with the folder).
     let keep = a.report.is_some();
     let mut kept: Vec<super::html::FileResult> = Vec::new();
+    let mut report_rows: Vec<BatchRow> = Vec::new();
     // Captures are planned, analysed on the pool and written back in order, each row as soon as
     // it and every row before it are done; at most WINDOW captures are in between.
     let work = |job: Job| {
@@ -224,6 +228,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         let took = t.elapsed();
         let line = row.line(format, &columns).map_err(|e| e.to_string());
         Outcome1::New(Box::new(Done {
+            checks: row.checks(),
             line,
             file: row.file,
             status: row.status,
@@ -247,6 +252,12 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                     kept.push(match row.analysis {
                         Some(a) => Ok(a),
                         None => Err((row.file.clone(), row.message.clone())),
+                    });
+                    report_rows.push(BatchRow {
+                        file: row.file.clone(),
+                        status: row.status,
+                        message: row.message.clone(),
+                        checks: row.checks.clone(),
                     });
                 }
                 if row.status == Status::Error {
@@ -311,7 +322,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     }
     if let Some(path) = &a.report {
         let title = format!("tracephase batch: {} captures", kept.len());
-        super::html::save_analyses(path, title, &kept, None, &plot_options)?;
+        super::html::save_analyses(path, title, &kept, None, &plot_options, Some(report_rows))?;
         if tally.kept > 0 {
             let _ = writeln!(
                 err,

@@ -13,7 +13,7 @@ use crate::check::circuit::Circuit;
 use crate::check::expected::Expectation;
 use crate::check::tolerance::{Distribution, MonteCarloConfig};
 use crate::cli::ReportArgs;
-use crate::report::html::{Entry, HtmlDoc, settings_rows, write_html};
+use crate::report::html::{BatchRow, Entry, HtmlDoc, settings_rows, write_html};
 use crate::report::plot::{self, Plot, PlotOptions};
 use std::collections::HashMap;
 use std::fs;
@@ -286,10 +286,12 @@ pub fn save_analyses(
     results: &[FileResult],
     settings: Option<&Settings>,
     options: &PlotOptions,
+    rows: Option<Vec<BatchRow>>,
 ) -> Result<(), String> {
     let entries = entries(results);
     let mut doc = HtmlDoc::new(title, entries);
     doc.plot_options = *options;
+    doc.batch = rows;
     if let Some(s) = settings {
         doc.settings = settings_rows(s);
         doc.pf_threshold = Some(s.pf_threshold);

@@ -133,6 +133,44 @@ pub fn fingerprint(bytes: &[u8]) -> String {
 }
 
 impl Row {
+    /// The verdicts of the checks that ran, in a few words for a report's summary table:
+    /// `model consistent; meter fail (p, q); bank fail (1 step failed)`; empty when none ran.
+    pub fn checks(&self) -> String {
+        let Some(r) = &self.result else {
+            return String::new();
+        };
+        let verdict = |k: &str| {
+            r.get(k)
+                .and_then(|x| x.get("verdict"))
+                .and_then(Value::as_str)
+        };
+        let mut out = Vec::new();
+        if let Some(v) = verdict("expected") {
+            out.push(format!("model {v}"));
+        }
+        if let Some(v) = verdict("meter") {
+            let failed: Vec<&str> = r["meter"]["failed_checks"]
+                .as_array()
+                .map(|a| a.iter().filter_map(Value::as_str).collect())
+                .unwrap_or_default();
+            out.push(if failed.is_empty() {
+                format!("meter {v}")
+            } else {
+                format!("meter {v} ({})", failed.join(", "))
+            });
+        }
+        if let Some(v) = verdict("bank") {
+            out.push(match r["bank"]["failed_steps"].as_u64() {
+                Some(n) if n > 0 => format!(
+                    "bank {v} ({n} step{} failed)",
+                    if n == 1 { "" } else { "s" }
+                ),
+                _ => format!("bank {v}"),
+            });
+        }
+        out.join("; ")
+    }
+
     /// The row as one CSV record (no newline handling: the writer adds it) in `columns` order.
     pub fn csv_fields(&self, columns: &[String]) -> Vec<String> {
         let flat: HashMap<String, String> = self

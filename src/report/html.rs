@@ -67,6 +67,8 @@ pub struct BatchRow {
     pub status: Status,
     /// Why (the error, or the first warning); empty when ok.
     pub message: String,
+    /// The verdicts of the checks that ran, in a few words; empty when none ran.
+    pub checks: String,
 }
 
 /// One capture in the report.
@@ -327,6 +329,7 @@ pub fn summary_rows(entries: &[Entry]) -> Vec<BatchRow> {
                 file: file.clone(),
                 status: Status::Error,
                 message: message.clone(),
+                checks: String::new(),
             },
             Entry::Analysed { analysis: a, .. } => {
                 let mut notes: Vec<String> = Vec::new();
@@ -349,6 +352,11 @@ pub fn summary_rows(entries: &[Entry]) -> Vec<BatchRow> {
                         Status::Warning
                     },
                     message,
+                    checks: a
+                        .expected
+                        .as_ref()
+                        .map(|x| format!("model {}", x.verdict.as_str()))
+                        .unwrap_or_default(),
                 }
             }
         })
@@ -449,16 +457,25 @@ fn summary_section(h: &mut String, doc: &HtmlDoc, rows: &[BatchRow]) -> std::fmt
         count(Status::Warning),
         count(Status::Error)
     )?;
+    // a column for the checks' verdicts when any capture had a check
+    let any_checks = rows.iter().any(|r| !r.checks.is_empty());
     writeln!(
         h,
         "<table>\n<tr><th>file</th><th>status</th><th>true PF</th><th>phase angle (°)</th>\
-         <th>message</th></tr>"
+         {}<th>message</th></tr>",
+        if any_checks { "<th>checks</th>" } else { "" }
     )?;
+    // each row's entry by file, looked up once (a batch report may hold thousands)
+    let mut by_file: std::collections::HashMap<String, usize> = std::collections::HashMap::new();
+    for (k, e) in doc.entries.iter().enumerate() {
+        let file = match e {
+            Entry::Analysed { analysis, .. } => analysis.path.display().to_string(),
+            Entry::Failed { file, .. } => file.clone(),
+        };
+        by_file.entry(file).or_insert(k);
+    }
     for row in rows {
-        let found = doc.entries.iter().enumerate().find(|(_, e)| match e {
-            Entry::Analysed { analysis, .. } => analysis.path.display().to_string() == row.file,
-            Entry::Failed { file, .. } => *file == row.file,
-        });
+        let found = by_file.get(&row.file).map(|&k| (k, &doc.entries[k]));
         let (link, pf, angle) = match found {
             Some((k, Entry::Analysed { analysis: a, .. })) => (
                 Some(k + 1),
@@ -479,9 +496,14 @@ fn summary_section(h: &mut String, doc: &HtmlDoc, rows: &[BatchRow]) -> std::fmt
         writeln!(
             h,
             "<tr><td>{file}</td><td><span class=\"badge {s}\">{s}</span></td>\
-             <td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
+             <td class=\"num\">{}</td><td class=\"num\">{}</td>{}<td>{}</td></tr>",
             escape(&pf),
             escape(&angle),
+            if any_checks {
+                format!("<td>{}</td>", escape(&row.checks))
+            } else {
+                String::new()
+            },
             escape(&row.message),
             s = row.status.as_str(),
         )?;
