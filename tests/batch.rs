@@ -412,7 +412,10 @@ fn a_bank_pair_in_a_sidecar_gets_the_bank_verdict() {
         .assert()
         .code(1); // a failed bank verdict
     let html = std::fs::read_to_string(&report).unwrap();
-    assert!(html.contains("<td>bank fail (2 steps failed)</td>"), "{html}");
+    assert!(
+        html.contains("<td>bank fail (2 steps failed)</td>"),
+        "{html}"
+    );
     let text = std::fs::read_to_string(&out).unwrap();
     let r = rows(&text);
     assert_eq!(r.len(), 2);
