@@ -1,5 +1,5 @@
-//! `batch`: find the captures, resolve their settings, analyse them in parallel in chunks,
-//! write the summary row by row in sorted order, resume, shard, and report on stderr.
+//! `batch`: find the captures, resolve their settings, analyse them in parallel, write the
+//! summary row by row in sorted order as each row is ready, resume, shard, and report on stderr.
 
 use super::{Outcome, resolve_monte_carlo};
 use crate::analysis::Analysis;

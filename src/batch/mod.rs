@@ -90,8 +90,9 @@ pub fn plan(found: &[Found], cli: &Layer, monte_carlo: &MonteCarloConfig) -> Vec
     found.iter().map(|f| planner.job(f)).collect()
 }
 
-/// Resolves settings capture by capture, so a batch can plan one chunk at a time and hold only
-/// that chunk's jobs. Sidecars and circuit models are read once each and kept.
+/// Resolves settings capture by capture, so a batch plans each capture just before it is analysed
+/// and holds only the jobs in flight. Sidecars, circuit models and nameplates are read once each
+/// and kept.
 pub struct Planner<'a> {
     cli: &'a Layer,
     monte_carlo: &'a MonteCarloConfig,
