@@ -247,7 +247,116 @@ pub fn write_html(out: &mut dyn Write, doc: &HtmlDoc) -> io::Result<()> {
     out.flush()
 }
 
+/// What the parts of a report outside a capture's own section (the file list, the summary table,
+/// the PF histogram) need of that capture, so that the sections can be written out one by one
+/// as captures are analysed ([`capture_html`], [`write_html_around`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Digest {
+    /// The number of the capture's section (its anchor `capture-N`).
+    pub anchor: usize,
+    /// The file as given.
+    pub file: String,
+    /// Analysed (or it could not be read).
+    pub analysed: bool,
+    /// True PF, for the histogram.
+    pub true_pf: Option<f64>,
+    /// True PF ± U, as the summary table shows it.
+    pub pf_text: String,
+    /// DFT phase angle ± U, as the summary table shows it.
+    pub angle_text: String,
+}
+
+impl Digest {
+    /// The digest of `entry`, whose section is numbered `anchor`.
+    pub fn of(anchor: usize, entry: &Entry) -> Digest {
+        match entry {
+            Entry::Analysed { analysis: a, .. } => Digest {
+                anchor,
+                file: a.path.display().to_string(),
+                analysed: true,
+                true_pf: a.quantities.true_pf,
+                pf_text: pm(a.quantities.true_pf, a.uncertainty.true_pf, ""),
+                angle_text: pm(
+                    a.quantities.phase_angle_dft_deg,
+                    a.uncertainty.phase_angle_deg.dft,
+                    "",
+                ),
+            },
+            Entry::Failed { file, .. } => Digest {
+                anchor,
+                file: file.clone(),
+                analysed: false,
+                true_pf: None,
+                pf_text: String::new(),
+                angle_text: String::new(),
+            },
+        }
+    }
+}
+
+/// One capture's section of a report, numbered `anchor`, for a report written in pieces.
+pub fn capture_html(anchor: usize, entry: &Entry, options: &PlotOptions) -> String {
+    let mut h = String::new();
+    // writing to a String cannot fail
+    let _ = entry_section(&mut h, anchor, entry, options);
+    h
+}
+
+/// Writes a report whose capture sections were written already (by [`capture_html`], in the
+/// order of `digests`) and are copied from `sections`; `doc.entries` is not used.
+pub fn write_html_around(
+    out: &mut dyn Write,
+    doc: &HtmlDoc,
+    digests: &[Digest],
+    sections: &mut dyn io::Read,
+) -> io::Result<()> {
+    let mut h = String::with_capacity(1 << 16);
+    render_head(&mut h, doc, digests).map_err(io::Error::other)?;
+    out.write_all(h.as_bytes())?;
+    io::copy(sections, out)?;
+    h.clear();
+    render_tail(&mut h, doc).map_err(io::Error::other)?;
+    out.write_all(h.as_bytes())?;
+    out.flush()
+}
+
 fn render(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
+    let digests: Vec<Digest> = doc
+        .entries
+        .iter()
+        .enumerate()
+        .map(|(k, e)| Digest::of(k + 1, e))
+        .collect();
+    render_head(h, doc, &digests)?;
+    for (entry, d) in doc.entries.iter().zip(&digests) {
+        entry_section(h, d.anchor, entry, &doc.plot_options)?;
+    }
+    render_tail(h, doc)
+}
+
+fn entry_section(
+    h: &mut String,
+    k: usize,
+    entry: &Entry,
+    options: &PlotOptions,
+) -> std::fmt::Result {
+    match entry {
+        Entry::Analysed {
+            analysis,
+            expectation,
+        } => capture_section(h, k, analysis, *expectation, options),
+        Entry::Failed { file, message } => writeln!(
+            h,
+            "<section id=\"capture-{k}\">\n<h2>{} <span class=\"badge error\">error\
+             </span></h2>\n<p>This file could not be read or analysed: {}</p>\n</section>",
+            escape(file),
+            escape(message)
+        ),
+    }
+}
+
+/// Everything before the capture sections.
+fn render_head(h: &mut String, doc: &HtmlDoc, digests: &[Digest]) -> std::fmt::Result {
     let title = escape(&doc.title);
     write!(
         h,
@@ -255,12 +364,8 @@ fn render(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
          <meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n\
          <title>{title}</title>\n<style>{CSS}</style>\n</head>\n<body>\n<main>\n"
     )?;
-    let analysed = doc
-        .entries
-        .iter()
-        .filter(|e| matches!(e, Entry::Analysed { .. }))
-        .count();
-    let failed = doc.entries.len() - analysed;
+    let analysed = digests.iter().filter(|d| d.analysed).count();
+    let failed = digests.len() - analysed;
     writeln!(h, "<header>\n<h1>{title}</h1>")?;
     writeln!(
         h,
@@ -268,8 +373,8 @@ fn render(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
          report holds no date or time, so the same captures and settings always give the same \
          file; date and sign it at the end when it becomes a record.</p>\n</header>",
         env!("CARGO_PKG_VERSION"),
-        doc.entries.len(),
-        if doc.entries.len() == 1 { "" } else { "s" },
+        digests.len(),
+        if digests.len() == 1 { "" } else { "s" },
         analysed,
         if failed > 0 {
             format!(", {failed} could not be read")
@@ -277,33 +382,19 @@ fn render(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
             String::new()
         }
     )?;
-    settings_section(h, doc)?;
+    settings_section(h, doc, digests)?;
     let rows = doc
         .batch
         .clone()
         .or_else(|| (doc.entries.len() > 1).then(|| summary_rows(&doc.entries)));
     if let Some(rows) = rows {
-        summary_section(h, doc, &rows)?;
+        summary_section(h, doc, digests, &rows)?;
     }
-    let mut k = 0;
-    for entry in &doc.entries {
-        k += 1;
-        match entry {
-            Entry::Analysed {
-                analysis,
-                expectation,
-            } => capture_section(h, k, analysis, *expectation, &doc.plot_options)?,
-            Entry::Failed { file, message } => {
-                writeln!(
-                    h,
-                    "<section id=\"capture-{k}\">\n<h2>{} <span class=\"badge error\">error\
-                     </span></h2>\n<p>This file could not be read or analysed: {}</p>\n</section>",
-                    escape(file),
-                    escape(message)
-                )?;
-            }
-        }
-    }
+    Ok(())
+}
+
+/// Everything after the capture sections.
+fn render_tail(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
     if let Some(b) = &doc.bank {
         bank_section(h, b)?;
     }
@@ -402,19 +493,20 @@ pub fn settings_rows(s: &Settings) -> Vec<(String, String)> {
     rows
 }
 
-fn settings_section(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
+fn settings_section(h: &mut String, doc: &HtmlDoc, digests: &[Digest]) -> std::fmt::Result {
     writeln!(h, "<section id=\"inputs\">\n<h2>Inputs and settings</h2>")?;
     writeln!(h, "<table>\n<tr><th>file</th><th>status</th></tr>")?;
-    for (k, e) in doc.entries.iter().enumerate() {
-        let (file, status) = match e {
-            Entry::Analysed { analysis, .. } => (analysis.path.display().to_string(), "analysed"),
-            Entry::Failed { file, .. } => (file.clone(), "could not be read"),
+    for d in digests {
+        let status = if d.analysed {
+            "analysed"
+        } else {
+            "could not be read"
         };
         writeln!(
             h,
             "<tr><td><a href=\"#capture-{}\">{}</a></td><td>{status}</td></tr>",
-            k + 1,
-            escape(&file)
+            d.anchor,
+            escape(&d.file)
         )?;
     }
     writeln!(h, "</table>")?;
@@ -446,7 +538,12 @@ fn settings_section(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
     writeln!(h, "</table>\n</section>")
 }
 
-fn summary_section(h: &mut String, doc: &HtmlDoc, rows: &[BatchRow]) -> std::fmt::Result {
+fn summary_section(
+    h: &mut String,
+    doc: &HtmlDoc,
+    digests: &[Digest],
+    rows: &[BatchRow],
+) -> std::fmt::Result {
     writeln!(h, "<section id=\"summary\">\n<h2>Summary</h2>")?;
     let count = |s: Status| rows.iter().filter(|r| r.status == s).count();
     writeln!(
@@ -465,28 +562,14 @@ fn summary_section(h: &mut String, doc: &HtmlDoc, rows: &[BatchRow]) -> std::fmt
          {}<th>message</th></tr>",
         if any_checks { "<th>checks</th>" } else { "" }
     )?;
-    // each row's entry by file, looked up once (a batch report may hold thousands)
-    let mut by_file: std::collections::HashMap<String, usize> = std::collections::HashMap::new();
-    for (k, e) in doc.entries.iter().enumerate() {
-        let file = match e {
-            Entry::Analysed { analysis, .. } => analysis.path.display().to_string(),
-            Entry::Failed { file, .. } => file.clone(),
-        };
-        by_file.entry(file).or_insert(k);
+    // each row's capture by file, looked up once (a batch report may hold thousands)
+    let mut by_file: std::collections::HashMap<&str, &Digest> = std::collections::HashMap::new();
+    for d in digests {
+        by_file.entry(d.file.as_str()).or_insert(d);
     }
     for row in rows {
-        let found = by_file.get(&row.file).map(|&k| (k, &doc.entries[k]));
-        let (link, pf, angle) = match found {
-            Some((k, Entry::Analysed { analysis: a, .. })) => (
-                Some(k + 1),
-                pm(a.quantities.true_pf, a.uncertainty.true_pf, ""),
-                pm(
-                    a.quantities.phase_angle_dft_deg,
-                    a.uncertainty.phase_angle_deg.dft,
-                    "",
-                ),
-            ),
-            Some((k, Entry::Failed { .. })) => (Some(k + 1), String::new(), String::new()),
+        let (link, pf, angle) = match by_file.get(row.file.as_str()) {
+            Some(d) => (Some(d.anchor), d.pf_text.clone(), d.angle_text.clone()),
             None => (None, String::new(), String::new()),
         };
         let file = match link {
@@ -509,14 +592,7 @@ fn summary_section(h: &mut String, doc: &HtmlDoc, rows: &[BatchRow]) -> std::fmt
         )?;
     }
     writeln!(h, "</table>")?;
-    let pfs: Vec<f64> = doc
-        .entries
-        .iter()
-        .filter_map(|e| match e {
-            Entry::Analysed { analysis, .. } => analysis.quantities.true_pf,
-            Entry::Failed { .. } => None,
-        })
-        .collect();
+    let pfs: Vec<f64> = digests.iter().filter_map(|d| d.true_pf).collect();
     match plot::pf::plot(&pfs, doc.pf_threshold) {
         Ok(svg) => writeln!(
             h,
