@@ -196,7 +196,8 @@ pub struct BatchArgs {
     /// Take every N-th file from the K-th (1-based), for splitting a folder over N machines.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<String>,
-    /// Also write a self-contained HTML report here (holds every analysis until the end).
+    /// Also write a self-contained HTML report here (each capture's section is spooled to a
+    /// hidden file beside it while the batch runs).
     #[arg(long, value_name = "PATH")]
     pub report: Option<PathBuf>,
     /// Point-of-common-coupling data for the limits on the spectrum.

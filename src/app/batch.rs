@@ -2,15 +2,13 @@
 //! summary row by row in sorted order as each row is ready, resume, shard, and report on stderr.
 
 use super::{Outcome, resolve_monte_carlo};
-use crate::analysis::Analysis;
 use crate::batch::ordered::{Stopped, ordered_map};
 use crate::batch::sidecar::{Layer, UncertaintyLayer};
 use crate::batch::summary::{self, PastRow, Status, SummaryFormat};
 use crate::batch::walk::{self, Discovery, Found};
 use crate::batch::{self, Job};
-use crate::check::expected::Expectation;
 use crate::cli::{BatchArgs, OverrideArgs, SummaryFormatArg};
-use crate::report::html::BatchRow;
+use crate::report::html::{BatchRow, Digest, Entry, capture_html};
 use indicatif::ProgressBar;
 use std::collections::HashMap;
 use std::fs::{File, OpenOptions};
@@ -65,8 +63,68 @@ struct Done {
     /// The summary line, or why it could not be made.
     line: Result<String, String>,
     took: Duration,
-    /// The analysis and model prediction, kept for `--report`.
-    analysis: Option<(Analysis, Option<Expectation>)>,
+    /// For `--report`: the capture's section of the report, already written, and its digest.
+    report: Option<(String, Digest)>,
+}
+
+/// The report's capture sections, spooled to a hidden file beside the report while the batch
+/// runs; the file is removed when the spool (or what `finish` gives) is dropped.
+struct Spool {
+    file: std::io::BufWriter<File>,
+    path: PathBuf,
+}
+
+impl Spool {
+    fn create(report: &Path) -> std::io::Result<Spool> {
+        let name = report
+            .file_name()
+            .ok_or_else(|| std::io::Error::other("the report path names no file"))?;
+        let dir = report
+            .parent()
+            .filter(|p| !p.as_os_str().is_empty())
+            .unwrap_or(Path::new("."));
+        let path = dir.join(format!(
+            ".{}.{}.sections",
+            name.to_string_lossy(),
+            std::process::id()
+        ));
+        let file = std::io::BufWriter::new(File::create(&path)?);
+        Ok(Spool { file, path })
+    }
+
+    fn write(&mut self, section: &str) -> std::io::Result<()> {
+        self.file.write_all(section.as_bytes())
+    }
+
+    /// Flushes the sections to disk and hands over the file's path (still removed on drop).
+    fn finish(mut self) -> std::io::Result<SpoolFile> {
+        self.file.flush()?;
+        let path = std::mem::take(&mut self.path);
+        Ok(SpoolFile(path))
+    }
+}
+
+impl Drop for Spool {
+    fn drop(&mut self) {
+        if !self.path.as_os_str().is_empty() {
+            let _ = std::fs::remove_file(&self.path);
+        }
+    }
+}
+
+/// A finished spool file, removed when dropped.
+struct SpoolFile(PathBuf);
+
+impl SpoolFile {
+    fn path(&self) -> &Path {
+        &self.0
+    }
+}
+
+impl Drop for SpoolFile {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_file(&self.0);
+    }
 }
 
 /// Counts for the end-of-run report.
@@ -209,13 +267,22 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     // With --resume the final file is rewritten in sorted order from the rows' places in it
     // (kept rows where the earlier run wrote them, new rows where this run appended them).
     let mut spans: Vec<std::ops::Range<u64>> = Vec::new();
-    // With --report every analysis is kept for the report (memory grows with the folder).
+    // With --report each capture's section is written by its worker and spooled to a file beside
+    // the report as rows are written; the rest of the report needs only a digest and a summary
+    // row of each capture, so memory stays flat here too.
     let keep = a.report.is_some();
-    let mut kept: Vec<super::html::FileResult> = Vec::new();
+    let mut spool = match &a.report {
+        Some(p) => Some(
+            Spool::create(p)
+                .map_err(|e| format!("{}: cannot write the report: {e}", p.display()))?,
+        ),
+        None => None,
+    };
+    let mut digests: Vec<Digest> = Vec::new();
     let mut report_rows: Vec<BatchRow> = Vec::new();
     // Captures are planned, analysed on the pool and written back in order, each row as soon as
     // it and every row before it are done; at most WINDOW captures are in between.
-    let work = |job: Job| {
+    let work = |(anchor, job): (usize, Job)| {
         let file = job.path.display().to_string();
         if let Some(p) = past.get(&file)
             && p.settings_hash == job.settings_hash
@@ -227,7 +294,24 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         let (row, analysis) = batch::process_keeping(&job);
         let took = t.elapsed();
         let line = row.line(format, &columns).map_err(|e| e.to_string());
+        let report = keep.then(|| {
+            let entry = match &analysis {
+                Some((a, x)) => Entry::Analysed {
+                    analysis: a,
+                    expectation: x.as_ref(),
+                },
+                None => Entry::Failed {
+                    file: row.file.clone(),
+                    message: row.message.clone(),
+                },
+            };
+            (
+                capture_html(anchor, &entry, &plot_options),
+                Digest::of(anchor, &entry),
+            )
+        });
         Outcome1::New(Box::new(Done {
+            report,
             checks: row.checks(),
             line,
             file: row.file,
@@ -235,7 +319,6 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
             message: row.message,
             verdict_failed: row.verdict_failed,
             took,
-            analysis: if keep { analysis } else { None },
         }))
     };
     let take = |r: Outcome1| -> Result<(), String> {
@@ -248,11 +331,11 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
             }
             Outcome1::New(done) => {
                 let row = *done;
-                if keep {
-                    kept.push(match row.analysis {
-                        Some(a) => Ok(a),
-                        None => Err((row.file.clone(), row.message.clone())),
-                    });
+                if let (Some((section, digest)), Some(spool)) = (row.report, spool.as_mut()) {
+                    spool
+                        .write(&section)
+                        .map_err(|e| format!("cannot write the report's spool file: {e}"))?;
+                    digests.push(digest);
                     report_rows.push(BatchRow {
                         file: row.file.clone(),
                         status: row.status,
@@ -282,12 +365,16 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         Ok(())
     };
     let window = WINDOW_PER_JOB * jobs_n;
+    let mut anchor = 0;
     ordered_map(
         &pool,
         jobs_n,
         window,
         &discovery.files,
-        |f| planner.job(f),
+        |f| {
+            anchor += 1;
+            (anchor, planner.job(f))
+        },
         work,
         take,
     )
@@ -321,8 +408,21 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         write().map_err(|e| cannot(p, e))?;
     }
     if let Some(path) = &a.report {
-        let title = format!("tracephase batch: {} captures", kept.len());
-        super::html::save_analyses(path, title, &kept, None, &plot_options, Some(report_rows))?;
+        let title = format!("tracephase batch: {} captures", digests.len());
+        let spool = spool.take().ok_or("the report's spool file is missing")?;
+        let sections = spool
+            .finish()
+            .map_err(|e| format!("cannot write the report's spool file: {e}"))?;
+        let saved = super::html::save_spooled(
+            path,
+            title,
+            &digests,
+            report_rows,
+            sections.path(),
+            &plot_options,
+        );
+        drop(sections);
+        saved?;
         if tally.kept > 0 {
             let _ = writeln!(
                 err,

@@ -13,7 +13,9 @@ use crate::check::circuit::Circuit;
 use crate::check::expected::Expectation;
 use crate::check::tolerance::{Distribution, MonteCarloConfig};
 use crate::cli::ReportArgs;
-use crate::report::html::{BatchRow, Entry, HtmlDoc, settings_rows, write_html};
+use crate::report::html::{
+    BatchRow, Digest, Entry, HtmlDoc, settings_rows, write_html, write_html_around,
+};
 use crate::report::plot::{self, Plot, PlotOptions};
 use std::collections::HashMap;
 use std::fs;
@@ -246,6 +248,15 @@ pub fn sanitise(stem: &str) -> String {
 
 /// Writes `bytes` to a temporary file beside `path`, then renames it over `path`.
 fn write_atomically(path: &Path, bytes: &[u8]) -> io::Result<()> {
+    write_atomically_with(path, |f| f.write_all(bytes))
+}
+
+/// Writes `path` through `write` into a temporary file beside it, synced and then renamed over
+/// it, so that the path holds the old file or the whole new one, never part of one.
+fn write_atomically_with(
+    path: &Path,
+    write: impl FnOnce(&mut fs::File) -> io::Result<()>,
+) -> io::Result<()> {
     let dir = path
         .parent()
         .filter(|p| !p.as_os_str().is_empty())
@@ -260,7 +271,7 @@ fn write_atomically(path: &Path, bytes: &[u8]) -> io::Result<()> {
     ));
     let result = (|| {
         let mut f = fs::File::create(&tmp)?;
-        f.write_all(bytes)?;
+        write(&mut f)?;
         f.sync_all()?;
         fs::rename(&tmp, path)
     })();
@@ -279,29 +290,48 @@ pub fn save(path: &Path, doc: &HtmlDoc) -> Result<(), String> {
 }
 
 /// A report of analysed captures (with the circuit model's prediction where one was compared)
-/// and of files that failed, as `analyze --report` and `batch --report` write it.
+/// and of files that failed, as `analyze --report` writes it.
 pub fn save_analyses(
     path: &Path,
     title: String,
     results: &[FileResult],
-    settings: Option<&Settings>,
+    settings: &Settings,
     options: &PlotOptions,
-    rows: Option<Vec<BatchRow>>,
 ) -> Result<(), String> {
-    let entries = entries(results);
-    let mut doc = HtmlDoc::new(title, entries);
+    let mut doc = HtmlDoc::new(title, entries(results));
     doc.plot_options = *options;
-    doc.batch = rows;
-    if let Some(s) = settings {
-        doc.settings = settings_rows(s);
-        doc.pf_threshold = Some(s.pf_threshold);
-    } else {
-        doc.settings = vec![(
-            "settings".into(),
-            "per capture, as recorded in the batch summary".into(),
-        )];
-    }
+    doc.settings = settings_rows(settings);
+    doc.pf_threshold = Some(settings.pf_threshold);
     save(path, &doc)
+}
+
+/// A batch report: its capture sections were written one by one, in order, into the file
+/// `sections` as the captures were analysed (by [`capture_html`]); `digests` and `rows` describe
+/// the same captures for the file list and the summary table.
+pub fn save_spooled(
+    path: &Path,
+    title: String,
+    digests: &[Digest],
+    rows: Vec<BatchRow>,
+    sections: &Path,
+    options: &PlotOptions,
+) -> Result<(), String> {
+    let mut doc = HtmlDoc::new(title, Vec::new());
+    doc.plot_options = *options;
+    doc.batch = Some(rows);
+    doc.settings = vec![(
+        "settings".into(),
+        "per capture, as recorded in the batch summary".into(),
+    )];
+    let written = fs::File::open(sections).and_then(|from| {
+        let mut from = io::BufReader::new(from);
+        write_atomically_with(path, |f| {
+            let mut w = io::BufWriter::new(f);
+            write_html_around(&mut w, &doc, digests, &mut from)?;
+            w.flush()
+        })
+    });
+    written.map_err(|e| format!("{}: could not write the report: {e}", path.display()))
 }
 
 #[cfg(test)]

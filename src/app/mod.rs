@@ -348,14 +348,7 @@ pub fn run_analyze(
     }
     if let Some(path) = &cfg.report {
         let title = format!("tracephase analysis: {} capture(s)", files.len());
-        if let Err(e) = html::save_analyses(
-            path,
-            title,
-            &kept,
-            Some(&cfg.settings),
-            &cfg.plot_options,
-            None,
-        ) {
+        if let Err(e) = html::save_analyses(path, title, &kept, &cfg.settings, &cfg.plot_options) {
             let _ = writeln!(err, "error: {e}");
             outcome = outcome.worst(Outcome::InputErrors);
         }
