@@ -537,3 +537,64 @@ fn pcc_options_pick_the_ieee_519_rows() {
     );
     assert!(!dir.path().join("bad.html").exists());
 }
+
+/// A report put together from sections written one by one (as `batch --report` does) is byte
+/// for byte the report written in one go, and a batch leaves no spool file behind.
+#[test]
+fn a_report_written_in_pieces_equals_one_written_at_once() {
+    use tracephase::report::html::{
+        Digest, Entry, HtmlDoc, capture_html, write_html, write_html_around,
+    };
+    let a = analyse(COMPRESSOR);
+    let b = analyse(RLC);
+    let entries = vec![
+        Entry::Analysed {
+            analysis: &a,
+            expectation: None,
+        },
+        Entry::Failed {
+            file: "site/broken.csv".into(),
+            message: "line 3: not a number".into(),
+        },
+        Entry::Analysed {
+            analysis: &b,
+            expectation: None,
+        },
+    ];
+    let options = PlotOptions {
+        isc_over_il: Some(35.0),
+        ..PlotOptions::default()
+    };
+    let mut whole_doc = HtmlDoc::new("pieces", entries.clone());
+    whole_doc.plot_options = options;
+    let mut whole = Vec::new();
+    write_html(&mut whole, &whole_doc).unwrap();
+    let mut sections = String::new();
+    let mut digests = Vec::new();
+    for (k, e) in entries.iter().enumerate() {
+        sections.push_str(&capture_html(k + 1, e, &options));
+        digests.push(Digest::of(k + 1, e));
+    }
+    let mut empty_doc = HtmlDoc::new("pieces", Vec::new());
+    empty_doc.plot_options = options;
+    // the summary table is built from the entries when there are several: give it the same rows
+    empty_doc.batch = Some(tracephase::report::html::summary_rows(&entries));
+    let mut pieces = Vec::new();
+    write_html_around(&mut pieces, &empty_doc, &digests, &mut sections.as_bytes()).unwrap();
+    assert!(whole.len() > 10_000);
+    assert!(whole == pieces, "the two reports differ");
+
+    let dir = TempDir::new().unwrap();
+    tracephase()
+        .arg("batch")
+        .arg(fixture(COMPRESSOR))
+        .arg("--report")
+        .arg(dir.path().join("b.html"))
+        .assert()
+        .success();
+    let names: Vec<String> = fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert_eq!(names, vec!["b.html".to_string()]);
+}
