@@ -261,6 +261,11 @@ fn text_capture(spec: &Spec, l: &TextLayout) -> String {
     out
 }
 
+/// Writes a text capture of `spec` laid out as `l` into `dir`.
+fn write_capture(dir: &TempDir, name: &str, spec: &Spec, l: &TextLayout) -> PathBuf {
+    write_text(dir, name, &text_capture(spec, l))
+}
+
 fn write_text(dir: &TempDir, name: &str, text: &str) -> PathBuf {
     let p = dir.path().join(name);
     std::fs::write(&p, text).unwrap();
@@ -391,11 +396,7 @@ fn a_renamed_key_fails_to_deserialize() {
 #[test]
 fn comma_csv_with_time_column_gives_the_handbook_values() {
     let dir = TempDir::new().unwrap();
-    let f = write_text(
-        &dir,
-        "motor.csv",
-        &text_capture(&motor_spec(), &COMMA_WITH_TIME),
-    );
+    let f = write_capture(&dir, "motor.csv", &motor_spec(), &COMMA_WITH_TIME);
     let r = json_one(&[], &f);
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
     assert_eq!(r.file, f.display().to_string());
@@ -416,11 +417,7 @@ fn headerless_two_columns_take_the_rate_from_the_command_line() {
         time: false,
         ..COMMA_WITH_TIME
     };
-    let f = write_text(
-        &dir,
-        "two-columns.txt",
-        &text_capture(&motor_spec(), &layout),
-    );
+    let f = write_capture(&dir, "two-columns.txt", &motor_spec(), &layout);
     let r = json_one(&["--rate", "10000"], &f);
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
 }
@@ -433,11 +430,7 @@ fn headerless_two_columns_without_a_rate_ask_for_one() {
         time: false,
         ..COMMA_WITH_TIME
     };
-    let f = write_text(
-        &dir,
-        "two-columns.txt",
-        &text_capture(&motor_spec(), &layout),
-    );
+    let f = write_capture(&dir, "two-columns.txt", &motor_spec(), &layout);
     assert_refused(&[], &f, &["--rate"]);
 }
 
@@ -459,7 +452,7 @@ fn semicolon_decimal_comma_file_takes_the_rate_from_its_preamble() {
         header: Some(&["Voltage (V)", "Current (A)"]),
         time: false,
     };
-    let f = write_text(&dir, "scope.csv", &text_capture(&spec, &layout));
+    let f = write_capture(&dir, "scope.csv", &spec, &layout);
     let r = json_one(&[], &f);
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
 }
@@ -488,7 +481,7 @@ fn tab_separated_file_with_time_column_gives_the_handbook_values() {
         header: Some(&["time", "U", "I"]),
         ..COMMA_WITH_TIME
     };
-    let f = write_text(&dir, "logger.tsv", &text_capture(&motor_spec(), &layout));
+    let f = write_capture(&dir, "logger.tsv", &motor_spec(), &layout);
     let r = json_one(&[], &f);
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
     assert_eq!(
@@ -516,7 +509,7 @@ fn distorted_current_gives_the_synthesised_thd_and_spectrum() {
         .with(7, 0.08 * I_RMS, 110.0);
     let spec = Spec::clean(RATE_HZ, F_HZ, SAMPLES, v.clone(), i.clone());
     let dir = TempDir::new().unwrap();
-    let f = write_text(&dir, "drive.csv", &text_capture(&spec, &COMMA_WITH_TIME));
+    let f = write_capture(&dir, "drive.csv", &spec, &COMMA_WITH_TIME);
     let r = json_one(&[], &f);
     // THD-F = √(Σ Ih²)/I1 (IEC 61000-4-7 definition): √(15² + 8²) = 17.0 %.
     close(
@@ -580,14 +573,10 @@ fn distorted_current_gives_the_synthesised_thd_and_spectrum() {
 #[test]
 fn csv_output_has_a_header_and_one_row_per_file() {
     let dir = TempDir::new().unwrap();
-    let a = write_text(
-        &dir,
-        "a.csv",
-        &text_capture(&motor_spec(), &COMMA_WITH_TIME),
-    );
+    let a = write_capture(&dir, "a.csv", &motor_spec(), &COMMA_WITH_TIME);
     let mut lead = motor_spec();
     lead.current = Waveform::sine(I_RMS, V_PHASE_DEG + 20.0);
-    let b = write_text(&dir, "b.csv", &text_capture(&lead, &COMMA_WITH_TIME));
+    let b = write_capture(&dir, "b.csv", &lead, &COMMA_WITH_TIME);
     let r = run(&["--format", "csv"], &[&a, &b]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     let mut rdr = csv::Reader::from_reader(r.stdout.as_bytes());
@@ -624,11 +613,7 @@ fn csv_output_has_a_header_and_one_row_per_file() {
 #[test]
 fn table_output_shows_the_phase_angle_with_units() {
     let dir = TempDir::new().unwrap();
-    let f = write_text(
-        &dir,
-        "m.csv",
-        &text_capture(&motor_spec(), &COMMA_WITH_TIME),
-    );
+    let f = write_capture(&dir, "m.csv", &motor_spec(), &COMMA_WITH_TIME);
     let r = run(&[], &[&f]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     assert!(r.stdout.contains(&f.display().to_string()), "{}", r.stdout);
@@ -654,11 +639,7 @@ fn late_current(delay_s: f64) -> Spec {
 fn skew_option_removes_a_known_probe_delay() {
     // A delay Δt adds 360·f·Δt to the angle: 100 µs at 50 Hz is 1.8° (common practice).
     let dir = TempDir::new().unwrap();
-    let f = write_text(
-        &dir,
-        "late.csv",
-        &text_capture(&late_current(1e-4), &COMMA_WITH_TIME),
-    );
+    let f = write_capture(&dir, "late.csv", &late_current(1e-4), &COMMA_WITH_TIME);
     let raw = json_one(&[], &f);
     close(
         "uncorrected dft",
@@ -673,11 +654,7 @@ fn skew_option_removes_a_known_probe_delay() {
 #[test]
 fn negative_skew_corrects_a_current_that_is_early() {
     let dir = TempDir::new().unwrap();
-    let f = write_text(
-        &dir,
-        "early.csv",
-        &text_capture(&late_current(-5e-5), &COMMA_WITH_TIME),
-    );
+    let f = write_capture(&dir, "early.csv", &late_current(-5e-5), &COMMA_WITH_TIME);
     let raw = json_one(&[], &f);
     close(
         "uncorrected dft",
@@ -696,11 +673,7 @@ fn negative_skew_corrects_a_current_that_is_early() {
 #[test]
 fn negative_skew_in_exponent_form_parses() {
     let dir = TempDir::new().unwrap();
-    let f = write_text(
-        &dir,
-        "early.csv",
-        &text_capture(&late_current(-5e-5), &COMMA_WITH_TIME),
-    );
+    let f = write_capture(&dir, "early.csv", &late_current(-5e-5), &COMMA_WITH_TIME);
     assert_motor(&json_one(&["--skew", "-5e-5"], &f), ANGLE_TOL_DEG, REL_TOL);
 }
 
@@ -1056,11 +1029,7 @@ fn samples_near_the_limits_of_f64_are_refused_or_measured_right() {
 #[test]
 fn a_bad_file_among_good_ones_loses_no_results() {
     let dir = TempDir::new().unwrap();
-    let good1 = write_text(
-        &dir,
-        "g1.csv",
-        &text_capture(&motor_spec(), &COMMA_WITH_TIME),
-    );
+    let good1 = write_capture(&dir, "g1.csv", &motor_spec(), &COMMA_WITH_TIME);
     let good2 = dir.path().join("g2.wav");
     write_wav(&good2, &motor_spec(), 500.0, 25.0, 2);
     let bad = data("bad/text-in-voltage-line-7.csv");
@@ -1090,11 +1059,7 @@ fn a_bad_file_among_good_ones_loses_no_results() {
 #[test]
 fn every_bad_file_gets_its_own_line_and_good_csv_rows_survive() {
     let dir = TempDir::new().unwrap();
-    let good = write_text(
-        &dir,
-        "g.csv",
-        &text_capture(&motor_spec(), &COMMA_WITH_TIME),
-    );
+    let good = write_capture(&dir, "g.csv", &motor_spec(), &COMMA_WITH_TIME);
     let bad1 = data("bad/empty.csv");
     let bad2 = dir.path().join("absent.csv");
     let r = run(&["--format", "csv"], &[&bad1, &good, &bad2]);
@@ -1120,11 +1085,7 @@ fn reversed_current_probe_is_reported() {
     let mut spec = motor_spec();
     spec.current = Waveform::sine(I_RMS, V_PHASE_DEG - LAG_DEG + 180.0);
     let dir = TempDir::new().unwrap();
-    let f = write_text(
-        &dir,
-        "backwards.csv",
-        &text_capture(&spec, &COMMA_WITH_TIME),
-    );
+    let f = write_capture(&dir, "backwards.csv", &spec, &COMMA_WITH_TIME);
     let r = json_one(&[], &f);
     let dft = some("dft", r.phase_angle_deg.dft);
     close("dft", dft, LAG_DEG - 180.0, ANGLE_TOL_DEG);
