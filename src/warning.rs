@@ -103,7 +103,46 @@ pub enum Warning {
     },
 }
 
+/// How a warning bears on the figures: the three lists every output keeps apart.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Severity {
+    /// Threatens a figure (clipping, too few cycles, no fundamental, a reversed probe, an uneven clock).
+    Warning,
+    /// A measured fact worth acting on, not a doubt about the figures (PF below the threshold).
+    Finding,
+    /// An explained observation that threatens nothing (harmonics moving the zero crossings).
+    Note,
+}
+
 impl Warning {
+    /// How this warning bears on the figures.
+    pub fn severity(&self) -> Severity {
+        match self {
+            Warning::PfBelowThreshold { .. } => Severity::Finding,
+            Warning::HarmonicsCapped { .. } | Warning::MethodsDisagree { .. } => Severity::Note,
+            _ => Severity::Warning,
+        }
+    }
+
+    /// Why a pass/fail verdict resting on this capture would not be defensible, when this warning
+    /// makes it so: the capture cannot support the figure (clipping, too few cycles, no
+    /// fundamental). A verdict that meets one is `inconclusive` with this reason.
+    pub fn undermines_verdict(&self) -> Option<String> {
+        match self {
+            Warning::Clipping { trace, percent } => Some(format!(
+                "the {trace} trace is clipped ({percent:.1} % of samples on flat tops)"
+            )),
+            Warning::FewCycles { cycles } => Some(format!(
+                "only {cycles:.2} cycles of the fundamental were captured"
+            )),
+            Warning::NoFundamental { trace, .. } => Some(format!(
+                "the {trace} trace holds no fundamental above its noise"
+            )),
+            _ => None,
+        }
+    }
+
     /// A short stable code for machines (CSV and JSON consumers filter on it).
     pub fn code(&self) -> &'static str {
         match self {
@@ -188,5 +227,32 @@ impl fmt::Display for Warning {
                  check the sample rate (--rate) or the time column"
             ),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn only_doubts_about_the_capture_undermine_a_verdict() {
+        let clipped = Warning::Clipping {
+            trace: Trace::Current,
+            percent: 44.0,
+        };
+        assert_eq!(clipped.severity(), Severity::Warning);
+        assert!(clipped.undermines_verdict().unwrap().contains("current"));
+        let low_pf = Warning::PfBelowThreshold {
+            pf: 0.8,
+            threshold: 0.9,
+        };
+        assert_eq!(low_pf.severity(), Severity::Finding);
+        assert!(low_pf.undermines_verdict().is_none());
+        let capped = Warning::HarmonicsCapped {
+            asked: 50,
+            used: 20,
+        };
+        assert_eq!(capped.severity(), Severity::Note);
+        assert!(capped.undermines_verdict().is_none());
     }
 }
