@@ -28,28 +28,100 @@ pub fn num(x: f64, sig: usize) -> String {
 
 /// `value ± U unit`, the value rounded to the uncertainty's second significant digit
 /// (GUM 7.2.6); "n/a" when the value is undefined.
+///
+/// Digits stop at a sensible resolution, so a tiny U does not print as `1.00000000 ± 0.00000022`:
+/// bounded figures by their unit (a PF or ratio, unit "", to 0.0001; degrees and percent to 0.001;
+/// hertz to 1 µHz), everything else at six significant digits of the value. When that cuts the
+/// uncertainty's own digits, U is rounded up to the last digit shown (`1.0000 ± 0.0001`), never
+/// down, so the printed interval still covers the computed one.
 pub fn pm(value: Option<f64>, u: Option<f64>, unit: &str) -> String {
     let Some(v) = value.filter(|v| v.is_finite()) else {
         return "n/a".into();
     };
     match u.filter(|u| u.is_finite() && *u > 0.0) {
         Some(u) => {
-            let decimals = (1 - u.log10().floor() as i64).clamp(0, 9) as usize;
-            format!("{v:.decimals$} ± {u:.decimals$}{unit}")
+            let wanted = (1 - u.log10().floor() as i64).clamp(0, 9);
+            let finest = match unit.trim() {
+                "" => 4,
+                "°" | "%" => 3,
+                "Hz" => 6,
+                _ if v != 0.0 => (5 - v.abs().log10().floor() as i64).max(0),
+                _ => 9,
+            };
+            let decimals = wanted.min(finest).max(0) as usize;
+            let shown_u = if (decimals as i64) < wanted {
+                let step = 10f64.powi(decimals as i32);
+                (u * step - 1e-9).ceil().max(1.0) / step
+            } else {
+                u
+            };
+            let mut text = format!("{v:.decimals$}");
+            if text.starts_with('-') && text.trim_start_matches(['-', '0', '.']).is_empty() {
+                text.remove(0);
+            }
+            format!("{text} ± {shown_u:.decimals$}{unit}")
         }
         None => format!("{}{unit}", num(v, 6)),
     }
 }
 
-fn trace_row(name: &str, unit: &str, t: &TraceFigures, u: &TraceUncertainty) -> String {
-    format!(
-        "  {name:<13}{:>22}{:>14} {unit:<2}{:>16}{:>12} {unit:<2}{:>7}",
-        pm(Some(t.rms), Some(u.rms), &format!(" {unit}")),
-        num(t.fundamental_rms, 6),
-        pm(t.thd_percent, u.thd_percent, " %"),
-        num(t.dc, 3),
-        num(t.crest_factor, 3),
-    )
+/// A DC offset shown to the resolution of its trace: 1e-5 of the trace's RMS, so noise-level
+/// offsets read as `0.00 V` rather than `-0.00000509 A`.
+fn dc_text(dc: f64, rms: f64) -> String {
+    if !dc.is_finite() {
+        return "n/a".into();
+    }
+    let decimals = if rms.is_finite() && rms > 0.0 {
+        (4 - rms.log10().floor() as i64).clamp(0, 9) as usize
+    } else {
+        3
+    };
+    let text = format!("{dc:.decimals$}");
+    match text.strip_prefix('-') {
+        Some(rest) if rest.trim_start_matches(['0', '.']).is_empty() => rest.to_string(),
+        _ => text,
+    }
+}
+
+/// The per-trace rows under a header, each column as wide as its widest cell plus two spaces,
+/// so columns never run together whatever the numbers.
+fn trace_rows(
+    out: &mut dyn Write,
+    rows: &[(&str, &str, &TraceFigures, &TraceUncertainty)],
+) -> io::Result<()> {
+    let header = ["", "rms", "fundamental", "THD", "dc", "crest"];
+    let cells: Vec<[String; 6]> = rows
+        .iter()
+        .map(|(name, unit, t, u)| {
+            [
+                name.to_string(),
+                pm(Some(t.rms), Some(u.rms), &format!(" {unit}")),
+                format!("{} {unit}", num(t.fundamental_rms, 6)),
+                pm(t.thd_percent, u.thd_percent, " %"),
+                format!("{} {unit}", dc_text(t.dc, t.rms)),
+                num(t.crest_factor, 3),
+            ]
+        })
+        .collect();
+    let mut width = header.map(|h| h.chars().count());
+    for row in &cells {
+        for (w, c) in width.iter_mut().zip(row) {
+            *w = (*w).max(c.chars().count());
+        }
+    }
+    width[0] = width[0].max(11);
+    let line = |cells: [&str; 6]| -> String {
+        let mut s = format!("  {:<w$}", cells[0], w = width[0]);
+        for (c, w) in cells.iter().zip(width).skip(1) {
+            s.push_str(&format!("  {c:>w$}"));
+        }
+        s
+    };
+    writeln!(out, "{}", line(header))?;
+    for row in &cells {
+        writeln!(out, "{}", line(std::array::from_fn(|k| row[k].as_str())))?;
+    }
+    Ok(())
 }
 
 impl Exporter for TableExporter {
@@ -96,13 +168,13 @@ impl Exporter for TableExporter {
             pm(q.displacement_pf, u.displacement_pf, ""),
             pm(q.true_pf, u.true_pf, ""),
         )?;
-        writeln!(
+        trace_rows(
             out,
-            "  {:<13}{:>22}{:>17}{:>16}{:>15}{:>7}",
-            "", "rms", "fundamental", "THD", "dc", "crest"
+            &[
+                ("voltage", "V", &q.voltage, &u.voltage),
+                ("current", "A", &q.current, &u.current),
+            ],
         )?;
-        writeln!(out, "{}", trace_row("voltage", "V", &q.voltage, &u.voltage))?;
-        writeln!(out, "{}", trace_row("current", "A", &q.current, &u.current))?;
         let p = &q.power;
         writeln!(
             out,
@@ -282,5 +354,65 @@ mod tests {
         );
         assert_eq!(super::pm(Some(1746.4589), Some(47.15), " W"), "1746 ± 47 W");
         assert_eq!(super::pm(None, Some(1.0), " W"), "n/a");
+    }
+
+    #[test]
+    fn bounded_figures_stop_at_a_sensible_resolution_and_round_u_up() {
+        use super::pm;
+        // the unity-PF case of the report: U of a few 1e-7 printed as 1.00000000 ± 0.00000022
+        assert_eq!(pm(Some(0.99999989), Some(2.2e-7), ""), "1.0000 ± 0.0001");
+        assert_eq!(pm(Some(0.99995), Some(0.00005), ""), "1.0000 ± 0.0001");
+        assert_eq!(pm(Some(0.8499), Some(0.0053), ""), "0.8499 ± 0.0053");
+        assert_eq!(pm(Some(1.0006), Some(0.0026), " %"), "1.001 ± 0.003 %");
+        assert_eq!(pm(Some(-1e-12), Some(1e-11), "°"), "0.000 ± 0.001°");
+        assert_eq!(
+            pm(Some(50.000012), Some(3.4e-9), " Hz"),
+            "50.000012 ± 0.000001 Hz"
+        );
+        assert_eq!(pm(Some(230.0000001), Some(1e-7), " V"), "230.000 ± 0.001 V");
+    }
+
+    #[test]
+    fn trace_columns_never_run_together() {
+        use super::*;
+        let t = |rms: f64, dc: f64| TraceFigures {
+            rms,
+            dc,
+            fundamental_rms: rms * 0.999,
+            thd_percent: Some(123.4567),
+            peak: rms * 1.5,
+            crest_factor: 1.5,
+        };
+        let u = TraceUncertainty {
+            rms: 0.00012,
+            thd_percent: Some(0.00026),
+        };
+        let mut out = Vec::new();
+        trace_rows(
+            &mut out,
+            &[
+                ("voltage", "V", &t(123456.789, -0.00000509), &u),
+                ("current", "A", &t(0.00123, 1e-9), &u),
+            ],
+        )
+        .unwrap();
+        let text = String::from_utf8(out).unwrap();
+        let lines: Vec<&str> = text.lines().collect();
+        assert_eq!(lines.len(), 3);
+        // every row splits into its six cells at runs of two or more spaces
+        for line in &lines[1..] {
+            let cells: Vec<&str> = line
+                .trim()
+                .split("  ")
+                .map(str::trim)
+                .filter(|c| !c.is_empty())
+                .collect();
+            assert_eq!(cells.len(), 6, "{line}");
+        }
+        let width = |l: &str| l.chars().count();
+        assert_eq!(width(lines[1]), width(lines[2]), "{text}");
+        // a noise-level offset reads as zero at 1e-5 of the trace RMS, without a minus sign
+        assert!(text.contains("  0 V  "), "{text}");
+        assert!(text.contains("  0.0000000 A  "), "{text}");
     }
 }
