@@ -147,7 +147,9 @@ pub struct MeterArgs {
     /// ansi-0.5 (ANSI C12.20), reactive-2, reactive-3 (IEC 62053-23).
     #[arg(long, value_name = "CLASS")]
     pub class: String,
-    /// How the meter signs PF: power-flow (sign of P), lead-negative, unsigned.
+    /// How the meter signs PF: power-flow (negative when exporting P), lead-negative (negative
+    /// in the capacitive quadrants II and IV), lag-negative (negative in the inductive quadrants
+    /// I and III), unsigned.
     #[arg(long, value_name = "CONVENTION", default_value = "power-flow")]
     pub pf_sign: String,
     /// The meter's rated current, A (Ib, or In for a transformer-operated meter): the IEC

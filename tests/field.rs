@@ -3,6 +3,8 @@
 
 use assert_cmd::Command;
 use serde::Deserialize;
+use std::path::{Path, PathBuf};
+use tracephase::synth::{Spec, Waveform, synthesize};
 
 fn tracephase() -> Command {
     Command::cargo_bin("tracephase").unwrap()
@@ -360,4 +362,81 @@ fn every_command_writes_an_html_report_on_request() {
         assert!(!html.contains("<script"), "{report}");
     }
     assert!(std::fs::read_dir(path("plots")).unwrap().count() >= 4);
+}
+
+/// Writes a synthetic capture (invented test data, truth in `spec`) as `t,v,i` text, with the
+/// current's samples passed through `shape` (e.g. a clip at the instrument's range).
+fn synthetic(dir: &Path, name: &str, spec: &Spec, shape: &dyn Fn(f64) -> f64) -> PathBuf {
+    let (v, i) = synthesize(spec);
+    let mut text = String::from("t,v,i\n");
+    for (k, (a, b)) in v.iter().zip(&i).enumerate() {
+        let t = k as f64 / spec.rate_hz;
+        text.push_str(&format!("{t:.7},{a:.6},{:.6}\n", shape(*b)));
+    }
+    let path = dir.join(name);
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+/// 20 cycles of 50 Hz at 10 kS/s: a clean 230 V sine and `current`.
+fn sine_spec(current: Waveform) -> Spec {
+    Spec::clean(10_000.0, 50.0, 4_000, Waveform::sine(230.0, 0.0), current)
+}
+
+fn meter_on(path: &Path, args: &[&str]) -> (i32, serde_json::Value) {
+    let out = tracephase()
+        .arg("meter")
+        .arg(path)
+        .args(["--format", "json"])
+        .args(GOOD_PROBES)
+        .args(args)
+        .output()
+        .unwrap();
+    let code = out.status.code().unwrap();
+    let json = serde_json::from_slice(&out.stdout).unwrap_or_else(|_| {
+        panic!(
+            "{}{}",
+            String::from_utf8_lossy(&out.stdout),
+            String::from_utf8_lossy(&out.stderr)
+        )
+    });
+    (code, json)
+}
+
+/// θ = 150°: P < 0, Q > 0, quadrant II, capacitive on the four-quadrant metering diagram
+/// (IEC 62053-23 figure, load convention, from memory); a lead-negative meter shows
+/// −|cos 150°| = −0.866 there.
+#[test]
+fn exported_power_at_150_degrees_is_capacitive_and_a_lead_negative_meter_passes() {
+    let dir = tempfile::TempDir::new().unwrap();
+    let spec = sine_spec(Waveform::sine(50.0, -150.0));
+    let path = synthetic(dir.path(), "export-150.csv", &spec, &|x| x);
+    let pf = 150f64.to_radians().cos();
+    let reading = format!("pf={:.3}", -pf.abs());
+    let (code, r) = meter_on(
+        &path,
+        &[
+            "--class",
+            "1",
+            "--pf-sign",
+            "lead-negative",
+            "--reading",
+            &reading,
+        ],
+    );
+    assert_eq!(code, 0, "{r}");
+    assert_eq!(r["quadrant"], 2);
+    assert!(
+        r["quadrant_text"].as_str().unwrap().contains("capacitive"),
+        "{r}"
+    );
+    assert_eq!(r["checks"][0]["verdict"], "pass", "{r}");
+    let out = tracephase()
+        .arg("analyze")
+        .arg(&path)
+        .args(["--format", "json"])
+        .output()
+        .unwrap();
+    let a: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(a["character"], "leading", "{a}");
 }

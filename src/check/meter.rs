@@ -24,12 +24,14 @@
 //!   classes set no limit for them; the active limit at unity PF is used (our rule: V and I feed
 //!   the energy figure that limit holds).
 //! - **PF sign.** Our PF (P/S, signed by P) is signed the meter's way before comparing
-//!   ([`PfSign::apply`]): power-flow by the sign of P, lead-negative negative when Q < 0, unsigned
-//!   |PF|. Where our P (power-flow) or Q (lead-negative) is within its uncertainty of zero the
-//!   sign cannot be told and magnitudes are compared. A PF whose sign is wrong while the sign is
+//!   ([`PfSign::apply`]): power-flow by the sign of P; lead-negative negative in the capacitive
+//!   quadrants (II, IV), lag-negative negative in the inductive ones (I, III); unsigned |PF|.
+//!   Where our P (power-flow), or P or Q (lead- and lag-negative), is within its uncertainty of
+//!   zero the sign cannot be told and magnitudes are compared. A PF whose sign is wrong while the sign is
 //!   certain fails, with a note naming a convention that would fit, or a reversed CT.
-//! - **Quadrant** (IEC 60375 style, load convention, from memory): I +P +Q, II −P +Q, III −P −Q,
-//!   IV +P −Q; a zero P or Q counts as positive.
+//! - **Quadrant** (four-quadrant metering diagram, IEC 62053-23 figure, load convention, from
+//!   memory): I +P +Q inductive, II −P +Q capacitive, III −P −Q inductive, IV +P −Q capacitive; a
+//!   zero P or Q counts as positive.
 //! - **Wiring hints**, in plain language, only where some check fails:
 //!   - *angle faults*: a reversed CT turns the current by 180°, voltage and current from
 //!     different phases of a three-phase supply by ±120°. A turn by α makes the meter see
@@ -50,7 +52,9 @@ mod hints;
 mod input;
 
 pub use error::MeterError;
-pub use input::{AccuracyClass, CLASS_NAMES, LOW_POINT, PfSign, Reading, UNITY_POINT};
+pub use input::{
+    AccuracyClass, CLASS_NAMES, LOW_POINT, PF_SIGNS, PfSign, Reading, UNITY_POINT, capacitive,
+};
 
 use super::decision::{Verdict, decide};
 use serde::Serialize;
@@ -153,7 +157,7 @@ pub struct MeterReport {
     pub class: &'static str,
     /// The PF sign convention the meter was taken to use.
     pub pf_sign: &'static str,
-    /// Our quadrant, 1 to 4 (IEC 60375 style, load convention).
+    /// Our quadrant, 1 to 4 (four-quadrant metering diagram, load convention).
     pub quadrant: u8,
     /// The quadrant in words.
     pub quadrant_text: String,
@@ -163,25 +167,30 @@ pub struct MeterReport {
     pub wiring_hints: Vec<String>,
 }
 
-/// The quadrant of (P, Q), load convention: I +P +Q, II −P +Q, III −P −Q, IV +P −Q (IEC 60375
-/// style, from memory); zero counts as positive.
+/// The quadrant of (P, Q) on the four-quadrant metering diagram (IEC 62053-23 figure, load
+/// convention, from memory): I import P, import Q: inductive; II export P, import Q:
+/// capacitive; III export P, export Q: inductive; IV import P, export Q: capacitive. Zero counts
+/// as positive. The character is the current's seen in the direction the active power flows.
 pub fn quadrant(p: f64, q: f64) -> (u8, &'static str) {
     match (p < 0.0, q < 0.0) {
         (false, false) => (
             1,
-            "quadrant I: importing active power, inductive (current lags)",
+            "quadrant I: importing active and reactive power: inductive (current lags)",
         ),
         (true, false) => (
             2,
-            "quadrant II: exporting active power, importing reactive power (inductive)",
+            "quadrant II: exporting active power, importing reactive power: capacitive (in the \
+             direction of the active power the current leads)",
         ),
         (true, true) => (
             3,
-            "quadrant III: exporting active power, exporting reactive power (capacitive)",
+            "quadrant III: exporting active and reactive power: inductive (in the direction of \
+             the active power the current lags)",
         ),
         (false, true) => (
             4,
-            "quadrant IV: importing active power, capacitive (current leads)",
+            "quadrant IV: importing active power, exporting reactive power: capacitive (current \
+             leads)",
         ),
     }
 }
@@ -381,9 +390,11 @@ fn check_pf(
     (limit, current_note): (f64, Option<String>),
 ) -> MeterCheck {
     let pf_abs = m.pf.abs();
+    let p_unsure = m.p_w.abs() <= m.u_p_w.abs();
+    let q_unsure = m.q_var.abs() <= m.u_q_var.abs();
     let uncertain_sign = match sign {
-        PfSign::PowerFlow => m.p_w.abs() <= m.u_p_w.abs(),
-        PfSign::LeadNegative => m.q_var.abs() <= m.u_q_var.abs(),
+        PfSign::PowerFlow => p_unsure,
+        PfSign::LeadNegative | PfSign::LagNegative => p_unsure || q_unsure,
         PfSign::Unsigned => false,
     };
     let mut notes: Vec<String> = class.active_note(pf_abs).into_iter().collect();
@@ -392,7 +403,7 @@ fn check_pf(
         notes.push(format!(
             "our {} is within its uncertainty of zero, so the PF sign cannot be told: sizes \
              compared",
-            if sign == PfSign::PowerFlow { "P" } else { "Q" }
+            if p_unsure { "P" } else { "Q" }
         ));
         pf_abs.copysign(meter)
     } else {
@@ -420,8 +431,9 @@ fn check_pf(
             )
             .verdict
                 != Verdict::Outside;
-        let fitting: Vec<&str> = [PfSign::PowerFlow, PfSign::LeadNegative]
+        let fitting: Vec<&str> = PF_SIGNS
             .into_iter()
+            .filter(|s| *s != PfSign::Unsigned)
             .filter(|s| (s.apply(m.pf, m.p_w, m.q_var) < 0.0) == (meter < 0.0))
             .map(PfSign::as_str)
             .collect();
@@ -430,9 +442,12 @@ fn check_pf(
         } else {
             format!("the PF sign does not fit '{}'", sign.as_str())
         };
-        let cause = match fitting.first() {
-            Some(s) => format!("the meter may sign PF '{s}', or its CT is reversed"),
-            None => "its CT may be reversed".to_string(),
+        let cause = match fitting.as_slice() {
+            [] => "its CT may be reversed".to_string(),
+            some => format!(
+                "the meter may sign PF '{}', or its CT is reversed",
+                some.join("' or '")
+            ),
         };
         let text = if size_fits {
             format!("the size of the PF agrees but its sign does not: {why}; {cause}")
@@ -506,7 +521,7 @@ mod tests {
         assert_eq!(rep.quadrant, 1);
         assert_eq!(
             rep.quadrant_text,
-            "quadrant I: importing active power, inductive (current lags)"
+            "quadrant I: importing active and reactive power: inductive (current lags)"
         );
         assert_eq!(rep.class, "IEC 62053-21 class 1");
     }
@@ -664,7 +679,7 @@ mod tests {
     }
 
     #[test]
-    fn an_exporting_lagging_circuit_is_quadrant_ii_and_signed_by_power_flow() {
+    fn an_exporting_circuit_importing_q_is_quadrant_ii_and_signed_by_power_flow() {
         let m = measured(150.0); // P < 0, Q > 0
         let r = Reading {
             pf: Some(m.pf),
@@ -675,6 +690,43 @@ mod tests {
         assert!(rep.checks[0].measured_value < 0.0);
         assert_eq!(rep.checks[0].verdict, MeterVerdict::Pass);
         assert_eq!(quadrant(-1.0, -1.0).0, 3);
+    }
+
+    /// The four-quadrant metering diagram (IEC 62053-23 figure, load convention, from memory):
+    /// II (export P, import Q) and IV capacitive, I and III inductive. At θ = 150° (quadrant II)
+    /// a lead-negative meter shows −|cos 150°| = −0.866; at θ = −150° (quadrant III) +0.866.
+    #[test]
+    fn exported_power_is_signed_by_the_quadrants_character() {
+        let run = |angle: f64, shown: f64, sign: PfSign| {
+            let m = measured(angle);
+            let r = Reading {
+                pf: Some(shown),
+                ..Reading::default()
+            };
+            check_meter(&r, &m, AccuracyClass::Iec1, sign)
+        };
+        let pf = 150f64.to_radians().cos().abs();
+        let rep = run(150.0, -pf, PfSign::LeadNegative);
+        assert_eq!(rep.quadrant, 2);
+        assert!(rep.quadrant_text.contains("capacitive"), "{rep:?}");
+        assert_eq!(rep.checks[0].verdict, MeterVerdict::Pass, "{rep:?}");
+        let rep = run(-150.0, pf, PfSign::LeadNegative);
+        assert_eq!(rep.quadrant, 3);
+        assert!(rep.quadrant_text.contains("inductive"), "{rep:?}");
+        assert_eq!(rep.checks[0].verdict, MeterVerdict::Pass, "{rep:?}");
+        // lag-negative: the other way round in every quadrant
+        for (angle, shown) in [(30.0, -pf), (150.0, pf), (-150.0, -pf), (-30.0, pf)] {
+            let c = &run(angle, shown, PfSign::LagNegative).checks[0];
+            assert_eq!(c.verdict, MeterVerdict::Pass, "{angle}: {c:?}");
+            let c = &run(angle, -shown, PfSign::LagNegative).checks[0];
+            assert_eq!(c.verdict, MeterVerdict::Fail, "{angle}: {c:?}");
+        }
+        // a lag-negative meter read as lead-negative is named
+        let c = &run(30.0, -pf, PfSign::LeadNegative).checks[0];
+        assert!(
+            c.note.as_deref().unwrap().contains("'lag-negative'"),
+            "{c:?}"
+        );
     }
 
     #[test]

@@ -72,16 +72,47 @@ pub struct HarmonicLine {
     pub active_w: f64,
 }
 
-/// Leading or lagging.
+/// Inductive (lagging) or capacitive (leading), seen in the direction the active power flows:
+/// the four-quadrant metering diagram (IEC 62053-23 figure, load convention, from memory) calls
+/// quadrants I (import P, import Q) and III (export P, export Q) inductive, II (export P, import
+/// Q) and IV (import P, export Q) capacitive. For an importing load this is the plain "current
+/// lags" / "current leads"; at θ1 = 150° (exporting) the current, turned to the direction of the
+/// active power, leads by 30°: capacitive.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Character {
-    /// Current lags voltage (inductive, Q1 > 0).
+    /// Inductive: quadrant I or III (P·Q1 > 0).
     Lagging,
-    /// Current leads voltage (capacitive, Q1 < 0).
+    /// Capacitive: quadrant II or IV (P·Q1 < 0).
     Leading,
 }
 
 impl Character {
+    /// The character at fundamental angle `theta1_rad` (V1 angle minus I1 angle): lagging when
+    /// P1 = S1·cos θ1 and Q1 = S1·sin θ1 have the same sign (a zero P1 counts as importing).
+    pub fn of_angle(theta1_rad: f64) -> Self {
+        let (sin, cos) = theta1_rad.sin_cos();
+        if (sin > 0.0) == (cos >= 0.0) {
+            Character::Lagging
+        } else {
+            Character::Leading
+        }
+    }
+
+    /// In words, with the direction of the active power: e.g. "capacitive (leading), exporting
+    /// active power".
+    pub fn describe(self, active_w: f64) -> String {
+        let (kind, word) = match self {
+            Character::Lagging => ("inductive", "lagging"),
+            Character::Leading => ("capacitive", "leading"),
+        };
+        let flow = if active_w < 0.0 {
+            "exporting"
+        } else {
+            "importing"
+        };
+        format!("{kind} ({word}), {flow} active power")
+    }
+
     /// The word used in every output.
     pub fn as_str(self) -> &'static str {
         match self {
@@ -347,11 +378,7 @@ pub fn quantities(
         phase_angle_zero_crossing_deg: zc.map(|z| z.0),
         displacement_pf: both.then(|| theta1.cos()),
         true_pf: if both { power.power_factor() } else { None },
-        character: both.then_some(if theta1 > 0.0 {
-            Character::Lagging
-        } else {
-            Character::Leading
-        }),
+        character: both.then_some(Character::of_angle(theta1)),
         voltage,
         current,
         power,
@@ -360,5 +387,26 @@ pub fn quantities(
         fundamentals: (vh[0], ih[0]),
         phase_angle_zero_crossing_sigma_deg: zc.map(|z| z.1),
         warnings,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::Character;
+
+    /// The four-quadrant metering diagram (IEC 62053-23 figure, load convention, from memory):
+    /// I inductive, II capacitive, III inductive, IV capacitive. θ1 = 150° lies in quadrant II
+    /// (P1 = S1·cos 150° < 0, Q1 = S1·sin 150° > 0).
+    #[test]
+    fn the_character_follows_the_quadrant_for_exported_power_too() {
+        let at = |deg: f64| Character::of_angle(deg.to_radians());
+        assert_eq!(at(30.0), Character::Lagging);
+        assert_eq!(at(150.0), Character::Leading);
+        assert_eq!(at(-150.0), Character::Lagging);
+        assert_eq!(at(-30.0), Character::Leading);
+        assert_eq!(
+            at(150.0).describe(-1.0),
+            "capacitive (leading), exporting active power"
+        );
     }
 }

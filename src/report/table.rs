@@ -151,10 +151,12 @@ impl Exporter for TableExporter {
             u.coverage_factor,
             u.windows,
         )?;
-        let lag = q.character.map(|c| c.as_str()).unwrap_or("undefined");
+        let lag = q
+            .character
+            .map_or_else(|| "undefined".into(), |c| c.describe(q.power.active_w));
         writeln!(
             out,
-            "  phase angle  {} (DFT) | {} (zero crossing) | current {lag}",
+            "  phase angle  {} (DFT) | {} (zero crossing) | {lag}",
             pm(q.phase_angle_dft_deg, u.phase_angle_deg.dft, "°"),
             pm(
                 q.phase_angle_zero_crossing_deg,

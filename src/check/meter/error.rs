@@ -106,7 +106,7 @@ pub enum MeterError {
     },
     /// A PF sign convention name we do not know.
     #[error(
-        "unknown power factor sign convention '{text}', expected power-flow, lead-negative or unsigned"
+        "unknown power factor sign convention '{text}', expected power-flow, lead-negative, lag-negative or unsigned"
     )]
     UnknownPfSign {
         /// The name as typed.

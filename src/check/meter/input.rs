@@ -437,17 +437,36 @@ impl AccuracyClass {
 pub enum PfSign {
     /// The sign of P (IEC style): negative when exporting active power. Name `power-flow`.
     PowerFlow,
-    /// Negative when leading (capacitive, Q < 0), positive when lagging. Name `lead-negative`.
+    /// Negative in the capacitive quadrants (II and IV of the four-quadrant metering diagram),
+    /// positive in the inductive ones (I and III). Name `lead-negative`.
     LeadNegative,
+    /// Negative in the inductive quadrants (I and III), positive in the capacitive ones (II and
+    /// IV): meters that show a lagging PF as negative. Name `lag-negative`.
+    LagNegative,
     /// No sign: |PF|. Name `unsigned`.
     Unsigned,
 }
 
+/// Every PF sign convention, in the order the help lists them.
+pub const PF_SIGNS: [PfSign; 4] = [
+    PfSign::PowerFlow,
+    PfSign::LeadNegative,
+    PfSign::LagNegative,
+    PfSign::Unsigned,
+];
+
+/// True in the capacitive quadrants of the four-quadrant metering diagram (IEC 62053-23 figure,
+/// load convention, from memory): II (export P, import Q) and IV (import P, export Q). A zero P
+/// or Q counts as positive.
+pub fn capacitive(p: f64, q: f64) -> bool {
+    (p < 0.0) != (q < 0.0)
+}
+
 impl PfSign {
-    /// Reads `power-flow`, `lead-negative` or `unsigned` (any case).
+    /// Reads `power-flow`, `lead-negative`, `lag-negative` or `unsigned` (any case).
     pub fn parse(text: &str) -> Result<Self, MeterError> {
         let t = text.trim();
-        [PfSign::PowerFlow, PfSign::LeadNegative, PfSign::Unsigned]
+        PF_SIGNS
             .into_iter()
             .find(|s| s.as_str().eq_ignore_ascii_case(t))
             .ok_or_else(|| MeterError::UnknownPfSign {
@@ -460,6 +479,7 @@ impl PfSign {
         match self {
             PfSign::PowerFlow => "power-flow",
             PfSign::LeadNegative => "lead-negative",
+            PfSign::LagNegative => "lag-negative",
             PfSign::Unsigned => "unsigned",
         }
     }
@@ -468,11 +488,13 @@ impl PfSign {
     /// power `p` and reactive power `q` (load convention). A zero P or Q counts as positive.
     pub fn apply(self, pf: f64, p: f64, q: f64) -> f64 {
         let m = pf.abs();
-        match self {
-            PfSign::PowerFlow if p < 0.0 => -m,
-            PfSign::LeadNegative if q < 0.0 => -m,
-            _ => m,
-        }
+        let negative = match self {
+            PfSign::PowerFlow => p < 0.0,
+            PfSign::LeadNegative => capacitive(p, q),
+            PfSign::LagNegative => !capacitive(p, q),
+            PfSign::Unsigned => false,
+        };
+        if negative { -m } else { m }
     }
 }
 
@@ -596,10 +618,11 @@ mod tests {
             PfSign::LeadNegative
         );
         assert_eq!(PfSign::parse("unsigned").unwrap(), PfSign::Unsigned);
+        assert_eq!(PfSign::parse("LAG-negative").unwrap(), PfSign::LagNegative);
         assert_eq!(
             PfSign::parse("iec").unwrap_err().to_string(),
-            "unknown power factor sign convention 'iec', expected power-flow, lead-negative or \
-             unsigned"
+            "unknown power factor sign convention 'iec', expected power-flow, lead-negative, \
+             lag-negative or unsigned"
         );
     }
 
