@@ -16,3 +16,4 @@ pub mod decision;
 pub mod expected;
 pub mod meter;
 pub mod tolerance;
+pub mod wiring;

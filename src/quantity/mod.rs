@@ -13,6 +13,7 @@
 //! by `2π·h·f·skew`; P is corrected by the change of Σ Re(Vh·Ih*) that rotation makes.
 
 pub mod power;
+pub mod three_phase;
 pub mod uncertainty;
 
 use crate::analysis::DEFAULT_HARMONICS;
