@@ -1,6 +1,6 @@
 //! The analysis pipeline for one capture: condition -> estimate -> quantities.
 
-use crate::capture::{Capture, SourceFormat};
+use crate::capture::{Capture, SourceFormat, UsedChannels};
 use crate::check::bank::BankSide;
 use crate::check::circuit::Circuit;
 use crate::check::expected::{self, Expectation, Expected};
@@ -61,10 +61,8 @@ pub struct Analysis {
     pub sample_rate_hz: f64,
     /// Samples per trace.
     pub samples: usize,
-    /// Name of the voltage channel in the file.
-    pub voltage_channel: String,
-    /// Name of the current channel in the file.
-    pub current_channel: String,
+    /// The voltage, current and time channels used: name, column, unit, how chosen.
+    pub channels: UsedChannels,
     /// Settings used.
     pub settings: Settings,
     /// Estimator outputs.
@@ -189,6 +187,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         &settings.uncertainty,
     );
     let preview = Preview::new(v, i, capture.sample_rate_hz, quantities.frequency_hz);
+    let channels = capture.used_channels();
     Ok(Analysis {
         preview,
         uncertainty,
@@ -196,8 +195,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         path: capture.path,
         format: capture.format,
         sample_rate_hz: capture.sample_rate_hz,
-        voltage_channel: capture.voltage.name,
-        current_channel: capture.current.name,
+        channels,
         settings: *settings,
         estimate,
         quantities,

@@ -226,10 +226,12 @@ pub enum SummaryFormatArg {
 #[derive(Debug, Args, Clone, Default)]
 #[command(next_help_heading = "Settings (override tracephase.toml sidecars)")]
 pub struct OverrideArgs {
-    /// Voltage channel (name or 1-based number).
+    /// Voltage channel: header name, or number counting the file's columns from 1 with the time
+    /// column included (WAV: channel number).
     #[arg(long, value_name = "COL")]
     pub voltage: Option<String>,
-    /// Current channel (name or 1-based number).
+    /// Current channel: header name, or number counting the file's columns from 1 with the time
+    /// column included (WAV: channel number).
     #[arg(long, value_name = "COL")]
     pub current: Option<String>,
     /// Sample rate, Hz.
@@ -364,12 +366,21 @@ pub enum DistributionArg {
 #[derive(Debug, Args, Clone)]
 #[command(next_help_heading = "Channels, scales and timing")]
 pub struct ChannelArgs {
-    /// Voltage channel: 1-based column/channel number or header name [default: by name, else first].
+    /// Voltage channel: header name, or number counting the file's columns from 1 with the time
+    /// column included (WAV: channel number) [default: the one channel in volts or named like a
+    /// voltage (V, U, Va, V_L1, UL1, Voltage...); with only two data channels and nothing to tell
+    /// them apart, the first; otherwise the file is refused with a list of its channels].
     #[arg(long, value_name = "COL")]
     pub voltage: Option<String>,
-    /// Current channel: 1-based column/channel number or header name [default: by name, else second].
+    /// Current channel: header name, or number counting the file's columns from 1 with the time
+    /// column included (WAV: channel number) [default: the one channel in amperes or named like a
+    /// current (I, Ia, I_L1, IL, Iload, Current...); with only two data channels, the second].
     #[arg(long, value_name = "COL")]
     pub current: Option<String>,
+    /// Use --voltage and --current even where the header's unit or name says the channel is the
+    /// other quantity (a mislabelled export); the output then carries a warning.
+    #[arg(long)]
+    pub force_channels: bool,
     /// Sample rate in Hz, for files without a time column (overrides the file's own).
     #[arg(long, value_name = "HZ")]
     pub rate: Option<f64>,

@@ -101,6 +101,30 @@ pub enum Warning {
         /// The measured frequency.
         frequency_hz: f64,
     },
+    /// Nothing in the file said which channel is which; they were taken by column order.
+    ChannelAssumed {
+        /// Each as `'CH2' (column 3) as the current`.
+        channels: Vec<String>,
+    },
+    /// A channel chosen against its own unit or name, because `--force-channels` was given.
+    ChannelForced {
+        /// The role it was given.
+        trace: Trace,
+        /// `'CH2(V)' (column 3)`.
+        channel: String,
+        /// What the file says it is: `a voltage by its unit (V)`.
+        is: String,
+    },
+    /// Columns of the file that were not analysed (unused channels, markers, blank columns).
+    ColumnsIgnored {
+        /// Each as `'Trigger' (column 4)` or `'Spare' (column 5, blank)`.
+        columns: Vec<String>,
+    },
+    /// The time column gives no unit; seconds were assumed.
+    TimeUnitAssumed {
+        /// `'X-axis' (column 1)`.
+        column: String,
+    },
 }
 
 /// How a warning bears on the figures: the three lists every output keeps apart.
@@ -120,7 +144,11 @@ impl Warning {
     pub fn severity(&self) -> Severity {
         match self {
             Warning::PfBelowThreshold { .. } => Severity::Finding,
-            Warning::HarmonicsCapped { .. } | Warning::MethodsDisagree { .. } => Severity::Note,
+            Warning::HarmonicsCapped { .. }
+            | Warning::MethodsDisagree { .. }
+            | Warning::ChannelAssumed { .. }
+            | Warning::ColumnsIgnored { .. }
+            | Warning::TimeUnitAssumed { .. } => Severity::Note,
             _ => Severity::Warning,
         }
     }
@@ -157,6 +185,10 @@ impl Warning {
             Warning::HarmonicsCapped { .. } => "harmonics-capped",
             Warning::UnusualFrequency { .. } => "unusual-frequency",
             Warning::PfBelowThreshold { .. } => "pf-below-threshold",
+            Warning::ChannelAssumed { .. } => "channel-assumed",
+            Warning::ChannelForced { .. } => "channel-forced",
+            Warning::ColumnsIgnored { .. } => "columns-ignored",
+            Warning::TimeUnitAssumed { .. } => "time-unit-assumed",
         }
     }
 }
@@ -225,6 +257,25 @@ impl fmt::Display for Warning {
                 f,
                 "fundamental at {frequency_hz:.3} Hz is far from 50, 60 or 400 Hz: \
                  check the sample rate (--rate) or the time column"
+            ),
+            Warning::ChannelAssumed { channels } => write!(
+                f,
+                "nothing in the file says which channel is which: took {} by column order; \
+                 if that is wrong, say which with --voltage and --current",
+                channels.join(" and ")
+            ),
+            Warning::ChannelForced { trace, channel, is } => write!(
+                f,
+                "{channel} is used as the {trace} because of --force-channels, though the file \
+                 says it is {is}"
+            ),
+            Warning::ColumnsIgnored { columns } => {
+                write!(f, "columns not analysed: {}", columns.join(", "))
+            }
+            Warning::TimeUnitAssumed { column } => write!(
+                f,
+                "the time column {column} gives no unit: read as seconds; if it is not, name the \
+                 unit in the header (e.g. 'Time (ms)') or give the rate with --rate HZ"
             ),
         }
     }

@@ -25,6 +25,8 @@ use tracephase::synth::{Spec, Waveform, synthesize};
 #[derive(Debug, Deserialize)]
 struct Record {
     file: String,
+    sample_rate_hz: f64,
+    warning_codes: Vec<String>,
     channels: Channels,
     frequency_hz: f64,
     phase_angle_deg: Angles,
@@ -43,8 +45,29 @@ struct Record {
 
 #[derive(Debug, Deserialize)]
 struct Channels {
-    voltage: String,
-    current: String,
+    voltage: ChannelUsed,
+    current: ChannelUsed,
+    time: TimeColumn,
+}
+
+#[derive(Debug, Deserialize)]
+struct ChannelUsed {
+    name: String,
+    column: usize,
+    #[serde(deserialize_with = "nullable")]
+    unit: Option<String>,
+    unit_scale: f64,
+    chosen_by: String,
+}
+
+#[derive(Debug, Deserialize)]
+struct TimeColumn {
+    #[serde(deserialize_with = "nullable")]
+    name: Option<String>,
+    #[serde(deserialize_with = "nullable")]
+    column: Option<usize>,
+    #[serde(deserialize_with = "nullable")]
+    unit: Option<String>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -485,7 +508,10 @@ fn tab_separated_file_with_time_column_gives_the_handbook_values() {
     let r = json_one(&[], &f);
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
     assert_eq!(
-        (r.channels.voltage.as_str(), r.channels.current.as_str()),
+        (
+            r.channels.voltage.name.as_str(),
+            r.channels.current.name.as_str()
+        ),
         ("U", "I")
     );
 }
@@ -701,8 +727,8 @@ fn voltage_channel_is_chosen_by_name_without_units() {
     let dir = TempDir::new().unwrap();
     let f = three_channel_capture(&dir);
     let r = json_one(&["--voltage", "voltage"], &f);
-    assert_eq!(r.channels.voltage, "Voltage (V)");
-    assert_eq!(r.channels.current, "I (A)");
+    assert_eq!(r.channels.voltage.name, "Voltage (V)");
+    assert_eq!(r.channels.current.name, "I (A)");
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
 }
 
@@ -712,8 +738,13 @@ fn channels_are_chosen_by_one_based_index() {
     let f = three_channel_capture(&dir);
     // The time column is column 1.
     let r = json_one(&["--voltage", "3", "--current", "4"], &f);
-    assert_eq!(r.channels.voltage, "Voltage (V)");
-    assert_eq!(r.channels.current, "I (A)");
+    assert_eq!(r.channels.voltage.name, "Voltage (V)");
+    assert_eq!(r.channels.current.name, "I (A)");
+    assert_eq!(
+        (r.channels.voltage.column, r.channels.current.column),
+        (3, 4)
+    );
+    assert_eq!(r.channels.voltage.chosen_by, "option");
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
 }
 
@@ -1127,5 +1158,413 @@ fn current_of_pure_noise_has_no_angle_and_says_why() {
             .any(|w| w.contains("current") && w.contains("no fundamental")),
         "{:?}",
         r.warnings
+    );
+}
+
+// ---------------------------------------------------------------------------------------------
+// What the loader reads from headers (issue 10 items 1-3 and the time part of 11). Each file is
+// the bench motor written with the header an instrument might give it.
+
+/// What one column of a [`columns_capture`] holds.
+#[derive(Clone, Copy)]
+enum Col {
+    /// Time in file units per second (1e3 for ms), written with this many decimals.
+    Time(f64, usize),
+    /// The voltage in file units per volt (1e3 for mV).
+    V(f64),
+    /// The current in file units per ampere.
+    I(f64),
+    /// A second voltage (half the first), as an unused scope channel.
+    OtherV,
+    /// A trigger marker: 0 or 5.
+    Marker,
+    /// Nothing.
+    Blank,
+    /// A text flag.
+    Flag,
+}
+
+/// The capture of `spec` with `header`, one column per `cols`.
+fn columns_capture(spec: &Spec, header: &[&str], cols: &[Col]) -> String {
+    let (v, i) = synthesize(spec);
+    let mut out = header.join(",");
+    out.push('\n');
+    for k in 0..v.len() {
+        let t = spec.start_s + k as f64 / spec.rate_hz;
+        let cells: Vec<String> = cols
+            .iter()
+            .map(|c| match *c {
+                Col::Time(per_s, d) => format!("{:.d$}", t * per_s),
+                Col::V(per) => format!("{:.6}", v[k] * per),
+                Col::I(per) => format!("{:.6}", i[k] * per),
+                Col::OtherV => format!("{:.6}", v[k] * 0.5),
+                Col::Marker => if (k / 50) % 2 == 1 { "5" } else { "0" }.to_string(),
+                Col::Blank => String::new(),
+                Col::Flag => if k % 1000 == 0 { "TRIG" } else { "ok" }.to_string(),
+            })
+            .collect();
+        out.push_str(&cells.join(","));
+        out.push('\n');
+    }
+    out
+}
+
+fn write_columns(dir: &TempDir, name: &str, header: &[&str], cols: &[Col]) -> PathBuf {
+    write_text(dir, name, &columns_capture(&motor_spec(), header, cols))
+}
+
+#[test]
+fn time_columns_are_read_in_the_unit_their_header_gives() {
+    // Before: a `Time (ms)` column was read as seconds (0.05 Hz); µs gave 0.00005 Hz.
+    // SI prefixes (common practice): 1 s = 1e3 ms = 1e6 µs = 1e9 ns.
+    let dir = TempDir::new().unwrap();
+    for (head, per_s, decimals, unit) in [
+        ("Time (ms)", 1e3, 4, "ms"),
+        ("Time (\u{b5}s)", 1e6, 1, "µs"),
+        ("Time (\u{3bc}s)", 1e6, 1, "µs"),
+        ("Time (us)", 1e6, 1, "µs"),
+        ("time [ns]", 1e9, 0, "ns"),
+        ("Time [s]", 1.0, 7, "s"),
+        ("time/s", 1.0, 7, "s"),
+        ("Zeit (ms)", 1e3, 4, "ms"),
+    ] {
+        let f = write_columns(
+            &dir,
+            "t.csv",
+            &[head, "Voltage (V)", "Current (A)"],
+            &[Col::Time(per_s, decimals), Col::V(1.0), Col::I(1.0)],
+        );
+        let r = json_one(&[], &f);
+        assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+        close_rel(head, r.sample_rate_hz, RATE_HZ, 1e-9);
+        assert_eq!(r.channels.time.unit.as_deref(), Some(unit), "{head}");
+        assert_eq!(r.channels.time.column, Some(1));
+        assert!(
+            !r.warning_codes.iter().any(|c| c == "time-unit-assumed"),
+            "{head}"
+        );
+    }
+}
+
+#[test]
+fn time_columns_named_in_other_languages_are_seconds_and_an_unnamed_unit_is_said() {
+    let dir = TempDir::new().unwrap();
+    for head in ["Time", "Zeit", "Temps", "Tiempo", "t", "X-axis"] {
+        let f = write_columns(
+            &dir,
+            "t.csv",
+            &[head, "U", "I"],
+            &[Col::Time(1.0, 7), Col::V(1.0), Col::I(1.0)],
+        );
+        let r = json_one(&[], &f);
+        assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+        assert_eq!(r.channels.time.name.as_deref(), Some(head));
+        assert_eq!(r.channels.time.unit, None);
+        // Plain words for "time" are seconds by the README's convention; `X-axis` says nothing,
+        // so the assumption travels with the result.
+        let noted = r.warning_codes.iter().any(|c| c == "time-unit-assumed");
+        assert_eq!(noted, head == "X-axis", "{head}: {:?}", r.warnings);
+    }
+}
+
+#[test]
+fn channel_units_set_the_scale_and_are_reported() {
+    // A mV column is in volts after reading, a kA column in amperes (SI prefixes, common practice).
+    let dir = TempDir::new().unwrap();
+    for (vh, vper, ih, iper, vu, iu) in [
+        ("U (mV)", 1e3, "I [mA]", 1e3, "mV", "mA"),
+        ("CH1 (kV)", 1e-3, "CH2 (kA)", 1e-3, "kV", "kA"),
+        ("Voltage [V]", 1.0, "Current (A)", 1.0, "V", "A"),
+    ] {
+        let f = write_columns(
+            &dir,
+            "u.csv",
+            &["Time (s)", vh, ih],
+            &[Col::Time(1.0, 7), Col::V(vper), Col::I(iper)],
+        );
+        let r = json_one(&[], &f);
+        // kV and kA columns carry 6 decimals of kV: 1 mV, still far inside REL_TOL at 230 V.
+        assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+        assert_eq!(r.channels.voltage.unit.as_deref(), Some(vu));
+        assert_eq!(r.channels.current.unit.as_deref(), Some(iu));
+        close_rel(
+            "unit_scale",
+            r.channels.voltage.unit_scale,
+            1.0 / vper,
+            1e-12,
+        );
+        assert_eq!(r.channels.voltage.chosen_by, "unit");
+    }
+}
+
+#[test]
+fn an_amperes_channel_among_volts_channels_is_never_a_voltage() {
+    // Before: CH1 against CH2 (a voltage) with the (A) ignored.
+    let dir = TempDir::new().unwrap();
+    let header = ["TIME", "CH1(V)", "CH2(V)", "CH3(A)", "CH4(V)"];
+    let cols = [
+        Col::Time(1.0, 7),
+        Col::V(1.0),
+        Col::OtherV,
+        Col::I(1.0),
+        Col::OtherV,
+    ];
+    let f = write_columns(&dir, "scope.csv", &header, &cols);
+    // Three voltages: which one is not guessed; the error lists them and the options.
+    let e = assert_refused(
+        &[],
+        &f,
+        &[
+            "column 2 'ch1(v)' (voltage, v)",
+            "column 3 'ch2(v)'",
+            "column 5 'ch4(v)'",
+            "--voltage 2 --current 4",
+        ],
+    );
+    assert!(!e.contains("column 4 'CH3(A)' (voltage"), "{e}");
+    let r = json_one(&["--voltage", "2"], &f);
+    assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+    assert_eq!(
+        (r.channels.voltage.column, r.channels.current.column),
+        (2, 4)
+    );
+    assert_eq!(r.channels.current.name, "CH3(A)");
+    assert_eq!(r.channels.current.chosen_by, "unit");
+    assert!(r.warning_codes.iter().any(|c| c == "columns-ignored"));
+}
+
+#[test]
+fn a_voltage_chosen_as_the_current_is_refused_unless_forced() {
+    let dir = TempDir::new().unwrap();
+    let header = ["TIME", "CH1(V)", "CH2(V)", "CH3(A)"];
+    let cols = [Col::Time(1.0, 7), Col::V(1.0), Col::I(1.0), Col::OtherV];
+    let f = write_columns(&dir, "mislabelled.csv", &header, &cols);
+    assert_refused(
+        &["--voltage", "2", "--current", "3"],
+        &f,
+        &[
+            "column 3 'ch2(v)'",
+            "voltage by its unit (v)",
+            "--force-channels",
+        ],
+    );
+    // The header is wrong here (CH2 holds the current): forcing says so in the output.
+    let r = json_one(
+        &["--voltage", "2", "--current", "3", "--force-channels"],
+        &f,
+    );
+    assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+    assert!(r.warning_codes.iter().any(|c| c == "channel-forced"));
+}
+
+#[test]
+fn named_voltage_and_current_are_found_beside_other_channels() {
+    // Before: `Va,Vb,Ia` took Vb as the current; `Marker,V_L1,I_L1` took the marker as the
+    // voltage; `U,Trigger,IL` took the trigger as the current.
+    let dir = TempDir::new().unwrap();
+    for (header, cols, v, i) in [
+        (
+            ["Time", "Va", "Vb", "Ia"],
+            [Col::Time(1.0, 7), Col::V(1.0), Col::OtherV, Col::I(1.0)],
+            "Va",
+            "Ia",
+        ),
+        (
+            ["Time", "Marker", "V_L1", "I_L1"],
+            [Col::Time(1.0, 7), Col::Marker, Col::V(1.0), Col::I(1.0)],
+            "V_L1",
+            "I_L1",
+        ),
+        (
+            ["Time", "U", "Trigger", "IL"],
+            [Col::Time(1.0, 7), Col::V(1.0), Col::Marker, Col::I(1.0)],
+            "U",
+            "IL",
+        ),
+        (
+            ["Time", "Iload", "Spare", "UL1"],
+            [Col::Time(1.0, 7), Col::I(1.0), Col::OtherV, Col::V(1.0)],
+            "UL1",
+            "Iload",
+        ),
+    ] {
+        let f = write_columns(&dir, "named.csv", &header, &cols);
+        let r = json_one(&[], &f);
+        assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+        assert_eq!(
+            (
+                r.channels.voltage.name.as_str(),
+                r.channels.current.name.as_str()
+            ),
+            (v, i)
+        );
+        assert!(
+            r.warning_codes.iter().any(|c| c == "columns-ignored"),
+            "{header:?}"
+        );
+        assert!(!r.warning_codes.iter().any(|c| c == "reversed-current"));
+    }
+    // The same names alone.
+    for header in [
+        ["Time", "Va", "Ia"],
+        ["Time", "V_L1", "I_L1"],
+        ["Time", "U", "IL"],
+    ] {
+        let f = write_columns(
+            &dir,
+            "pair.csv",
+            &header,
+            &[Col::Time(1.0, 7), Col::V(1.0), Col::I(1.0)],
+        );
+        let r = json_one(&[], &f);
+        assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+        assert_eq!(r.channels.current.name, header[2]);
+        assert_eq!(r.channels.current.chosen_by, "name");
+    }
+}
+
+#[test]
+fn unnamed_channels_are_taken_in_order_only_when_there_are_two() {
+    let dir = TempDir::new().unwrap();
+    let f = write_columns(
+        &dir,
+        "two.csv",
+        &["Time (s)", "CH1", "CH2"],
+        &[Col::Time(1.0, 7), Col::V(1.0), Col::I(1.0)],
+    );
+    let r = json_one(&[], &f);
+    assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+    assert_eq!(r.channels.current.chosen_by, "column order");
+    assert!(r.warning_codes.iter().any(|c| c == "channel-assumed"));
+    let f = write_columns(
+        &dir,
+        "four.csv",
+        &["Time (s)", "CH1", "CH2", "CH3", "CH4"],
+        &[
+            Col::Time(1.0, 7),
+            Col::V(1.0),
+            Col::I(1.0),
+            Col::OtherV,
+            Col::OtherV,
+        ],
+    );
+    assert_refused(
+        &[],
+        &f,
+        &[
+            "column 2 'ch1' (no unit)",
+            "column 5 'ch4' (no unit)",
+            "--voltage n --current n",
+        ],
+    );
+    let r = json_one(&["--voltage", "2", "--current", "CH2"], &f);
+    assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+}
+
+#[test]
+fn blank_and_text_columns_are_left_out_with_a_note() {
+    // Before: a blank unused column rejected the file as "no rows of numbers".
+    let dir = TempDir::new().unwrap();
+    let f = write_columns(
+        &dir,
+        "blank.csv",
+        &["Time (s)", "Voltage (V)", "Current (A)", "Spare", "Flag"],
+        &[
+            Col::Time(1.0, 7),
+            Col::V(1.0),
+            Col::I(1.0),
+            Col::Blank,
+            Col::Flag,
+        ],
+    );
+    let r = json_one(&[], &f);
+    assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+    let note = r
+        .warnings
+        .iter()
+        .find(|w| w.starts_with("columns not analysed"))
+        .unwrap_or_else(|| panic!("{:?}", r.warnings));
+    assert!(note.contains("'Spare' (column 4, blank)"), "{note}");
+    assert!(note.contains("'Flag' (column 5, not numbers)"), "{note}");
+    // A blank column between the channels, and chosen: the error names it and its line.
+    let f = write_columns(
+        &dir,
+        "blank-mid.csv",
+        &["Time (s)", "Voltage (V)", "Spare", "Current (A)"],
+        &[Col::Time(1.0, 7), Col::V(1.0), Col::Blank, Col::I(1.0)],
+    );
+    json_one(&[], &f);
+    assert_refused(
+        &["--current", "Spare", "--force-channels"],
+        &f,
+        &["line 2", "'spare'"],
+    );
+}
+
+#[test]
+fn timestamps_with_six_decimals_are_not_an_irregular_clock() {
+    // 25.6 kS/s is 39.0625 µs between samples; written with 6 decimals the steps are 39 or
+    // 40 µs (2.4 % from the mean) only because of rounding. Before: a time-jitter warning.
+    let dir = TempDir::new().unwrap();
+    let spec = Spec::clean(
+        25_600.0,
+        F_HZ,
+        5_120,
+        Waveform::sine(V_RMS, V_PHASE_DEG),
+        Waveform::sine(I_RMS, V_PHASE_DEG - LAG_DEG),
+    );
+    let text = columns_capture(
+        &spec,
+        &["Time (s)", "Voltage (V)", "Current (A)"],
+        &[Col::Time(1.0, 6), Col::V(1.0), Col::I(1.0)],
+    );
+    let f = write_text(&dir, "six-decimals.csv", &text);
+    let r = json_one(&[], &f);
+    assert!(
+        !r.warning_codes.iter().any(|c| c == "time-jitter"),
+        "{:?}",
+        r.warnings
+    );
+    // The mean interval over the record: (5119 steps rounded at both ends) within 1 µs / 5119.
+    close_rel(
+        "sample_rate_hz",
+        r.sample_rate_hz,
+        25_600.0,
+        1e-6 * 25_600.0 / 5119.0,
+    );
+    // A real irregularity, one interval 10 % long, is still flagged.
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    for l in lines.iter_mut().skip(2001) {
+        let (t, rest) = l.split_once(',').unwrap();
+        let t: f64 = t.parse().unwrap();
+        *l = format!("{:.6},{rest}", t + 3.9e-6);
+    }
+    let f = write_text(&dir, "late-sample.csv", &(lines.join("\n") + "\n"));
+    let r = json_one(&[], &f);
+    assert!(
+        r.warning_codes.iter().any(|c| c == "time-jitter"),
+        "{:?}",
+        r.warnings
+    );
+}
+
+#[test]
+fn table_output_names_the_channels_with_their_columns_and_units() {
+    let dir = TempDir::new().unwrap();
+    let f = write_columns(
+        &dir,
+        "scope.csv",
+        &["TIME", "CH1(V)", "CH2(V)", "CH3(A)"],
+        &[Col::Time(1.0, 7), Col::V(1.0), Col::OtherV, Col::I(1.0)],
+    );
+    let r = run(&["--format", "table", "--voltage", "CH1"], &[&f]);
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
+    assert!(
+        r.stdout.contains(
+            "channels     voltage 'CH1(V)' column 2 (V, by option), current 'CH3(A)' column 4 \
+             (A, by unit), time 'TIME' column 1 (read as s)"
+        ),
+        "{}",
+        r.stdout
     );
 }

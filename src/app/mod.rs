@@ -108,6 +108,7 @@ pub fn resolve_channels(
             voltage: c.voltage.as_deref().map(ChannelSel::parse),
             current: c.current.as_deref().map(ChannelSel::parse),
             rate_hz: c.rate,
+            force_channels: c.force_channels,
         },
         Settings {
             v_scale: finite_nonzero(c.v_scale, "--v-scale")?,

@@ -312,6 +312,7 @@ fn resolve(
             voltage: l.voltage.as_deref().map(ChannelSel::parse),
             current: l.current.as_deref().map(ChannelSel::parse),
             rate_hz,
+            ..LoadOptions::default()
         },
         settings,
         expect,

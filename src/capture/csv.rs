@@ -2,11 +2,15 @@
 //!
 //! The layout is sniffed from the first 64 KiB: UTF-8 BOM, delimiter (`,` `;` or tab), an optional
 //! preamble of `key<delim>value` lines (a sample interval or rate is taken from it), an optional
-//! header, a decimal comma (only with `;`), and a time column found by name or by evenly
-//! increasing values. The rows are then streamed with the `csv` crate's byte records and parsed
-//! straight into two `f64` columns (no per-cell `String`); the time column is checked on the fly
-//! and never stored.
+//! header (each column read into a [`Channel`]: unit, role), which columns hold numbers (blank and
+//! text columns are left out unless chosen), a decimal comma (only with `;`), and a time column
+//! found by name or by evenly increasing values, with the digits its values are written with.
+//! The rows are then streamed with the `csv` crate's byte records and parsed straight into two
+//! `f64` columns (no per-cell `String`); the time column is checked on the fly and never stored.
+//! The time unit and the timestamps' resolution are applied to the whole record's interval once,
+//! after parsing: nothing is added per cell.
 
+use super::channel::{Channel, Content, PLAIN_TIME_WORDS, Role, SECONDS_WORDS};
 use super::{Capture, LoadError, LoadErrorKind, LoadOptions, SourceFormat, Trace, pick_channels};
 use crate::warning::Warning;
 use std::fs::File;
@@ -28,10 +32,16 @@ pub(crate) struct Layout {
     data_offset: u64,
     /// 1-based line number of the first data row.
     data_line: u64,
+    /// 1-based line number of the header, if there is one.
+    header_line: Option<u64>,
     /// Column names (from the header, or `column N`).
     names: Vec<String>,
+    /// Every column as understood: unit, role, whether it holds numbers.
+    channels: Vec<Channel>,
     /// 0-based index of the time column, if any.
     time_col: Option<usize>,
+    /// How finely the time column is written, as seen in the first rows.
+    time_digits: Digits,
     /// Sample rate from a preamble, if any.
     preamble_rate_hz: Option<f64>,
     /// Average bytes per data row in the sample, to pre-size the columns.
@@ -79,18 +89,60 @@ fn unquote(cell: &[u8]) -> String {
     String::from_utf8_lossy(t).trim().to_string()
 }
 
-fn is_numeric_line(line: &[u8], d: u8, decimal_comma: bool, width: usize) -> bool {
+/// A row of full width whose number columns all hold numbers (other columns may hold anything).
+fn is_numeric_line(line: &[u8], d: u8, decimal_comma: bool, numeric: &[bool]) -> bool {
     let mut n = 0;
-    for cell in split(line, d) {
+    for (k, cell) in split(line, d).enumerate() {
         n += 1;
-        if parse_f64(cell, decimal_comma).is_none() {
+        if numeric.get(k) == Some(&true) && parse_f64(cell, decimal_comma).is_none() {
             return false;
         }
     }
-    n == width
+    n == numeric.len()
 }
 
-const TIME_NAMES: &[&str] = &["time", "t", "s", "sec", "secs", "second", "seconds", "x"];
+/// How many decimals the time column is written with: the coarsest seen among plain numbers
+/// (`0.000123`: 6) and among numbers with an exponent (`1.23e-04`: 2 in the mantissa).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+struct Digits {
+    fixed: Option<i32>,
+    scientific: Option<i32>,
+}
+
+impl Digits {
+    fn see(&mut self, cell: &[u8], decimal_comma: bool) {
+        let cell = cell.trim_ascii();
+        let (mantissa, has_exp) = match cell.iter().position(|&b| b == b'e' || b == b'E') {
+            Some(e) => (&cell[..e], true),
+            None => (cell, false),
+        };
+        let point = |b: &u8| *b == b'.' || (decimal_comma && *b == b',');
+        let decimals = mantissa
+            .iter()
+            .position(point)
+            .map_or(0, |p| (mantissa.len() - p - 1) as i32);
+        let slot = if has_exp {
+            &mut self.scientific
+        } else {
+            &mut self.fixed
+        };
+        *slot = Some(slot.map_or(decimals, |d| d.min(decimals)));
+    }
+
+    /// The step of the last written digit for values up to `magnitude`, in the file's unit.
+    fn resolution(&self, magnitude: f64) -> f64 {
+        let fixed = self.fixed.map_or(0.0, |d| 10f64.powi(-d));
+        let sci = self.scientific.map_or(0.0, |d| {
+            let e = if magnitude > 0.0 {
+                magnitude.log10().floor() as i32
+            } else {
+                0
+            };
+            10f64.powi(e - d)
+        });
+        fixed.max(sci)
+    }
+}
 
 /// Works out the layout from the first bytes of the file (BOM already removed by the caller).
 pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind> {
@@ -140,10 +192,36 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         });
     };
     let decimal_comma = delimiter == b';' && tail.iter().any(|l| l.contains(&b','));
-    // First data line: the first numeric row of full width.
+    // Which columns hold numbers: those whose cells parse on most full-width lines of the tail
+    // (blank, marker and text columns do not; they are left out unless chosen).
+    let full: Vec<Vec<&[u8]>> = tail
+        .iter()
+        .map(|l| split(l, delimiter).collect::<Vec<_>>())
+        .filter(|cells| cells.len() == width)
+        .collect();
+    let col_content: Vec<Content> = (0..width)
+        .map(|k| {
+            let numbers = full
+                .iter()
+                .filter(|c| parse_f64(c[k], decimal_comma).is_some())
+                .count();
+            if numbers * 2 > full.len() {
+                Content::Numbers
+            } else if full.iter().all(|c| c[k].trim_ascii().is_empty()) {
+                Content::Blank
+            } else {
+                Content::Text
+            }
+        })
+        .collect();
+    let numeric_cols: Vec<bool> = col_content.iter().map(|c| *c == Content::Numbers).collect();
+    if !numeric_cols.contains(&true) {
+        return Err(LoadErrorKind::HeaderOnly);
+    }
+    // First data line: the first row of full width with numbers in every number column.
     let numeric: Vec<bool> = content
         .iter()
-        .map(|&k| is_numeric_line(lines[k].1, delimiter, decimal_comma, width))
+        .map(|&k| is_numeric_line(lines[k].1, delimiter, decimal_comma, &numeric_cols))
         .collect();
     // A text row after the first numeric row is reported by the row parser with its line
     // number, never taken for preamble.
@@ -172,15 +250,36 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
     let data_idx = content[first];
     // Header: the content line just before the data, of full width, with no numeric field.
     let mut names: Option<Vec<String>> = None;
+    let mut header_idx = None;
     let mut preamble_end = first;
     if first > 0 {
         let cells = cells_of(first - 1);
         if cells.len() == width && !has_number(&cells) {
             names = Some(cells.iter().map(|c| unquote(c)).collect());
             preamble_end = first - 1;
+            header_idx = Some(content[first - 1]);
         }
     }
+    let has_header = names.is_some();
     let names = names.unwrap_or_else(|| (1..=width).map(|k| format!("column {k}")).collect());
+    let mut channels: Vec<Channel> = names
+        .iter()
+        .zip(&col_content)
+        .enumerate()
+        .map(|(k, (n, &c))| {
+            if has_header {
+                Channel::from_header(n, k + 1, c)
+            } else {
+                Channel::unnamed(n.clone(), k + 1, c)
+            }
+        })
+        .collect();
+    // A time-named column without numbers (date-times) is not the time base.
+    for c in &mut channels {
+        if c.role == Role::Time && c.content != Content::Numbers {
+            c.role = Role::Unknown;
+        }
+    }
     // Preamble: key<delim>value lines.
     let mut preamble_rate_hz = None;
     for &k in &content[..preamble_end] {
@@ -208,23 +307,40 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
     }
     // Time column: by name anywhere, else the first column when its values rise evenly.
     let data_lines: Vec<&[u8]> = content[first..].iter().map(|&k| lines[k].1).collect();
-    let time_col = names
+    let number_cols = numeric_cols.iter().filter(|&&n| n).count();
+    let time_col = channels
         .iter()
-        .position(|n| {
-            let b = super::base_name(n);
-            TIME_NAMES.contains(&b.as_str()) || b.starts_with("time")
-        })
+        .position(|c| c.role == Role::Time)
         .or_else(|| {
-            (width >= 3 && rises_evenly(&data_lines, delimiter, decimal_comma)).then_some(0)
+            (number_cols >= 3
+                && channels[0].role == Role::Unknown
+                && channels[0].unknown_unit.is_none()
+                && channels[0].content == Content::Numbers
+                && rises_evenly(&data_lines, delimiter, decimal_comma))
+            .then_some(0)
         });
+    if let Some(tc) = time_col {
+        channels[tc].role = Role::Time;
+    }
+    let mut time_digits = Digits::default();
+    if let Some(tc) = time_col {
+        for l in &data_lines {
+            if let Some(cell) = split(l, delimiter).nth(tc) {
+                time_digits.see(cell, decimal_comma);
+            }
+        }
+    }
     let data_bytes: usize = data_lines.iter().map(|l| l.len() + 1).sum();
     Ok(Layout {
         delimiter,
         decimal_comma,
         data_offset: lines[data_idx].0,
         data_line: data_idx as u64 + 1,
+        header_line: header_idx.map(|k| k as u64 + 1),
         names,
+        channels,
         time_col,
+        time_digits,
         preamble_rate_hz,
         bytes_per_row: data_bytes as f64 / data_lines.len().max(1) as f64,
     })
@@ -376,10 +492,14 @@ pub(crate) fn load_with(
     let layout = sniff(&sample[bom..], at_eof).map_err(|k| err(None, k))?;
     drop(sample);
 
-    let data: Vec<usize> = (0..layout.names.len())
-        .filter(|&c| Some(c) != layout.time_col)
-        .collect();
-    let (vc, ic) = pick_channels(&layout.names, &data, opts).map_err(|k| err(None, k))?;
+    let picked = pick_channels(
+        &layout.channels,
+        opts.voltage.as_ref(),
+        opts.current.as_ref(),
+        opts.force_channels,
+    )
+    .map_err(|k| err(layout.header_line, k))?;
+    let (vc, ic) = (picked.voltage, picked.current);
     let spec = row_spec(&layout, vc, ic);
     let data_start = bom as u64 + layout.data_offset;
 
@@ -397,15 +517,31 @@ pub(crate) fn load_with(
         return Err(err(None, LoadErrorKind::TooShort(v.len())));
     }
 
-    let mut warnings = Vec::new();
-    let file_rate = if layout.time_col.is_some() {
-        let (rate, jitter) = time.rate_and_jitter();
+    let mut warnings = picked.warnings;
+    let time_channel = layout.time_col.map(|tc| layout.channels[tc].clone());
+    let file_rate = if let Some(tc) = &time_channel {
+        // Interval jitter is judged beyond the timestamps' own resolution: two roundings to
+        // the last written digit move one interval by up to one step.
+        let resolution = layout
+            .time_digits
+            .resolution(time.first.abs().max(time.last.abs()));
+        let (interval, jitter) = time.interval_and_jitter(resolution);
         if jitter > JITTER_WARN {
             warnings.push(Warning::TimeJitter {
                 percent: jitter * 100.0,
             });
         }
-        Some(rate)
+        if tc.unit.is_none() {
+            let base = super::channel::split_header(&tc.name).0.to_lowercase();
+            let said =
+                SECONDS_WORDS.contains(&base.as_str()) || PLAIN_TIME_WORDS.contains(&base.as_str());
+            if !said {
+                warnings.push(Warning::TimeUnitAssumed {
+                    column: format!("'{}' (column {})", tc.name, tc.column),
+                });
+            }
+        }
+        Some(1.0 / (interval * tc.scale()))
     } else {
         layout.preamble_rate_hz
     };
@@ -433,15 +569,18 @@ pub(crate) fn load_with(
         },
         sample_rate_hz,
         voltage: Trace {
-            name: layout.names[vc].clone(),
+            channel: layout.channels[vc].clone(),
+            chosen_by: picked.voltage_by,
             samples: v,
             full_scale: None,
         },
         current: Trace {
-            name: layout.names[ic].clone(),
+            channel: layout.channels[ic].clone(),
+            chosen_by: picked.current_by,
             samples: i,
             full_scale: None,
         },
+        time: time_channel,
         warnings,
     })
 }
@@ -597,11 +736,12 @@ impl TimeCheck {
         Ok(())
     }
 
-    /// Mean rate in Hz and the largest relative deviation of one interval from the mean.
-    fn rate_and_jitter(&self) -> (f64, f64) {
+    /// Mean interval (file units) and the largest deviation of one interval from it beyond
+    /// `resolution`, relative to the mean.
+    fn interval_and_jitter(&self, resolution: f64) -> (f64, f64) {
         let mean = (self.last - self.first) / (self.n - 1) as f64;
-        let jitter = ((self.max_dt - mean).max(mean - self.min_dt)) / mean;
-        (1.0 / mean, jitter)
+        let deviation = (self.max_dt - mean).max(mean - self.min_dt);
+        (mean, (deviation - resolution).max(0.0) / mean)
     }
 }
 
@@ -1154,10 +1294,8 @@ mod tests {
             0
         };
         let layout = sniff(&sample[bom..], sample.len() as u64 >= len).unwrap();
-        let data: Vec<usize> = (0..layout.names.len())
-            .filter(|&c| Some(c) != layout.time_col)
-            .collect();
-        let (vc, ic) = pick_channels(&layout.names, &data, &LoadOptions::default()).unwrap();
+        let p = pick_channels(&layout.channels, None, None, false).unwrap();
+        let (vc, ic) = (p.voltage, p.current);
         let spec = row_spec(&layout, vc, ic);
         let start = bom as u64 + layout.data_offset;
         let fast = fast::read(&mut file, path, start, len, &spec, &layout, tuning);

@@ -84,6 +84,36 @@ pub enum LoadErrorKind {
         /// The 1-based index given.
         index: usize,
     },
+    /// The channels cannot be told apart: which is the voltage or the current is not said.
+    #[error(
+        "cannot tell which channel is the {what}: {why}: {channels}; say which with {hint} \
+         (numbers count the file's columns, the time column too)"
+    )]
+    Ambiguous {
+        /// "voltage", "current" or "voltage and current".
+        what: &'static str,
+        /// Why not.
+        why: String,
+        /// The candidates, each with its column, name, role and unit.
+        channels: String,
+        /// The options that would say it.
+        hint: String,
+    },
+    /// A channel chosen as one quantity is the other by its unit or name.
+    #[error(
+        "the {what} channel chosen, {channel}, is a {is} by {by}: choose a {what} channel, \
+         or add --force-channels if the header is wrong"
+    )]
+    WrongRole {
+        /// "voltage" or "current".
+        what: &'static str,
+        /// The channel, described.
+        channel: String,
+        /// What it is.
+        is: &'static str,
+        /// "its unit (V)" or "its name".
+        by: String,
+    },
     /// Voltage and current point at the same channel.
     #[error("voltage and current are both channel {index}")]
     SameChannel {

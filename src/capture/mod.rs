@@ -8,10 +8,13 @@
 //! means WAV, readable text means CSV (also `.tsv` and `.txt`). Scaling, skew and cycle selection
 //! are later stages ([`crate::condition`]).
 
+mod channel;
 mod csv;
 mod error;
 mod wav;
 
+pub(crate) use channel::pick_channels;
+pub use channel::{Channel, ChosenBy, Content, Phase, Role, Unit, parse_unit, split_header};
 pub use error::{LoadError, LoadErrorKind};
 
 use crate::warning::Warning;
@@ -22,7 +25,7 @@ use std::path::{Path, PathBuf};
 /// How a channel is chosen: by 1-based index or by (case-insensitive) name.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum ChannelSel {
-    /// 1-based column or WAV channel number (the time column counts in a CSV).
+    /// 1-based column of the file (the time column counts) or WAV channel number.
     Index(usize),
     /// A header name; units in brackets are ignored ("Voltage (V)" matches "voltage").
     Name(String),
@@ -50,12 +53,15 @@ impl fmt::Display for ChannelSel {
 /// What the loader needs to know beyond the file itself.
 #[derive(Debug, Clone, Default)]
 pub struct LoadOptions {
-    /// The voltage channel; default: a column named like a voltage, else the first data channel.
+    /// The voltage channel; default: the one channel in volts or named like a voltage (see
+    /// [`pick_channels`]).
     pub voltage: Option<ChannelSel>,
-    /// The current channel; default: a column named like a current, else the second data channel.
+    /// The current channel; default: the one channel in amperes or named like a current.
     pub current: Option<ChannelSel>,
     /// Sample rate in Hz, for files without a time base (or to override it).
     pub rate_hz: Option<f64>,
+    /// Use the chosen channels even when their unit or name says the other quantity.
+    pub force_channels: bool,
 }
 
 /// The file format a capture was read from.
@@ -112,12 +118,75 @@ impl fmt::Display for SourceFormat {
 /// One selected trace.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Trace {
-    /// The channel's name as in the file (WAV: `channel N`).
-    pub name: String,
-    /// Samples, in the file's units (WAV: full scale = 1.0).
+    /// The channel: name as in the file (WAV: `channel N`), 1-based column, unit, role.
+    pub channel: Channel,
+    /// How it was chosen.
+    pub chosen_by: ChosenBy,
+    /// Samples, in the file's units (WAV: full scale = 1.0); [`Channel::scale`] turns them into
+    /// volts or amperes ([`crate::condition::scale`] applies it).
     pub samples: Vec<f64>,
-    /// The instrument's full-scale rails, where the format tells them (WAV: ±1.0).
+    /// The instrument's full-scale rails, where the format tells them (WAV: ±1.0), in the file's
+    /// units.
     pub full_scale: Option<f64>,
+}
+
+impl Trace {
+    /// A trace of a channel nothing is known about (synthetic captures, tests).
+    pub fn plain(name: &str, column: usize, samples: Vec<f64>) -> Self {
+        Trace {
+            channel: Channel::unnamed(name.to_string(), column, Content::Numbers),
+            chosen_by: ChosenBy::Option,
+            samples,
+            full_scale: None,
+        }
+    }
+}
+
+/// The channels an analysis used, as the loader understood them (for every output).
+#[derive(Debug, Clone, PartialEq)]
+pub struct UsedChannels {
+    /// The voltage channel.
+    pub voltage: Channel,
+    /// How it was chosen.
+    pub voltage_by: ChosenBy,
+    /// The current channel.
+    pub current: Channel,
+    /// How it was chosen.
+    pub current_by: ChosenBy,
+    /// The time column, if the rate came from one.
+    pub time: Option<Channel>,
+}
+
+impl UsedChannels {
+    /// `voltage 'CH1(V)' column 2 (V, by unit), current 'CH3(A)' column 4 (A, by unit), time
+    /// 'TIME' column 1 (s)`: the line every human-readable output prints.
+    pub fn describe(&self) -> String {
+        let one = |what: &str, c: &Channel, by: Option<ChosenBy>| {
+            let unit = match (c.unit_symbol(), by) {
+                (Some(u), _) => u,
+                (None, Some(_)) => "no unit",
+                (None, None) => "read as s",
+            };
+            let mut about = vec![unit.to_string()];
+            if let Some(by) = by {
+                about.push(format!("by {by}"));
+            }
+            format!(
+                "{what} '{}' column {} ({})",
+                c.name,
+                c.column,
+                about.join(", ")
+            )
+        };
+        let mut parts = vec![
+            one("voltage", &self.voltage, Some(self.voltage_by)),
+            one("current", &self.current, Some(self.current_by)),
+        ];
+        if let Some(t) = &self.time {
+            parts.push(one("time", t, None));
+        }
+        parts.join(", ")
+    }
 }
 
 /// A loaded capture: two traces on one uniform time base.
@@ -133,6 +202,8 @@ pub struct Capture {
     pub voltage: Trace,
     /// The current trace.
     pub current: Trace,
+    /// The time column the rate came from (CSV), with its unit.
+    pub time: Option<Channel>,
     /// Doubts found while loading (uneven time base, rate mismatch).
     pub warnings: Vec<Warning>,
 }
@@ -141,6 +212,17 @@ impl Capture {
     /// Number of samples per trace.
     pub fn len(&self) -> usize {
         self.voltage.samples.len()
+    }
+
+    /// The channels used, without their samples.
+    pub fn used_channels(&self) -> UsedChannels {
+        UsedChannels {
+            voltage: self.voltage.channel.clone(),
+            voltage_by: self.voltage.chosen_by,
+            current: self.current.channel.clone(),
+            current_by: self.current.chosen_by,
+            time: self.time.clone(),
+        }
     }
 
     /// True when the capture holds no samples.
@@ -197,130 +279,14 @@ pub fn base_name(name: &str) -> String {
     s.trim().to_string()
 }
 
-const VOLTAGE_NAMES: &[&str] = &["v", "u", "voltage", "volt", "volts", "vac", "v1", "u1"];
-const CURRENT_NAMES: &[&str] = &["i", "current", "amp", "amps", "ampere", "iac", "i1"];
-
-fn looks_like(name: &str, list: &[&str]) -> bool {
-    let b = base_name(name);
-    list.contains(&b.as_str()) || list.iter().any(|w| w.len() > 2 && b.starts_with(w))
-}
-
-/// Picks the voltage and current channels (0-based) among `names`.
-///
-/// `data` lists the candidate channels in order (a CSV's time column is left out of it);
-/// explicit selections may still name any channel except the time column.
-pub(crate) fn pick_channels(
-    names: &[String],
-    data: &[usize],
-    opts: &LoadOptions,
-) -> Result<(usize, usize), LoadErrorKind> {
-    if data.len() < 2 && (opts.voltage.is_none() || opts.current.is_none()) {
-        return Err(LoadErrorKind::OneChannel);
-    }
-    let find = |sel: &ChannelSel, what: &'static str| -> Result<usize, LoadErrorKind> {
-        match sel {
-            ChannelSel::Index(n) => {
-                if *n == 0 || *n > names.len() {
-                    Err(LoadErrorKind::NoSuchChannel {
-                        what,
-                        sel: sel.clone(),
-                        available: names.to_vec(),
-                    })
-                } else if !data.contains(&(n - 1)) {
-                    Err(LoadErrorKind::TimeColumnSelected { what, index: *n })
-                } else {
-                    Ok(n - 1)
-                }
-            }
-            ChannelSel::Name(want) => {
-                let w = want.to_ascii_lowercase();
-                let wb = base_name(want);
-                names
-                    .iter()
-                    .position(|n| n.to_ascii_lowercase() == w)
-                    .or_else(|| names.iter().position(|n| base_name(n) == wb))
-                    .ok_or_else(|| LoadErrorKind::NoSuchChannel {
-                        what,
-                        sel: sel.clone(),
-                        available: names.to_vec(),
-                    })
-            }
-        }
-    };
-    let v = match &opts.voltage {
-        Some(sel) => find(sel, "voltage")?,
-        None => data
-            .iter()
-            .copied()
-            .find(|&c| looks_like(&names[c], VOLTAGE_NAMES))
-            .unwrap_or(data[0]),
-    };
-    let i = match &opts.current {
-        Some(sel) => find(sel, "current")?,
-        None => data
-            .iter()
-            .copied()
-            .find(|&c| c != v && looks_like(&names[c], CURRENT_NAMES))
-            .or_else(|| data.iter().copied().find(|&c| c != v))
-            .ok_or(LoadErrorKind::OneChannel)?,
-    };
-    if v == i {
-        return Err(LoadErrorKind::SameChannel { index: v + 1 });
-    }
-    Ok((v, i))
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn names(v: &[&str]) -> Vec<String> {
-        v.iter().map(|s| s.to_string()).collect()
-    }
 
     #[test]
     fn units_in_header_names_are_ignored() {
         assert_eq!(base_name("Voltage (V)"), "voltage");
         assert_eq!(base_name("I [A]"), "i");
         assert_eq!(base_name(" CH1 "), "ch1");
-    }
-
-    #[test]
-    fn channels_are_found_by_name_whatever_the_order() {
-        let n = names(&["Time (s)", "I [A]", "Voltage (V)"]);
-        let got = pick_channels(&n, &[1, 2], &LoadOptions::default()).unwrap();
-        assert_eq!(got, (2, 1));
-    }
-
-    #[test]
-    fn unnamed_channels_default_to_first_and_second() {
-        let n = names(&["CH1", "CH2", "CH3"]);
-        assert_eq!(
-            pick_channels(&n, &[0, 1, 2], &LoadOptions::default()).unwrap(),
-            (0, 1)
-        );
-    }
-
-    #[test]
-    fn explicit_selection_by_index_and_name() {
-        let n = names(&["t", "a", "b", "c"]);
-        let opts = LoadOptions {
-            voltage: Some(ChannelSel::parse("4")),
-            current: Some(ChannelSel::parse("B")),
-            rate_hz: None,
-        };
-        assert_eq!(pick_channels(&n, &[1, 2, 3], &opts).unwrap(), (3, 2));
-    }
-
-    #[test]
-    fn selecting_a_missing_channel_names_the_choices() {
-        let n = names(&["t", "a", "b"]);
-        let opts = LoadOptions {
-            voltage: Some(ChannelSel::parse("volts")),
-            ..Default::default()
-        };
-        let e = pick_channels(&n, &[1, 2], &opts).unwrap_err();
-        assert!(e.to_string().contains("'volts'"), "{e}");
-        assert!(e.to_string().contains("t, a, b"), "{e}");
     }
 }

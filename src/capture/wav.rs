@@ -21,7 +21,9 @@
 #[path = "riff.rs"]
 mod riff;
 
-use super::{Capture, LoadError, LoadErrorKind, LoadOptions, SourceFormat, Trace};
+use super::{
+    Capture, Channel, Content, LoadError, LoadErrorKind, LoadOptions, SourceFormat, Trace,
+};
 use crate::warning::Warning;
 use riff::{Encoding, WavHeader};
 use std::fs::File;
@@ -68,10 +70,18 @@ fn load_with(
     if h.channels < 2 {
         return Err(LoadErrorKind::OneChannel);
     }
-    let names: Vec<String> = (1..=h.channels).map(|n| format!("channel {n}")).collect();
-    let all: Vec<usize> = (0..names.len()).collect();
-    let (vi, ii) = super::pick_channels(&names, &all, opts)?;
-    let (sample_rate_hz, warnings) = sample_rate(h.rate_hz, opts.rate_hz)?;
+    let channels: Vec<Channel> = (1..=usize::from(h.channels))
+        .map(|n| Channel::unnamed(format!("channel {n}"), n, Content::Numbers))
+        .collect();
+    let chosen = super::pick_channels(
+        &channels,
+        opts.voltage.as_ref(),
+        opts.current.as_ref(),
+        opts.force_channels,
+    )?;
+    let (vi, ii) = (chosen.voltage, chosen.current);
+    let (sample_rate_hz, mut warnings) = sample_rate(h.rate_hz, opts.rate_hz)?;
+    warnings.extend(chosen.warnings);
     let frames = frame_count(&h, file_len)?;
 
     let pick = Picked {
@@ -94,8 +104,9 @@ fn load_with(
         check_finite(&current, ii)?;
     }
 
-    let trace = |index: usize, samples: Vec<f64>| Trace {
-        name: names[index].clone(),
+    let trace = |index: usize, chosen_by, samples: Vec<f64>| Trace {
+        channel: channels[index].clone(),
+        chosen_by,
         samples,
         full_scale: Some(1.0),
     };
@@ -107,8 +118,9 @@ fn load_with(
             channels: h.channels,
         },
         sample_rate_hz,
-        voltage: trace(vi, voltage),
-        current: trace(ii, current),
+        voltage: trace(vi, chosen.voltage_by, voltage),
+        current: trace(ii, chosen.current_by, current),
+        time: None,
         warnings,
     })
 }
@@ -518,8 +530,9 @@ mod tests {
         .unwrap();
         assert_eq!(c.voltage.samples, [0.5, 32767.0 / 32768.0, 0.0]);
         assert_eq!(c.current.samples, [-0.5, -1.0, 1.0 / 32768.0]);
-        assert_eq!(c.voltage.name, "channel 1");
-        assert_eq!(c.current.name, "channel 2");
+        assert_eq!(c.voltage.channel.name, "channel 1");
+        assert_eq!(c.current.channel.name, "channel 2");
+        assert_eq!(c.voltage.chosen_by, crate::capture::ChosenBy::Order);
         assert_eq!(c.voltage.full_scale, Some(1.0));
         assert_eq!(c.sample_rate_hz, 8000.0);
         assert_eq!(
@@ -530,7 +543,9 @@ mod tests {
                 channels: 2
             }
         );
-        assert!(c.warnings.is_empty());
+        // Two unnamed channels are taken in order, and the output says so.
+        assert_eq!(c.warnings.len(), 1, "{:?}", c.warnings);
+        assert_eq!(c.warnings[0].code(), "channel-assumed");
     }
 
     #[test]
@@ -665,7 +680,16 @@ mod tests {
     fn sixty_four_bit_float_in_an_extensible_header_is_read() {
         let vals = [0.1f64, 0.2, 0.3, 0.4, 0.5, 0.6];
         let data: Vec<u8> = vals.iter().flat_map(|x| x.to_le_bytes()).collect();
-        let c = load_bytes(&riff(&[fmt_ext(3, 1000, 64, 64, 3), chunk(b"data", &data)])).unwrap();
+        let (_dir, path) = write(&riff(&[fmt_ext(3, 1000, 64, 64, 3), chunk(b"data", &data)]));
+        // Three unnamed channels: which two is not guessed.
+        let e = load(&path, &LoadOptions::default()).unwrap_err();
+        assert!(matches!(e.kind, LoadErrorKind::Ambiguous { .. }), "{e}");
+        let opts = LoadOptions {
+            voltage: Some(ChannelSel::Index(1)),
+            current: Some(ChannelSel::Index(2)),
+            ..Default::default()
+        };
+        let c = load(&path, &opts).unwrap();
         assert_eq!(c.voltage.samples, [0.1, 0.4]);
         assert_eq!(c.current.samples, [0.2, 0.5]);
     }
@@ -759,7 +783,7 @@ mod tests {
         let opts = LoadOptions {
             voltage: Some(ChannelSel::Index(3)),
             current: Some(ChannelSel::Index(1)),
-            rate_hz: None,
+            ..Default::default()
         };
         for (bits, float) in [
             (8, false),
@@ -776,7 +800,7 @@ mod tests {
             let first: Vec<f64> = expected.iter().step_by(3).copied().collect();
             assert_eq!(hound.voltage.samples, third, "{bits}-bit float={float}");
             assert_eq!(hound.current.samples, first, "{bits}-bit float={float}");
-            assert_eq!(hound.voltage.name, "channel 3");
+            assert_eq!(hound.voltage.channel.name, "channel 3");
         }
     }
 
@@ -934,8 +958,15 @@ mod tests {
         };
         let c = load(&path, &opts(8001.0)).unwrap();
         assert_eq!(c.sample_rate_hz, 8001.0);
+        let rate_warnings = |c: &Capture| -> Vec<Warning> {
+            c.warnings
+                .iter()
+                .filter(|w| matches!(w, Warning::RateMismatch { .. }))
+                .cloned()
+                .collect()
+        };
         assert_eq!(
-            c.warnings,
+            rate_warnings(&c),
             [Warning::RateMismatch {
                 given_hz: 8001.0,
                 file_hz: 8000.0
@@ -943,7 +974,7 @@ mod tests {
         );
         let same = load(&path, &opts(8000.0 * (1.0 + 1e-12))).unwrap();
         assert_eq!(same.sample_rate_hz, 8000.0);
-        assert!(same.warnings.is_empty());
+        assert!(rate_warnings(&same).is_empty());
         let e = load(&path, &opts(-5.0)).unwrap_err();
         assert!(matches!(e.kind, LoadErrorKind::BadRate(r) if r == -5.0));
     }
@@ -956,10 +987,10 @@ mod tests {
         let opts = LoadOptions {
             voltage: Some(ChannelSel::parse("channel 4")),
             current: Some(ChannelSel::parse("2")),
-            rate_hz: None,
+            ..Default::default()
         };
         let c = load(&path, &opts).unwrap();
-        assert_eq!(c.voltage.name, "channel 4");
+        assert_eq!(c.voltage.channel.name, "channel 4");
         assert_eq!(c.voltage.samples, [400.0 / 32768.0, 401.0 / 32768.0]);
         assert_eq!(c.current.samples, [200.0 / 32768.0, 201.0 / 32768.0]);
         let bad = LoadOptions {

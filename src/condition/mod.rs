@@ -12,23 +12,18 @@
 use crate::capture::Capture;
 use std::f64::consts::PI;
 
-/// Multiplies the traces by the probe or clamp ratios (volts per unit, amperes per unit).
+/// Multiplies the traces by the probe or clamp ratios (volts per unit, amperes per unit) and by
+/// their header units' scale (a `mV` column is in volts afterwards), in one pass per trace.
 pub fn scale(capture: &mut Capture, v_scale: f64, i_scale: f64) {
-    if v_scale != 1.0 {
-        capture
-            .voltage
-            .samples
-            .iter_mut()
-            .for_each(|x| *x *= v_scale);
-        capture.voltage.full_scale = capture.voltage.full_scale.map(|f| f * v_scale.abs());
-    }
-    if i_scale != 1.0 {
-        capture
-            .current
-            .samples
-            .iter_mut()
-            .for_each(|x| *x *= i_scale);
-        capture.current.full_scale = capture.current.full_scale.map(|f| f * i_scale.abs());
+    for (trace, ratio) in [
+        (&mut capture.voltage, v_scale),
+        (&mut capture.current, i_scale),
+    ] {
+        let k = ratio * trace.channel.scale();
+        if k != 1.0 {
+            trace.samples.iter_mut().for_each(|x| *x *= k);
+            trace.full_scale = trace.full_scale.map(|f| f * k.abs());
+        }
     }
 }
 

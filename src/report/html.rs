@@ -640,13 +640,12 @@ fn capture_section(
     )?;
     writeln!(
         h,
-        "<p class=\"note\">{} · {} Hz · {} samples · voltage channel ‘{}’, current channel ‘{}’ \
+        "<p class=\"note\">{} · {} Hz · {} samples · {} \
          · {} cycles ({} whole) · harmonics to order {} · U with k = {} over {} sub-records</p>",
         escape(&a.format.to_string()),
         num(a.sample_rate_hz, 6),
         a.samples,
-        escape(&a.voltage_channel),
-        escape(&a.current_channel),
+        escape(&a.channels.describe()),
         num(q.cycles, 4),
         q.whole_cycles,
         q.harmonic_order,

@@ -135,13 +135,12 @@ impl Exporter for TableExporter {
         writeln!(out, "{}", a.path.display())?;
         writeln!(
             out,
-            "  source       {} | {} Hz | {} samples | voltage '{}', current '{}'",
+            "  source       {} | {} Hz | {} samples",
             a.format,
             num(a.sample_rate_hz, 6),
             a.samples,
-            a.voltage_channel,
-            a.current_channel
         )?;
+        writeln!(out, "  channels     {}", a.channels.describe())?;
         writeln!(
             out,
             "  frequency    {} | {} cycles, {} whole | uncertainties: k = {}, {} windows",

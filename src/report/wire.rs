@@ -9,6 +9,7 @@
 //! defined (no fundamental, so no angle) is `null`.
 
 use crate::analysis::{Analysis, Settings};
+use crate::capture::{Channel, ChosenBy, UsedChannels};
 use crate::check::expected::Expected;
 use crate::quantity::power::Powers;
 use crate::quantity::uncertainty::Uncertainty;
@@ -26,7 +27,7 @@ pub struct AnalysisRecord {
     pub sample_rate_hz: f64,
     /// Samples per trace.
     pub samples: usize,
-    /// Channel names in the file.
+    /// The channels used: name, 1-based column, unit as understood, how chosen.
     pub channels: Channels,
     /// Settings used.
     pub settings: Settings,
@@ -67,13 +68,71 @@ pub struct AnalysisRecord {
     pub harmonics: Vec<HarmonicLine>,
 }
 
-/// Channel names.
+/// The channels used.
 #[derive(Debug, Clone, Serialize)]
 pub struct Channels {
     /// Voltage channel.
-    pub voltage: String,
+    pub voltage: ChannelRecord,
     /// Current channel.
-    pub current: String,
+    pub current: ChannelRecord,
+    /// The time column (all keys `null` when the rate came from elsewhere).
+    pub time: TimeRecord,
+}
+
+/// One channel as the loader understood it.
+#[derive(Debug, Clone, Serialize)]
+pub struct ChannelRecord {
+    /// Its name in the file (`channel N` for WAV).
+    pub name: String,
+    /// 1-based column of the file, the time column counted (WAV: channel number).
+    pub column: usize,
+    /// Its unit as read from the header (`V`, `mV`, `A`, `kA`...); `null` when it gives none.
+    pub unit: Option<String>,
+    /// Volts or amperes per unit of the file, from the header's unit (before the probe ratio).
+    pub unit_scale: f64,
+    /// How it was chosen: `option`, `unit`, `name`, `phase` or `column order`.
+    pub chosen_by: ChosenBy,
+}
+
+/// The time column.
+#[derive(Debug, Clone, Serialize)]
+pub struct TimeRecord {
+    /// Its name in the file.
+    pub name: Option<String>,
+    /// 1-based column.
+    pub column: Option<usize>,
+    /// Its unit as read from the header (`s`, `ms`, `µs`, `ns`); `null` when none is given
+    /// (then read as seconds, see the README).
+    pub unit: Option<String>,
+}
+
+impl ChannelRecord {
+    fn new(c: &Channel, by: ChosenBy) -> Self {
+        ChannelRecord {
+            name: c.name.clone(),
+            column: c.column,
+            unit: c.unit_symbol().map(str::to_string),
+            unit_scale: c.scale(),
+            chosen_by: by,
+        }
+    }
+}
+
+impl From<&UsedChannels> for Channels {
+    fn from(u: &UsedChannels) -> Self {
+        Channels {
+            voltage: ChannelRecord::new(&u.voltage, u.voltage_by),
+            current: ChannelRecord::new(&u.current, u.current_by),
+            time: TimeRecord {
+                name: u.time.as_ref().map(|t| t.name.clone()),
+                column: u.time.as_ref().map(|t| t.column),
+                unit: u
+                    .time
+                    .as_ref()
+                    .and_then(|t| t.unit_symbol().map(str::to_string)),
+            },
+        }
+    }
 }
 
 /// The phase angle by both methods.
@@ -93,10 +152,7 @@ impl From<&Analysis> for AnalysisRecord {
             format: a.format.to_string(),
             sample_rate_hz: a.sample_rate_hz,
             samples: a.samples,
-            channels: Channels {
-                voltage: a.voltage_channel.clone(),
-                current: a.current_channel.clone(),
-            },
+            channels: Channels::from(&a.channels),
             settings: a.settings,
             frequency_hz: q.frequency_hz,
             cycles: q.cycles,
@@ -173,11 +229,7 @@ pub fn analysis_columns() -> Vec<String> {
         Waveform::sine(230.0, 0.0).with(3, 2.0, 0.0),
         Waveform::sine(10.0, -30.0).with(3, 1.0, 0.0),
     ));
-    let trace = |name: &str, samples| Trace {
-        name: name.into(),
-        samples,
-        full_scale: None,
-    };
+    let trace = |name: &str, column, samples| Trace::plain(name, column, samples);
     let capture = Capture {
         path: "synthetic".into(),
         format: SourceFormat::Csv {
@@ -185,8 +237,9 @@ pub fn analysis_columns() -> Vec<String> {
             decimal_comma: false,
         },
         sample_rate_hz: 5_000.0,
-        voltage: trace("v", v),
-        current: trace("i", i),
+        voltage: trace("v", 1, v),
+        current: trace("i", 2, i),
+        time: None,
         warnings: Vec::new(),
     };
     match crate::analysis::analyze(capture, &crate::analysis::Settings::default()) {
