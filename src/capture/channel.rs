@@ -13,7 +13,7 @@
 //! use. The role model (quantity + phase) is the one a three-phase reading extends.
 
 use super::ChannelSel;
-use super::error::LoadErrorKind;
+use super::error::{Ambiguity, LoadErrorKind, WrongRole};
 use crate::warning::{Trace, Warning};
 use std::fmt;
 
@@ -493,7 +493,7 @@ pub(crate) fn pick_channels(
     for (what, got, cands) in [("voltage", v, &vs), ("current", i, &is)] {
         if got.is_none() && cands.len() > 1 {
             let list: Vec<&Channel> = cands.iter().map(|&k| &channels[k]).collect();
-            return Err(LoadErrorKind::Ambiguous {
+            return Err(LoadErrorKind::Ambiguous(Box::new(Ambiguity {
                 what,
                 why: format!("{} channels are {what}s", cands.len()),
                 channels: listing(&list),
@@ -501,7 +501,7 @@ pub(crate) fn pick_channels(
                     v.map(|x| x.0).or((what == "voltage").then_some(cands[0])),
                     i.map(|x| x.0).or((what == "current").then_some(cands[0])),
                 ),
-            });
+            })));
         }
     }
     // What is left: data channels nothing says anything about.
@@ -539,12 +539,12 @@ pub(crate) fn pick_channels(
             return Err(LoadErrorKind::OneChannel);
         }
         let list: Vec<&Channel> = data.iter().map(|&k| &channels[k]).collect();
-        return Err(LoadErrorKind::Ambiguous {
+        return Err(LoadErrorKind::Ambiguous(Box::new(Ambiguity {
             what,
             why: "no name or unit says which channel it is".into(),
             channels: listing(&list),
             hint: hint(v.map(|x| x.0), i.map(|x| x.0)),
-        });
+        })));
     };
     if vk == ik {
         return Err(LoadErrorKind::SameChannel {
@@ -635,12 +635,12 @@ fn find(
             None => "its name".to_string(),
         };
         if !force {
-            return Err(LoadErrorKind::WrongRole {
+            return Err(LoadErrorKind::WrongRole(Box::new(WrongRole {
                 what,
                 channel: c.describe(),
                 is: other.as_str(),
                 by,
-            });
+            })));
         }
         warnings.push(Warning::ChannelForced {
             trace,

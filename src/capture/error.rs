@@ -85,35 +85,11 @@ pub enum LoadErrorKind {
         index: usize,
     },
     /// The channels cannot be told apart: which is the voltage or the current is not said.
-    #[error(
-        "cannot tell which channel is the {what}: {why}: {channels}; say which with {hint} \
-         (numbers count the file's columns, the time column too)"
-    )]
-    Ambiguous {
-        /// "voltage", "current" or "voltage and current".
-        what: &'static str,
-        /// Why not.
-        why: String,
-        /// The candidates, each with its column, name, role and unit.
-        channels: String,
-        /// The options that would say it.
-        hint: String,
-    },
+    #[error("{0}")]
+    Ambiguous(Box<Ambiguity>),
     /// A channel chosen as one quantity is the other by its unit or name.
-    #[error(
-        "the {what} channel chosen, {channel}, is a {is} by {by}: choose a {what} channel, \
-         or add --force-channels if the header is wrong"
-    )]
-    WrongRole {
-        /// "voltage" or "current".
-        what: &'static str,
-        /// The channel, described.
-        channel: String,
-        /// What it is.
-        is: &'static str,
-        /// "its unit (V)" or "its name".
-        by: String,
-    },
+    #[error("{0}")]
+    WrongRole(Box<WrongRole>),
     /// Voltage and current point at the same channel.
     #[error("voltage and current are both channel {index}")]
     SameChannel {
@@ -177,4 +153,38 @@ pub enum LoadErrorKind {
     /// Fewer than two samples.
     #[error("only {0} sample(s): too short to analyse")]
     TooShort(usize),
+}
+
+/// Which channel is the voltage or the current is not said (see [`LoadErrorKind::Ambiguous`]).
+#[derive(Debug, thiserror::Error)]
+#[error(
+    "cannot tell which channel is the {what}: {why}: {channels}; say which with {hint} \
+     (numbers count the file's columns, the time column too)"
+)]
+pub struct Ambiguity {
+    /// "voltage", "current" or "voltage and the current".
+    pub what: &'static str,
+    /// Why not.
+    pub why: String,
+    /// The candidates, each with its column, name, role and unit.
+    pub channels: String,
+    /// The options that would say it.
+    pub hint: String,
+}
+
+/// A channel chosen against its unit or name (see [`LoadErrorKind::WrongRole`]).
+#[derive(Debug, thiserror::Error)]
+#[error(
+    "the {what} channel chosen, {channel}, is a {is} by {by}: choose a {what} channel, \
+     or add --force-channels if the header is wrong"
+)]
+pub struct WrongRole {
+    /// "voltage" or "current".
+    pub what: &'static str,
+    /// The channel, described.
+    pub channel: String,
+    /// What it is.
+    pub is: &'static str,
+    /// "its unit (V)" or "its name".
+    pub by: String,
 }

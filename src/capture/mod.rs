@@ -15,7 +15,7 @@ mod wav;
 
 pub(crate) use channel::pick_channels;
 pub use channel::{Channel, ChosenBy, Content, Phase, Role, Unit, parse_unit, split_header};
-pub use error::{LoadError, LoadErrorKind};
+pub use error::{Ambiguity, LoadError, LoadErrorKind, WrongRole};
 
 use crate::warning::Warning;
 use std::fmt;
