@@ -440,3 +440,99 @@ fn exported_power_at_150_degrees_is_capacitive_and_a_lead_negative_meter_passes(
     let a: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(a["character"], "leading", "{a}");
 }
+
+/// The true load: 230 V, 50 A, 30° lagging: P = 11 500·cos 30°, Q = 11 500·sin 30° (handbook
+/// arithmetic), as a meter within its class would show it.
+fn true_reading() -> String {
+    let s = 230.0 * 50.0;
+    let (sin, cos) = 30f64.to_radians().sin_cos();
+    format!(
+        "pf={cos:.4},p={:.1}W,q={:.1}var,s={s:.1}VA,v=230V,i=50A",
+        s * cos,
+        s * sin
+    )
+}
+
+/// A clipped current trace (the scope's range at 80 % of the 70.7 A peak) reads I, P and S low
+/// by one factor while PF agrees: the pattern of a wrong CT ratio. The capture cannot support a
+/// verdict, so every check resting on the current is inconclusive and no CT ratio is blamed.
+#[test]
+fn a_clipped_current_trace_is_inconclusive_and_blames_no_ct_ratio() {
+    let dir = tempfile::TempDir::new().unwrap();
+    let spec = sine_spec(Waveform::sine(50.0, -30.0));
+    let top = 0.8 * 50.0 * 2f64.sqrt();
+    let path = synthetic(dir.path(), "clipped.csv", &spec, &|x| x.clamp(-top, top));
+    let (code, r) = meter_on(&path, &["--class", "1", "--reading", &true_reading()]);
+    assert_eq!(code, 0, "{r}");
+    for c in r["checks"].as_array().unwrap() {
+        let note = c["note"].as_str().unwrap_or("");
+        if c["quantity"] == "v" {
+            // the voltage trace is clean: its check stands
+            assert_eq!(c["verdict"], "pass", "{c}");
+        } else {
+            assert_eq!(c["verdict"], "inconclusive", "{c}");
+            assert!(note.contains("current trace is clipped"), "{c}");
+        }
+    }
+    let hints = r["wiring_hints"].to_string();
+    assert!(!hints.contains("CT ratio"), "{hints}");
+    assert!(
+        r["warning_codes"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|c| c == "clipping"),
+        "{r}"
+    );
+    let table = tracephase()
+        .arg("meter")
+        .arg(&path)
+        .args(["--class", "1", "--reading", &true_reading()])
+        .output()
+        .unwrap();
+    let text = String::from_utf8(table.stdout).unwrap();
+    assert!(text.contains("current trace looks clipped"), "{text}");
+}
+
+/// Our own clamp reversed: the capture's current is the load's turned by 180° (θ = 30° − 180°),
+/// so our P is negative for what is a load, while the meter shows the load as it is. That is not
+/// the meter's fault: the checks are inconclusive and the hint names our clamp. The meter's CT
+/// reversed instead: the capture is plausible (P > 0) and the meter's readings are turned.
+#[test]
+fn our_reversed_clamp_is_told_apart_from_the_meters_reversed_ct() {
+    let dir = tempfile::TempDir::new().unwrap();
+    let ours = synthetic(
+        dir.path(),
+        "clamp-reversed.csv",
+        &sine_spec(Waveform::sine(50.0, 150.0)),
+        &|x| x,
+    );
+    let (code, r) = meter_on(&ours, &["--class", "1", "--reading", &true_reading()]);
+    assert_eq!(code, 0, "{r}");
+    let hints = r["wiring_hints"].to_string();
+    assert!(hints.contains("your own clamp"), "{hints}");
+    assert!(
+        !hints.contains("the meter's CT is probably reversed"),
+        "{hints}"
+    );
+    for c in r["checks"].as_array().unwrap() {
+        assert_ne!(c["verdict"], "fail", "{c}");
+    }
+    let plain = synthetic(
+        dir.path(),
+        "plain.csv",
+        &sine_spec(Waveform::sine(50.0, -30.0)),
+        &|x| x,
+    );
+    let s = 230.0 * 50.0;
+    let (sin, cos) = 30f64.to_radians().sin_cos();
+    let turned = format!("p={:.1}W,q={:.1}var", -s * cos, -s * sin);
+    let (code, r) = meter_on(&plain, &["--class", "1", "--reading", &turned]);
+    assert_eq!(code, 1, "{r}");
+    let hints = r["wiring_hints"].to_string();
+    assert!(
+        hints.contains("the meter's CT is probably reversed"),
+        "{hints}"
+    );
+    assert!(!hints.contains("your own clamp"), "{hints}");
+}

@@ -3,7 +3,7 @@
 
 use super::bank::analyse_file;
 use super::{ConfigError, Outcome, format, resolve_channels};
-use crate::check::meter::{AccuracyClass, MeterVerdict, PfSign, Reading, check_meter_rated};
+use crate::check::meter::{self, AccuracyClass, Meter, MeterVerdict, PfSign, Reading};
 use crate::cli::MeterArgs;
 use crate::report;
 use std::io::Write;
@@ -49,7 +49,11 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
         );
         return Outcome::InputErrors;
     };
-    let r = check_meter_rated(&reading, &m, class, sign, a.rated_current);
+    let spec = Meter {
+        rated_current_a: a.rated_current,
+        ..Meter::new(class, sign)
+    };
+    let r = meter::check(&reading, &m, &spec, &analysis.warnings);
     if report::meter::write(out, &r, &analysis, format(a.format)).is_err() {
         let _ = writeln!(
             err,

@@ -379,13 +379,11 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
     row.verdict_failed |= a.expected.as_ref().is_some_and(|e| e.failed());
     let mut result = serde_json::to_value(AnalysisRecord::from(&a)).unwrap_or(Value::Null);
     if let (Some(spec), Some(m)) = (&setup.meter, a.meter_measured()) {
-        let r = meter::check_meter_rated(
-            &spec.reading,
-            &m,
-            spec.class,
-            spec.pf_sign,
-            spec.rated_current,
-        );
+        let meter = meter::Meter {
+            rated_current_a: spec.rated_current,
+            ..meter::Meter::new(spec.class, spec.pf_sign)
+        };
+        let r = meter::check(&spec.reading, &m, &meter, &a.warnings);
         let failed: Vec<&str> = r
             .checks
             .iter()

@@ -57,6 +57,7 @@ pub use input::{
 };
 
 use super::decision::{Verdict, decide};
+use crate::warning::{Trace, Warning};
 use serde::Serialize;
 
 /// Below this share of S, P and Q errors are taken in percent of S, and a |PF| below it is
@@ -165,6 +166,10 @@ pub struct MeterReport {
     pub checks: Vec<MeterCheck>,
     /// Plain-language hints at wiring or programming faults.
     pub wiring_hints: Vec<String>,
+    /// The analysed capture's warnings, as `analyze` prints them.
+    pub warnings: Vec<String>,
+    /// Their stable codes, in the same order.
+    pub warning_codes: Vec<&'static str>,
 }
 
 /// The quadrant of (P, Q) on the four-quadrant metering diagram (IEC 62053-23 figure, load
@@ -195,26 +200,77 @@ pub fn quadrant(p: f64, q: f64) -> (u8, &'static str) {
     }
 }
 
-/// Compares the meter's reading with our measurement, quantity by quantity, at the class's
-/// full-current limits.
+/// What is known about the meter besides its reading.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Meter {
+    /// Its accuracy class.
+    pub class: AccuracyClass,
+    /// How it signs PF.
+    pub pf_sign: PfSign,
+    /// Its rated current (Ib, or In for a transformer-operated meter), A, when known: the limits
+    /// then follow the measured current ([`AccuracyClass::at_current`]).
+    pub rated_current_a: Option<f64>,
+}
+
+impl Meter {
+    /// A meter of `class` signing PF by `pf_sign`, rated current unknown.
+    pub fn new(class: AccuracyClass, pf_sign: PfSign) -> Self {
+        Meter {
+            class,
+            pf_sign,
+            rated_current_a: None,
+        }
+    }
+}
+
+/// Compares the meter's reading with our measurement of a capture without warnings, at the
+/// class's full-current limits: [`check`] for the simplest case.
 pub fn check_meter(
     reading: &Reading,
     measured: &Measured,
     class: AccuracyClass,
     pf_sign: PfSign,
 ) -> MeterReport {
-    check_meter_rated(reading, measured, class, pf_sign, None)
+    check(reading, measured, &Meter::new(class, pf_sign), &[])
 }
 
-/// [`check_meter`] for a meter of known rated current (Ib, or In for a transformer-operated
-/// meter), A: the limits follow the measured current ([`AccuracyClass::at_current`]).
-pub fn check_meter_rated(
+/// The trace a warning is about, where it is about one.
+fn warning_trace(w: &Warning) -> Option<Trace> {
+    match w {
+        Warning::Clipping { trace, .. } | Warning::NoFundamental { trace, .. } => Some(*trace),
+        _ => None,
+    }
+}
+
+/// Why the capture cannot support a verdict on `quantity`: the reasons of the capture's warnings
+/// that undermine a verdict ([`Warning::undermines_verdict`]), leaving out those about the trace
+/// the quantity does not rest on (V rests on the voltage trace only, I on the current trace only).
+fn doubts(capture: &[Warning], quantity: &str) -> Vec<String> {
+    capture
+        .iter()
+        .filter(|w| match warning_trace(w) {
+            Some(Trace::Voltage) => quantity != "i",
+            Some(Trace::Current) => quantity != "v",
+            None => true,
+        })
+        .filter_map(Warning::undermines_verdict)
+        .collect()
+}
+
+/// Compares the meter's reading with our measurement, quantity by quantity. `capture` holds the
+/// analysed capture's warnings: they are reported with the checks, and a warning that undermines
+/// a verdict turns the pass or fail of each check resting on that trace into inconclusive.
+pub fn check(
     reading: &Reading,
     measured: &Measured,
-    class: AccuracyClass,
-    pf_sign: PfSign,
-    rated_current_a: Option<f64>,
+    meter: &Meter,
+    capture: &[Warning],
 ) -> MeterReport {
+    let Meter {
+        class,
+        pf_sign,
+        rated_current_a,
+    } = *meter;
     let m = measured;
     let ratio = rated_current_a.filter(|r| *r > 0.0).map(|r| m.i_rms / r);
     // A limit at the measured current: NaN where none applies, with the reason as a note.
@@ -287,7 +343,44 @@ pub fn check_meter_rated(
         let c = Compare::new("i", x, m.i_rms, m.u_i, unity, unity_note());
         checks.push(c.with_note(unity_current).finish());
     }
-    let wiring_hints = hints::wiring_hints(reading, m, class, pf_sign, &checks);
+    let mut undermined: Vec<&'static str> = Vec::new();
+    for c in &mut checks {
+        let why = doubts(capture, c.quantity);
+        if why.is_empty() || c.verdict == MeterVerdict::Inconclusive {
+            continue;
+        }
+        c.verdict = MeterVerdict::Inconclusive;
+        c.add_note(format!(
+            "the capture cannot support this figure: {}",
+            why.join("; ")
+        ));
+        undermined.push(c.quantity);
+    }
+    let mut wiring_hints = Vec::new();
+    if !undermined.is_empty() {
+        wiring_hints.push(format!(
+            "no verdict on {} and no wiring fault is told from them: the capture cannot support \
+             them ({}); capture again",
+            undermined.join(", "),
+            doubts(capture, "").join("; ")
+        ));
+    }
+    wiring_hints.extend(hints::wiring_hints(reading, m, class, pf_sign, &checks));
+    // Our own P negative while the meter fits our current turned by 180°: for a load, our clamp
+    // is the one reversed; only the user knows whether the circuit exports.
+    if m.p_w < -m.u_p_w.abs() && hints::fits_turn(reading, m, class, pf_sign, 180.0) {
+        for c in &mut checks {
+            if c.verdict == MeterVerdict::Fail {
+                c.verdict = MeterVerdict::Inconclusive;
+                c.add_note(
+                    "our capture's own P is negative: if this circuit is a load, our clamp is \
+                     reversed and, turned round, the capture agrees with the meter; if it \
+                     exports, the meter's CT is reversed"
+                        .to_string(),
+                );
+            }
+        }
+    }
     let (quadrant, text) = quadrant(m.p_w, m.q_var);
     MeterReport {
         class: class.name(),
@@ -296,6 +389,18 @@ pub fn check_meter_rated(
         quadrant_text: text.to_string(),
         checks,
         wiring_hints,
+        warnings: capture.iter().map(ToString::to_string).collect(),
+        warning_codes: capture.iter().map(Warning::code).collect(),
+    }
+}
+
+impl MeterCheck {
+    /// Appends a note.
+    fn add_note(&mut self, text: String) {
+        self.note = Some(match self.note.take() {
+            Some(n) => format!("{n}; {text}"),
+            None => text,
+        });
     }
 }
 
@@ -491,7 +596,7 @@ mod tests {
         }
     }
 
-    fn check<'a>(r: &'a MeterReport, q: &str) -> &'a MeterCheck {
+    fn find<'a>(r: &'a MeterReport, q: &str) -> &'a MeterCheck {
         r.checks.iter().find(|c| c.quantity == q).unwrap()
     }
 
@@ -505,13 +610,13 @@ mod tests {
         for c in &rep.checks {
             assert_eq!(c.verdict, MeterVerdict::Pass, "{c:?}");
         }
-        let p = check(&rep, "p");
+        let p = find(&rep, "p");
         assert!((p.error_percent - 100.0 * (9990.0 - 9959.3) / 9959.3).abs() < 0.01);
         assert_eq!(p.limit_percent, 1.0);
         // Q on a class 1 meter: twice the active limit (our rule)
-        assert_eq!(check(&rep, "q").limit_percent, 2.0);
+        assert_eq!(find(&rep, "q").limit_percent, 2.0);
         assert!(
-            check(&rep, "q")
+            find(&rep, "q")
                 .note
                 .as_deref()
                 .unwrap()
@@ -537,8 +642,11 @@ mod tests {
             ..Reading::default()
         };
         let at = |rated: Option<f64>| {
-            check_meter_rated(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow, rated).checks[0]
-                .clone()
+            let meter = Meter {
+                rated_current_a: rated,
+                ..Meter::new(AccuracyClass::Iec1, PfSign::PowerFlow)
+            };
+            check(&r, &m, &meter, &[]).checks[0].clone()
         };
         // at full current a 1.2 % error fails the 1 % limit
         let full = at(Some(100.0));
@@ -565,24 +673,14 @@ mod tests {
             p_w: Some(1.012 * m60.p_w),
             ..Reading::default()
         };
-        let c = &check_meter_rated(
-            &r60,
-            &m60,
-            AccuracyClass::Iec1,
-            PfSign::PowerFlow,
-            Some(300.0),
-        )
-        .checks[0];
+        let rated = |class, a| Meter {
+            rated_current_a: Some(a),
+            ..Meter::new(class, PfSign::PowerFlow)
+        };
+        let c = &check(&r60, &m60, &rated(AccuracyClass::Iec1, 300.0), &[]).checks[0];
         assert_eq!((c.limit_percent, c.verdict), (1.5, MeterVerdict::Pass));
         // IEC 62053-22 class 0.2S (from memory): ±0.4 % at PF 1 from 0.01 In to 0.05 In
-        let c = &check_meter_rated(
-            &r,
-            &m,
-            AccuracyClass::Iec02S,
-            PfSign::PowerFlow,
-            Some(2000.0),
-        )
-        .checks[0];
+        let c = &check(&r, &m, &rated(AccuracyClass::Iec02S, 2000.0), &[]).checks[0];
         assert_eq!(c.limit_percent, 0.4);
     }
 
@@ -726,6 +824,45 @@ mod tests {
         assert!(
             c.note.as_deref().unwrap().contains("'lag-negative'"),
             "{c:?}"
+        );
+    }
+
+    /// A warning that undermines a verdict (src/warning.rs) turns pass and fail into
+    /// inconclusive on every check resting on its trace; other warnings only travel along.
+    #[test]
+    fn a_doubtful_capture_leaves_only_the_checks_it_does_not_touch() {
+        let m = measured(30.0);
+        // V and I right, P 5 % high: a fail on a clean capture
+        let r = Reading::parse("p=10.46kW,v=230V,i=50A").unwrap();
+        let meter = Meter::new(AccuracyClass::Iec1, PfSign::PowerFlow);
+        let verdicts = |w: &[Warning]| -> Vec<MeterVerdict> {
+            check(&r, &m, &meter, w)
+                .checks
+                .iter()
+                .map(|c| c.verdict)
+                .collect()
+        };
+        use MeterVerdict::*;
+        assert_eq!(verdicts(&[]), [Fail, Pass, Pass]);
+        let clipped_v = Warning::Clipping {
+            trace: Trace::Voltage,
+            percent: 12.0,
+        };
+        assert_eq!(
+            verdicts(std::slice::from_ref(&clipped_v)),
+            [Inconclusive, Inconclusive, Pass]
+        );
+        let few = Warning::FewCycles { cycles: 1.5 };
+        assert_eq!(verdicts(&[few]), [Inconclusive; 3]);
+        let note = Warning::HarmonicsCapped {
+            asked: 50,
+            used: 20,
+        };
+        let rep = check(&r, &m, &meter, &[note, clipped_v]);
+        assert_eq!(rep.warning_codes, ["harmonics-capped", "clipping"]);
+        assert!(
+            rep.wiring_hints[0].contains("no verdict on p, v"),
+            "{rep:?}"
         );
     }
 

@@ -46,6 +46,7 @@ pub fn write(out: &mut dyn Write, r: &MeterReport, a: &Analysis, format: Format)
                 "uncertainty_percent",
                 "verdict",
                 "quadrant",
+                "warning_codes",
             ])
             .map_err(io::Error::other)?;
             for c in &r.checks {
@@ -67,6 +68,7 @@ pub fn write(out: &mut dyn Write, r: &MeterReport, a: &Analysis, format: Format)
                     get("uncertainty_percent"),
                     get("verdict"),
                     r.quadrant.to_string(),
+                    r.warning_codes.join(";"),
                 ])
                 .map_err(io::Error::other)?;
             }
@@ -111,6 +113,9 @@ fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
         if let Some(n) = &c.note {
             writeln!(out, "  {:<10}  note: {n}", "")?;
         }
+    }
+    for w in &r.warnings {
+        writeln!(out, "  warning      {w}")?;
     }
     writeln!(
         out,

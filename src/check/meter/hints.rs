@@ -42,10 +42,17 @@ pub(super) fn wiring_hints(
             .map(|a| wrap_deg(m.angle_deg + a))
             .collect();
         if fits_turn(r, m, class, sign, 180.0) {
-            let mut h = "the meter's readings fit our current turned by 180°: the CT is probably \
-                         reversed (P1/P2 or S1/S2 leads swapped), unless the meter counts export \
-                         as positive"
-                .to_string();
+            let mut h = if m.p_w < -m.u_p_w.abs() {
+                "our capture's own P is negative (power flowing back to the source) and the \
+                 meter's readings fit our current turned by 180°: if this circuit is a load, \
+                 your own clamp or current probe is reversed, not the meter's CT (turn it round \
+                 and capture again); if the circuit exports, the meter's CT is reversed"
+            } else {
+                "the capture is plausible (active power flows into the load) but the meter's \
+                 readings fit our current turned by 180°: the meter's CT is probably reversed \
+                 (P1/P2 or S1/S2 leads swapped), unless the meter counts export as positive"
+            }
+            .to_string();
             if r.p_w.is_none() && r.q_var.is_none() {
                 h.push_str("; with only PF shown, a different PF sign convention looks the same");
             }
@@ -80,7 +87,13 @@ fn wrap_deg(a: f64) -> f64 {
 }
 
 /// Do all of the meter's P, Q and PF fit our current turned by `alpha_deg`?
-fn fits_turn(r: &Reading, m: &Measured, class: AccuracyClass, sign: PfSign, alpha: f64) -> bool {
+pub(super) fn fits_turn(
+    r: &Reading,
+    m: &Measured,
+    class: AccuracyClass,
+    sign: PfSign,
+    alpha: f64,
+) -> bool {
     let s = m.s_va;
     let (sin, cos) = alpha.to_radians().sin_cos();
     let p = m.p_w * cos - m.q_var * sin;
