@@ -17,17 +17,114 @@ pub struct Cli {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Analyse captures: frequency, phase angle (DFT and zero crossing), PF, THD, powers.
+    #[command(after_help = ANALYZE_HELP)]
     Analyze(AnalyzeArgs),
     /// What a circuit model predicts: impedance, phase angle, PF and the band its tolerances allow.
+    #[command(after_help = EXPECT_HELP)]
     Expect(ExpectArgs),
     /// Capacitor bank check from captures before and after switching it in.
+    #[command(after_help = BANK_HELP)]
     Bank(BankArgs),
     /// Check a meter's PF, kW, kvar... reading against a capture, within its accuracy class.
+    #[command(after_help = METER_HELP)]
     Meter(MeterArgs),
     /// A self-contained HTML report (results, verdicts, plots, cautions) of captures.
+    #[command(after_help = REPORT_HELP)]
     Report(ReportArgs),
     /// Analyse whole folders of captures into one summary (CSV or JSON Lines), in parallel.
+    #[command(after_help = BATCH_HELP)]
     Batch(BatchArgs),
+    /// Print a completion script for a shell (bash, zsh, fish, powershell, elvish).
+    #[command(after_help = COMPLETIONS_HELP)]
+    Completions(CompletionsArgs),
+    /// Print the manual page (roff) of tracephase or of one subcommand.
+    #[command(after_help = MAN_HELP)]
+    Man(ManArgs),
+}
+
+const ANALYZE_HELP: &str = "\
+Examples:
+  tracephase analyze fixtures/demo-workshop-compressor-before-capacitor.csv
+  tracephase analyze --v-scale 400 --i-scale 5 fixtures/demo-lab-bench-parallel-rl-24bit.wav
+  tracephase analyze fixtures/demo-lab-bench-series-rlc-semicolon-decimal-comma.csv \\
+      --expect fixtures/demo-lab-bench-series-rlc.toml --format json
+
+Exit codes: 0 every file analysed; 1 every file analysed but a verdict is `outside`;
+2 a file or an option could not be used (one `error:` line each, the other files still run).";
+
+const EXPECT_HELP: &str = "\
+Examples:
+  tracephase expect fixtures/demo-lab-bench-series-rlc.toml
+  tracephase expect fixtures/demo-lab-bench-series-rlc.toml --freq 60 --format json
+
+Exit codes: 0 the model was evaluated; 2 the model or an option could not be used.";
+
+const BANK_HELP: &str = "\
+Examples:
+  tracephase bank --before fixtures/demo-plant-feeder-bank-off.csv \\
+      --after fixtures/demo-plant-feeder-bank-on.csv \\
+      --nameplate fixtures/demo-plant-bank-nameplate.toml
+
+Exit codes: 0 the check passed or is inconclusive; 1 the bank fails its check;
+2 a capture, the nameplate or an option could not be used.";
+
+const METER_HELP: &str = "\
+Examples:
+  tracephase meter fixtures/demo-workshop-compressor-after-capacitor.csv --class 1 \\
+      --reading @fixtures/demo-workshop-compressor-meter.reading
+  tracephase meter fixtures/demo-workshop-compressor-after-capacitor.csv --class 1 \\
+      --reading pf=0.97,p=1.75kW,q=0.36kvar --format json
+
+Exit codes: 0 the reading holds (or a check is inconclusive); 1 a check fails;
+2 the capture, the reading or an option could not be used.";
+
+const REPORT_HELP: &str = "\
+Examples:
+  tracephase report fixtures/demo-*.csv -o site-visit.html
+  tracephase report fixtures/demo-lab-bench-series-rlc-semicolon-decimal-comma.csv \\
+      --expect fixtures/demo-lab-bench-series-rlc.toml -o bench.html --plot-dir plots/
+
+Exit codes: 0 the report was written; 1 written, but a verdict is `outside`;
+2 a capture or an option could not be used, or the report could not be written.";
+
+const BATCH_HELP: &str = "\
+Examples:
+  tracephase batch fixtures --out summary.csv
+  tracephase batch site-visit/ --format json --out summary.jsonl --jobs 2 --resume
+  tracephase batch site-visit/ --out summary.csv --report site-visit.html
+
+Exit codes: 0 every capture analysed; 1 every capture analysed but a verdict failed;
+2 some capture could not be read or analysed (its row says why; the others are kept).";
+
+const COMPLETIONS_HELP: &str = "\
+Examples:
+  tracephase completions bash > ~/.local/share/bash-completion/completions/tracephase
+  tracephase completions zsh > ~/.zfunc/_tracephase
+  tracephase completions fish > ~/.config/fish/completions/tracephase.fish
+
+Exit codes: 0 the script was written; 2 it could not be written.";
+
+const MAN_HELP: &str = "\
+Examples:
+  tracephase man > tracephase.1 && man ./tracephase.1
+  tracephase man analyze > tracephase-analyze.1
+
+Exit codes: 0 the page was written; 2 no such subcommand, or the page could not be written.";
+
+/// Arguments of `completions`.
+#[derive(Debug, Args)]
+pub struct CompletionsArgs {
+    /// The shell to write the script for.
+    #[arg(value_enum)]
+    pub shell: clap_complete::Shell,
+}
+
+/// Arguments of `man`.
+#[derive(Debug, Args)]
+pub struct ManArgs {
+    /// A subcommand whose page to write instead of the main page.
+    #[arg(value_name = "SUBCOMMAND")]
+    pub subcommand: Option<String>,
 }
 
 /// Arguments of `analyze`.

@@ -4,6 +4,7 @@ pub mod bank;
 pub mod batch;
 pub mod html;
 pub mod meter;
+pub mod shell;
 
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
@@ -290,6 +291,8 @@ pub fn run(cli: Cli, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
             let _ = writeln!(err, "error: {e}");
             Outcome::InputErrors
         }),
+        Command::Completions(args) => shell::completions(args.shell, out, err),
+        Command::Man(args) => shell::man(args.subcommand.as_deref(), out, err),
     }
 }
 
