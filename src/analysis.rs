@@ -10,7 +10,7 @@ use crate::condition;
 use crate::estimate::{self, Estimate, EstimateError};
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
 use crate::quantity::{self, Quantities, QuantitySettings};
-use crate::warning::{Trace, Warning};
+use crate::warning::{Severity, Status, Trace, Warning};
 use std::path::PathBuf;
 
 /// Default highest harmonic order reported (IEEE 519-2014 counts to the 50th).
@@ -71,7 +71,8 @@ pub struct Analysis {
     pub quantities: Quantities,
     /// Their expanded uncertainties (k = 2).
     pub uncertainty: Uncertainty,
-    /// All warnings, from loading on.
+    /// Everything observed, from loading on: warnings, findings and notes
+    /// ([`Warning::severity`] tells them apart; [`Analysis::listed`] picks one kind).
     pub warnings: Vec<Warning>,
     /// Comparison with a circuit model, when one was given.
     pub expected: Option<Expected>,
@@ -205,6 +206,27 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
 }
 
 impl Analysis {
+    /// The observations of one severity (warnings, findings or notes), in the order found.
+    pub fn listed(&self, severity: Severity) -> impl Iterator<Item = &Warning> {
+        self.warnings
+            .iter()
+            .filter(move |w| w.severity() == severity)
+    }
+
+    /// `warning` when something threatens a figure, else `ok`; findings and notes do not count.
+    pub fn status(&self) -> Status {
+        Status::of(&self.warnings)
+    }
+
+    /// Why a verdict resting on this capture cannot be signed (clipping, too few cycles, no
+    /// fundamental), one reason per warning; empty when it can.
+    pub fn verdict_doubts(&self) -> Vec<String> {
+        self.warnings
+            .iter()
+            .filter_map(Warning::undermines_verdict)
+            .collect()
+    }
+
     /// Our measurement as the capacitor bank check needs it; `None` without a defined angle.
     pub fn bank_side(&self) -> Option<BankSide> {
         let q = &self.quantities;

@@ -1,8 +1,12 @@
-//! Warnings that travel with a result.
+//! What a result carries besides its figures: warnings, findings and notes.
 //!
-//! A warning never stops an analysis: it says what looks doubtful about the capture or the numbers
-//! and what the technician can do about it. Every stage may add warnings; they are collected on the
-//! final [`crate::Analysis`] and printed by every output format.
+//! None of them stops an analysis. Each [`Warning`] value has a [`Severity`]: a *warning* says
+//! what threatens a figure (clipping, too few cycles, a reversed probe, no fundamental, an uneven
+//! clock) and what the technician can do about it; a *finding* is a measured fact worth acting on
+//! (PF below the penalty threshold); a *note* is an explained observation that threatens nothing
+//! (the harmonics moving the zero crossings). Every stage may add them; they are collected on the
+//! final [`crate::Analysis`], every output format keeps the three lists apart, and the
+//! [`Status`] comes from the warnings alone.
 
 use std::fmt;
 
@@ -77,6 +81,9 @@ pub enum Warning {
         difference_deg: f64,
         /// The difference the two methods' own errors allow, degrees.
         allowed_deg: f64,
+        /// The difference the fitted harmonics explain (they move the zero crossings), degrees;
+        /// `None` when it could not be worked out.
+        explained_deg: Option<f64>,
         /// Current THD in percent, the usual cause.
         current_thd_percent: f64,
         /// Voltage THD in percent.
@@ -139,16 +146,86 @@ pub enum Severity {
     Note,
 }
 
+impl Severity {
+    /// The word used in every output (`warning`, `finding`, `note`).
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Severity::Warning => "warning",
+            Severity::Finding => "finding",
+            Severity::Note => "note",
+        }
+    }
+}
+
+/// The status of one capture (or file) in every output: what its warnings say about its figures.
+/// Findings and notes never change it; verdicts have their own fields.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Status {
+    /// Analysed; nothing threatens a figure (there may be findings and notes).
+    Ok,
+    /// Analysed, with at least one warning: some figure may not be right.
+    Warning,
+    /// Could not be read or analysed.
+    Error,
+}
+
+impl Status {
+    /// The word shown.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Status::Ok => "ok",
+            Status::Warning => "warning",
+            Status::Error => "error",
+        }
+    }
+
+    /// The status of an analysed capture with these observations: `warning` when one of them is
+    /// a warning, else `ok`.
+    pub fn of(observations: &[Warning]) -> Status {
+        if observations
+            .iter()
+            .any(|w| w.severity() == Severity::Warning)
+        {
+            Status::Warning
+        } else {
+            Status::Ok
+        }
+    }
+}
+
+/// DFT minus zero-crossing angle left once the harmonics' own shift is taken out, degrees; `None`
+/// when the harmonics' shift is not known.
+fn unexplained_deg(difference_deg: f64, explained_deg: Option<f64>) -> Option<f64> {
+    explained_deg.map(|e| {
+        let d = (difference_deg - e).rem_euclid(360.0);
+        if d > 180.0 { 360.0 - d } else { d }
+    })
+}
+
 impl Warning {
     /// How this warning bears on the figures.
+    ///
+    /// A methods disagreement is a note when the fitted harmonics explain it (they move the zero
+    /// crossings by that much, within what the two methods' errors allow): the DFT angle is then
+    /// the fundamental's and nothing is wrong. Unexplained, it stays a warning: something that is
+    /// not in the harmonic model (a spike, a DC step, an interharmonic) moves the crossings.
     pub fn severity(&self) -> Severity {
         match self {
             Warning::PfBelowThreshold { .. } => Severity::Finding,
             Warning::HarmonicsCapped { .. }
-            | Warning::MethodsDisagree { .. }
             | Warning::ChannelAssumed { .. }
             | Warning::ColumnsIgnored { .. }
             | Warning::TimeUnitAssumed { .. } => Severity::Note,
+            Warning::MethodsDisagree {
+                difference_deg,
+                allowed_deg,
+                explained_deg,
+                ..
+            } => match unexplained_deg(*difference_deg, *explained_deg) {
+                Some(u) if u <= *allowed_deg => Severity::Note,
+                _ => Severity::Warning,
+            },
             _ => Severity::Warning,
         }
     }
@@ -234,15 +311,39 @@ impl fmt::Display for Warning {
             Warning::MethodsDisagree {
                 difference_deg,
                 allowed_deg,
+                explained_deg,
                 current_thd_percent,
                 voltage_thd_percent,
-            } => write!(
-                f,
-                "DFT and zero-crossing angles differ by {difference_deg:.2}° (their errors allow \
-                 {allowed_deg:.2}°): harmonics shift zero crossings (current THD \
-                 {current_thd_percent:.1} %, voltage THD {voltage_thd_percent:.1} %), \
-                 so the DFT angle is the one for the fundamental"
-            ),
+            } => {
+                write!(
+                    f,
+                    "DFT and zero-crossing angles differ by {difference_deg:.2}° (their errors \
+                     allow {allowed_deg:.2}°)"
+                )?;
+                match (
+                    explained_deg,
+                    unexplained_deg(*difference_deg, *explained_deg),
+                ) {
+                    (Some(e), Some(u)) if u <= *allowed_deg => write!(
+                        f,
+                        ": the harmonics move the zero crossings by {e:.2}° (current THD \
+                         {current_thd_percent:.1} %, voltage THD {voltage_thd_percent:.1} %), \
+                         which explains it; the DFT angle is the one for the fundamental"
+                    ),
+                    (Some(e), _) => write!(
+                        f,
+                        " and the harmonics explain only {e:.2}° of it: something else moves \
+                         the zero crossings (spikes, a DC step, interharmonics, a changing \
+                         load); look at the waveform before trusting either angle"
+                    ),
+                    (None, _) => write!(
+                        f,
+                        " and the harmonics' share could not be worked out (current THD \
+                         {current_thd_percent:.1} %, voltage THD {voltage_thd_percent:.1} %); \
+                         look at the waveform before trusting either angle"
+                    ),
+                }
+            }
             Warning::HarmonicsCapped { asked, used } => write!(
                 f,
                 "harmonics up to order {asked} asked for, but only orders up to {used} lie \
@@ -305,5 +406,45 @@ mod tests {
         };
         assert_eq!(capped.severity(), Severity::Note);
         assert!(capped.undermines_verdict().is_none());
+    }
+
+    fn disagree(difference_deg: f64, explained_deg: Option<f64>) -> Warning {
+        Warning::MethodsDisagree {
+            difference_deg,
+            allowed_deg: 0.1,
+            explained_deg,
+            current_thd_percent: 20.0,
+            voltage_thd_percent: 2.0,
+        }
+    }
+
+    #[test]
+    fn a_methods_disagreement_the_harmonics_explain_is_a_note() {
+        let w = disagree(1.5, Some(1.45));
+        assert_eq!(w.severity(), Severity::Note);
+        assert!(w.to_string().contains("which explains it"), "{w}");
+        // across the ±180° seam: 179.95° and −179.98° are 0.07° apart
+        assert_eq!(disagree(179.95, Some(-179.98)).severity(), Severity::Note);
+    }
+
+    #[test]
+    fn a_methods_disagreement_the_harmonics_do_not_explain_stays_a_warning() {
+        let w = disagree(1.5, Some(0.2));
+        assert_eq!(w.severity(), Severity::Warning);
+        assert!(w.to_string().contains("explain only 0.20°"), "{w}");
+        assert_eq!(disagree(1.5, None).severity(), Severity::Warning);
+    }
+
+    #[test]
+    fn status_comes_from_warnings_only() {
+        let finding = Warning::PfBelowThreshold {
+            pf: 0.8,
+            threshold: 0.9,
+        };
+        let note = disagree(1.5, Some(1.5));
+        assert_eq!(Status::of(&[]), Status::Ok);
+        assert_eq!(Status::of(&[finding.clone(), note.clone()]), Status::Ok);
+        let few = Warning::FewCycles { cycles: 2.0 };
+        assert_eq!(Status::of(&[finding, note, few]), Status::Warning);
     }
 }

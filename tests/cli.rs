@@ -39,7 +39,10 @@ struct Record {
     voltage: TraceFigures,
     current: TraceFigures,
     power: Power,
+    status: String,
     warnings: Vec<String>,
+    findings: Vec<String>,
+    notes: Vec<String>,
     harmonics: Vec<Harmonic>,
 }
 
@@ -423,13 +426,17 @@ fn comma_csv_with_time_column_gives_the_handbook_values() {
     let r = json_one(&[], &f);
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
     assert_eq!(r.file, f.display().to_string());
-    // PF cos 30° = 0.866 is below the default 0.90 penalty threshold: the only warning
-    assert_eq!(r.warnings.len(), 1, "{:?}", r.warnings);
+    // PF cos 30° = 0.866 is below the default 0.90 penalty threshold: a finding, the only
+    // observation; it threatens no figure, so the status stays ok
+    assert!(r.warnings.is_empty(), "{:?}", r.warnings);
+    assert!(r.notes.is_empty(), "{:?}", r.notes);
+    assert_eq!(r.findings.len(), 1, "{:?}", r.findings);
     assert!(
-        r.warnings[0].contains("below the 0.90 threshold"),
+        r.findings[0].contains("below the 0.90 threshold"),
         "{:?}",
-        r.warnings
+        r.findings
     );
+    assert_eq!(r.status, "ok");
 }
 
 #[test]

@@ -302,7 +302,7 @@ fn pf_below_the_threshold_is_flagged_in_json() {
     assert_eq!(run("0.90")["pf_below_threshold"], true);
     assert_eq!(run("0.75")["pf_below_threshold"], false);
     assert!(
-        run("0.95")["warning_codes"]
+        run("0.95")["finding_codes"]
             .as_array()
             .unwrap()
             .iter()

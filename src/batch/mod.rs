@@ -23,6 +23,7 @@ use crate::check::meter::{self, AccuracyClass, MeterVerdict, PfSign, Reading};
 use crate::check::tolerance::MonteCarloConfig;
 use crate::quantity::uncertainty::UncertaintyInputs;
 use crate::report::wire::AnalysisRecord;
+use crate::warning::Severity;
 use serde_json::Value;
 use sidecar::{Layer, SIDECAR, Sidecar};
 use std::collections::HashMap;
@@ -416,17 +417,8 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
             );
         }
     }
-    row.status = if a.warnings.is_empty() {
-        Status::Ok
-    } else {
-        Status::Warning
-    };
-    row.message = a
-        .warnings
-        .iter()
-        .map(|w| w.to_string())
-        .collect::<Vec<_>>()
-        .join("; ");
+    row.status = a.status();
+    row.message = crate::report::wire::words(&a, Severity::Warning).join("; ");
     // The bank-out capture itself, matched by the same pattern, has nothing to compare with.
     if let Some(spec) = setup.bank.as_ref().filter(|b| b.before != job.path) {
         match bank_check(&a, spec, setup) {
@@ -498,7 +490,7 @@ pub fn csv_columns() -> Vec<String> {
     c.extend(
         crate::report::wire::analysis_columns()
             .into_iter()
-            .filter(|k| k != "file"),
+            .filter(|k| k != "file" && k != "status"),
     );
     c.extend(summary::VERDICT_COLUMNS.iter().map(|s| s.to_string()));
     c

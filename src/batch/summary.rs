@@ -26,7 +26,7 @@ pub struct Row {
     pub file: String,
     /// ok / warning / error.
     pub status: Status,
-    /// The error, or the warnings joined with "; ".
+    /// The error, or the capture's warnings (not its findings or notes) joined with "; ".
     pub message: String,
     /// Hash of the file's bytes (hex), empty when unreadable.
     pub content_hash: String,
@@ -206,7 +206,8 @@ impl Row {
         );
         if let Some(Value::Object(r)) = &self.result {
             for (k, v) in r {
-                if k != "file" {
+                // the row's own file and status (a failed check makes an analysed row `error`)
+                if k != "file" && k != "status" {
                     m.insert(k.clone(), v.clone());
                 }
             }

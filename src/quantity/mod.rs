@@ -12,6 +12,7 @@
 //! A known current-channel delay (`skew`) is removed per harmonic by rotating each current phasor
 //! by `2π·h·f·skew`; P is corrected by the change of Σ Re(Vh·Ih*) that rotation makes.
 
+pub mod crossing_shift;
 pub mod power;
 pub mod three_phase;
 pub mod uncertainty;
@@ -336,6 +337,7 @@ pub fn quantities(
             warnings.push(Warning::MethodsDisagree {
                 difference_deg: diff,
                 allowed_deg: allowed,
+                explained_deg: crossing_shift::explained_difference_deg(&est.voltage, &est.current),
                 current_thd_percent: current.thd_percent.unwrap_or(f64::NAN),
                 voltage_thd_percent: voltage.thd_percent.unwrap_or(f64::NAN),
             });

@@ -14,9 +14,9 @@ use super::plot::{self, Plot, PlotOptions};
 use super::table::{num, pm};
 use crate::analysis::{Analysis, Settings};
 use crate::check::bank::{BankReport, Nameplate};
-use crate::check::decision::Verdict;
 use crate::check::expected::{Expectation, Expected};
 use crate::check::meter::MeterReport;
+use crate::warning::{Severity, Warning};
 use std::fmt::Write as _;
 use std::io::{self, Write};
 
@@ -36,27 +36,8 @@ pub fn escape(text: &str) -> String {
     out
 }
 
-/// The status of one file in a summary.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Status {
-    /// Analysed, nothing to report.
-    Ok,
-    /// Analysed, with warnings or a verdict that is not `consistent`.
-    Warning,
-    /// Could not be read or analysed.
-    Error,
-}
-
-impl Status {
-    /// The word shown.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Status::Ok => "ok",
-            Status::Warning => "warning",
-            Status::Error => "error",
-        }
-    }
-}
+/// The status of one file in a summary (from its warnings only).
+pub use crate::warning::Status;
 
 /// One line of a summary table.
 #[derive(Debug, Clone, PartialEq)]
@@ -231,7 +212,7 @@ letter-spacing:.04em;text-transform:uppercase;color:#fff;vertical-align:middle}\
 figure{margin:12px 0 18px}figure svg{max-width:100%;height:auto;display:block;\
 border:1px solid var(--rule)}figcaption{color:var(--muted);font-size:13px;margin-top:4px}\
 .pair{display:flex;flex-wrap:wrap;gap:16px}.pair figure{flex:1 1 440px;margin:12px 0 18px}\
-ul.warn li{margin:2px 0}.verdict{background:var(--band);padding:8px 12px;border-left:4px solid \
+ul.warn li,ul.finding li,ul.notes li{margin:2px 0}.verdict{background:var(--band);padding:8px 12px;border-left:4px solid \
 var(--muted);margin:8px 0}.safety{background:#fff4f0;border-left:4px solid var(--fail);\
 padding:6px 14px}.sign{margin-top:28px;color:var(--muted)}\
 code{font-size:13px}\
@@ -410,8 +391,8 @@ fn render_tail(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
     )
 }
 
-/// The summary rows of `entries`: error for a failed file; warning when a capture has warnings
-/// or a verdict that is not consistent; ok otherwise.
+/// The summary rows of `entries`: error for a failed file; otherwise the capture's status (from
+/// its warnings only), its first warning as the message and its model verdict as the checks.
 pub fn summary_rows(entries: &[Entry]) -> Vec<BatchRow> {
     entries
         .iter()
@@ -422,36 +403,27 @@ pub fn summary_rows(entries: &[Entry]) -> Vec<BatchRow> {
                 message: message.clone(),
                 checks: String::new(),
             },
-            Entry::Analysed { analysis: a, .. } => {
-                let mut notes: Vec<String> = Vec::new();
-                if let Some(x) = &a.expected
-                    && x.verdict != Verdict::Consistent
-                {
-                    notes.push(format!("expected angle: {}", x.verdict.as_str()));
-                }
-                notes.extend(a.warnings.iter().map(|w| w.to_string()));
-                let message = match notes.len() {
-                    0 => String::new(),
-                    1 => notes.remove(0),
-                    n => format!("{} (and {} more)", notes[0], n - 1),
-                };
-                BatchRow {
-                    file: a.path.display().to_string(),
-                    status: if message.is_empty() {
-                        Status::Ok
-                    } else {
-                        Status::Warning
-                    },
-                    message,
-                    checks: a
-                        .expected
-                        .as_ref()
-                        .map(|x| format!("model {}", x.verdict.as_str()))
-                        .unwrap_or_default(),
-                }
-            }
+            Entry::Analysed { analysis: a, .. } => BatchRow {
+                file: a.path.display().to_string(),
+                status: a.status(),
+                message: first_of(&super::wire::words(a, Severity::Warning)),
+                checks: a
+                    .expected
+                    .as_ref()
+                    .map(|x| format!("model {}", x.verdict.as_str()))
+                    .unwrap_or_default(),
+            },
         })
         .collect()
+}
+
+/// The first of `items` and how many more there are: `clipped (and 2 more)`; empty for none.
+pub fn first_of(items: &[String]) -> String {
+    match items {
+        [] => String::new(),
+        [one] => one.clone(),
+        [first, rest @ ..] => format!("{first} (and {} more)", rest.len()),
+    }
 }
 
 /// Settings as report rows (name with unit, value), for [`HtmlDoc::settings`].
@@ -627,11 +599,7 @@ fn capture_section(
 ) -> std::fmt::Result {
     let q = &a.quantities;
     let u = &a.uncertainty;
-    let status = if a.warnings.is_empty() && a.expected.as_ref().is_none_or(|e| !e.failed()) {
-        Status::Ok
-    } else {
-        Status::Warning
-    };
+    let status = a.status();
     writeln!(
         h,
         "<section id=\"capture-{k}\">\n<h2>{} <span class=\"badge {s}\">{s}</span></h2>",
@@ -776,12 +744,23 @@ fn capture_section(
     }
     let plots = plot::plots_with(a, options, expectation);
     write_plots(h, &plots)?;
-    writeln!(h, "<h3>Warnings</h3>")?;
-    if a.warnings.is_empty() {
-        writeln!(h, "<p>None.</p>")?;
-    } else {
-        writeln!(h, "<ul class=\"warn\">")?;
-        for w in &a.warnings {
+    // warnings always (their absence is news), findings and notes when there are any
+    for (title, severity, class) in [
+        ("Warnings", Severity::Warning, "warn"),
+        ("Findings", Severity::Finding, "finding"),
+        ("Notes", Severity::Note, "notes"),
+    ] {
+        let items: Vec<&Warning> = a.listed(severity).collect();
+        if items.is_empty() && severity != Severity::Warning {
+            continue;
+        }
+        writeln!(h, "<h3>{title}</h3>")?;
+        if items.is_empty() {
+            writeln!(h, "<p>None.</p>")?;
+            continue;
+        }
+        writeln!(h, "<ul class=\"{class}\">")?;
+        for w in items {
             writeln!(h, "<li>{}</li>", escape(&w.to_string()))?;
         }
         writeln!(h, "</ul>")?;

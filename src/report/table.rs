@@ -5,6 +5,7 @@ use crate::analysis::Analysis;
 use crate::check::expected::Expected;
 use crate::quantity::uncertainty::TraceUncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
+use crate::warning::Severity;
 use std::io::{self, Write};
 
 /// Writes the table format.
@@ -234,11 +235,19 @@ impl Exporter for TableExporter {
         if let Some(e) = &a.expected {
             expected_block(out, e)?;
         }
-        if a.warnings.is_empty() {
-            writeln!(out, "  warnings     none")?;
-        } else {
-            for (k, w) in a.warnings.iter().enumerate() {
-                let head = if k == 0 { "warnings" } else { "" };
+        writeln!(out, "  status       {}", a.status().as_str())?;
+        // warnings always (their absence is news), findings and notes when there are any
+        for (label, severity) in [
+            ("warnings", Severity::Warning),
+            ("findings", Severity::Finding),
+            ("notes", Severity::Note),
+        ] {
+            let mut items = a.listed(severity).peekable();
+            if items.peek().is_none() && severity == Severity::Warning {
+                writeln!(out, "  {label:<13}none")?;
+            }
+            for (k, w) in items.enumerate() {
+                let head = if k == 0 { label } else { "" };
                 writeln!(out, "  {head:<13}- {w}")?;
             }
         }

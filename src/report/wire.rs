@@ -14,6 +14,7 @@ use crate::check::expected::Expected;
 use crate::quantity::power::Powers;
 use crate::quantity::uncertainty::Uncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
+use crate::warning::{Severity, Status};
 use serde::Serialize;
 
 /// One analysed capture.
@@ -21,6 +22,8 @@ use serde::Serialize;
 pub struct AnalysisRecord {
     /// The file as given.
     pub file: String,
+    /// `warning` when a warning threatens a figure, else `ok` (findings and notes do not count).
+    pub status: Status,
     /// Format that was sniffed.
     pub format: String,
     /// Samples per second.
@@ -60,10 +63,18 @@ pub struct AnalysisRecord {
     /// Comparison with a circuit model (`--expect`); absent without one.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub expected: Option<Expected>,
-    /// Warnings in words.
+    /// What threatens a figure (clipping, too few cycles...), in words.
     pub warnings: Vec<String>,
-    /// Warning codes, for filtering.
+    /// Their codes, for filtering.
     pub warning_codes: Vec<&'static str>,
+    /// Measured facts worth acting on (PF below the threshold), in words.
+    pub findings: Vec<String>,
+    /// Their codes.
+    pub finding_codes: Vec<&'static str>,
+    /// Explained observations that threaten nothing, in words.
+    pub notes: Vec<String>,
+    /// Their codes.
+    pub note_codes: Vec<&'static str>,
     /// Spectrum, orders 1..=harmonic_order.
     pub harmonics: Vec<HarmonicLine>,
 }
@@ -149,6 +160,7 @@ impl From<&Analysis> for AnalysisRecord {
         let q = &a.quantities;
         AnalysisRecord {
             file: a.path.display().to_string(),
+            status: a.status(),
             format: a.format.to_string(),
             sample_rate_hz: a.sample_rate_hz,
             samples: a.samples,
@@ -171,11 +183,24 @@ impl From<&Analysis> for AnalysisRecord {
             power: q.power,
             uncertainty: a.uncertainty,
             expected: a.expected.clone(),
-            warnings: a.warnings.iter().map(|w| w.to_string()).collect(),
-            warning_codes: a.warnings.iter().map(|w| w.code()).collect(),
+            warnings: words(a, Severity::Warning),
+            warning_codes: codes(a, Severity::Warning),
+            findings: words(a, Severity::Finding),
+            finding_codes: codes(a, Severity::Finding),
+            notes: words(a, Severity::Note),
+            note_codes: codes(a, Severity::Note),
             harmonics: q.harmonics.clone(),
         }
     }
+}
+
+/// The observations of one severity, in words.
+pub fn words(a: &Analysis, severity: Severity) -> Vec<String> {
+    a.listed(severity).map(|w| w.to_string()).collect()
+}
+
+fn codes(a: &Analysis, severity: Severity) -> Vec<&'static str> {
+    a.listed(severity).map(|w| w.code()).collect()
 }
 
 /// Flattens a JSON object into `(dotted.key, value)` pairs, leaving out arrays of objects
