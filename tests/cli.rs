@@ -27,6 +27,7 @@ struct Record {
     file: String,
     sample_rate_hz: f64,
     warning_codes: Vec<String>,
+    note_codes: Vec<String>,
     channels: Channels,
     frequency_hz: f64,
     phase_angle_deg: Angles,
@@ -1247,7 +1248,7 @@ fn time_columns_are_read_in_the_unit_their_header_gives() {
         assert_eq!(r.channels.time.unit.as_deref(), Some(unit), "{head}");
         assert_eq!(r.channels.time.column, Some(1));
         assert!(
-            !r.warning_codes.iter().any(|c| c == "time-unit-assumed"),
+            !r.note_codes.iter().any(|c| c == "time-unit-assumed"),
             "{head}"
         );
     }
@@ -1269,8 +1270,8 @@ fn time_columns_named_in_other_languages_are_seconds_and_an_unnamed_unit_is_said
         assert_eq!(r.channels.time.unit, None);
         // Plain words for "time" are seconds by the README's convention; `X-axis` says nothing,
         // so the assumption travels with the result.
-        let noted = r.warning_codes.iter().any(|c| c == "time-unit-assumed");
-        assert_eq!(noted, head == "X-axis", "{head}: {:?}", r.warnings);
+        let noted = r.note_codes.iter().any(|c| c == "time-unit-assumed");
+        assert_eq!(noted, head == "X-axis", "{head}: {:?}", r.notes);
     }
 }
 
@@ -1337,7 +1338,7 @@ fn an_amperes_channel_among_volts_channels_is_never_a_voltage() {
     );
     assert_eq!(r.channels.current.name, "CH3(A)");
     assert_eq!(r.channels.current.chosen_by, "unit");
-    assert!(r.warning_codes.iter().any(|c| c == "columns-ignored"));
+    assert!(r.note_codes.iter().any(|c| c == "columns-ignored"));
 }
 
 #[test]
@@ -1406,7 +1407,7 @@ fn named_voltage_and_current_are_found_beside_other_channels() {
             (v, i)
         );
         assert!(
-            r.warning_codes.iter().any(|c| c == "columns-ignored"),
+            r.note_codes.iter().any(|c| c == "columns-ignored"),
             "{header:?}"
         );
         assert!(!r.warning_codes.iter().any(|c| c == "reversed-current"));
@@ -1442,7 +1443,7 @@ fn unnamed_channels_are_taken_in_order_only_when_there_are_two() {
     let r = json_one(&[], &f);
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
     assert_eq!(r.channels.current.chosen_by, "column order");
-    assert!(r.warning_codes.iter().any(|c| c == "channel-assumed"));
+    assert!(r.note_codes.iter().any(|c| c == "channel-assumed"));
     let f = write_columns(
         &dir,
         "four.csv",
@@ -1487,10 +1488,10 @@ fn blank_and_text_columns_are_left_out_with_a_note() {
     let r = json_one(&[], &f);
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
     let note = r
-        .warnings
+        .notes
         .iter()
         .find(|w| w.starts_with("columns not analysed"))
-        .unwrap_or_else(|| panic!("{:?}", r.warnings));
+        .unwrap_or_else(|| panic!("{:?}", r.notes));
     assert!(note.contains("'Spare' (column 4, blank)"), "{note}");
     assert!(note.contains("'Flag' (column 5, not numbers)"), "{note}");
     // A blank column between the channels, and chosen: the error names it and its line.
