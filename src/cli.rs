@@ -45,7 +45,8 @@ pub enum Command {
 const ANALYZE_HELP: &str = "\
 Examples:
   tracephase analyze fixtures/demo-workshop-compressor-before-capacitor.csv
-  tracephase analyze --v-scale 400 --i-scale 5 fixtures/demo-lab-bench-parallel-rl-24bit.wav
+  tracephase analyze --voltage 1 --current 2 --v-scale 400 --i-scale 5 \\
+      fixtures/demo-lab-bench-parallel-rl-24bit.wav
   tracephase analyze fixtures/demo-lab-bench-series-rlc-semicolon-decimal-comma.csv \\
       --expect fixtures/demo-lab-bench-series-rlc.toml --format json
 
