@@ -440,7 +440,7 @@ pub struct PccArgs {
 #[derive(Debug, Args, Clone)]
 #[command(next_help_heading = "Tolerance Monte Carlo")]
 pub struct MonteCarloArgs {
-    /// Random circuits drawn within the tolerances.
+    /// Random circuits drawn within the tolerances (1 to 10 000 000).
     #[arg(long, default_value_t = 100_000, value_name = "N")]
     pub draws: usize,
     /// Seed of the random draws (the same seed gives the same result).

@@ -10,7 +10,7 @@ use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions};
 use crate::check::circuit::Circuit;
 use crate::check::expected::expectation;
-use crate::check::tolerance::{Distribution, MonteCarloConfig};
+use crate::check::tolerance::{Distribution, MAX_DRAWS, MonteCarloConfig};
 use crate::cli::{
     AnalyzeArgs, ChannelArgs, Cli, Command, DistributionArg, ExpectArgs, FormatArg, MonteCarloArgs,
     PccArgs, UncertaintyArgs,
@@ -237,8 +237,12 @@ pub(crate) fn format(f: FormatArg) -> Format {
 
 /// Checks the Monte Carlo settings.
 pub fn resolve_monte_carlo(m: &MonteCarloArgs) -> Result<MonteCarloConfig, ConfigError> {
-    if m.draws == 0 {
-        return Err(ConfigError("--draws must be at least 1".into()));
+    if m.draws == 0 || m.draws > MAX_DRAWS {
+        return Err(ConfigError(format!(
+            "--draws must be from 1 to {MAX_DRAWS} (JCGM 101 asks for about 10^6 for a 95 % \
+             interval to two significant digits), not {}",
+            m.draws
+        )));
     }
     Ok(MonteCarloConfig {
         draws: m.draws,

@@ -126,6 +126,18 @@ pub enum ModelErrorKind {
     MissingNetwork,
     /// No `[parts.NAME]` tables.
     NoParts,
+    /// More parts than the tolerance search can handle in reasonable time.
+    TooManyParts {
+        /// Parts in the file.
+        count: usize,
+        /// The most a model may hold.
+        max: usize,
+    },
+    /// A value beyond the range of numbers (`1e300 GF`, `1e400 H`).
+    ValueOverflows {
+        /// The value text.
+        text: String,
+    },
     /// A part without `value`.
     MissingValue {
         /// The part.
@@ -332,6 +344,17 @@ impl fmt::Display for ModelErrorKind {
                 )
             }
             K::BadNumber { text, number } => write!(f, "'{text}': '{number}' is not a number"),
+            K::ValueOverflows { text } => write!(
+                f,
+                "'{text}': the value is beyond the range of numbers (more than 1.8e308 in \
+                 ohms, henries or farads); check the exponent and the prefix"
+            ),
+            K::TooManyParts { count, max } => write!(
+                f,
+                "{count} parts: a circuit model may hold at most {max} (the tolerance band's \
+                 search grows with the square of the part count); model the network the \
+                 measurement sees, merging parts in series or parallel"
+            ),
             K::DecimalComma { text } => {
                 write!(f, "'{text}': write decimals with a point, like '2.2 uF'")
             }

@@ -96,9 +96,9 @@ pub(super) fn parse_value(text: &str) -> Result<(f64, PartKind), ModelErrorKind>
         x * 10f64.powi(exponent)
     };
     if !value.is_finite() {
-        return Err(ModelErrorKind::BadNumber {
+        // `number` parsed, so only its size (with the prefix) can be out of range
+        return Err(ModelErrorKind::ValueOverflows {
             text: text.to_string(),
-            number: number.to_string(),
         });
     }
     if !(value > 0.0) {
@@ -361,7 +361,13 @@ mod tests {
             "'-50 ohm': the value must be greater than zero"
         );
         assert_eq!(msg("0 F"), "'0 F': the value must be greater than zero");
-        assert_eq!(msg("1e400 H"), "'1e400 H': '1e400' is not a number");
+        // a number too large for a double was reported as "not a number"
+        assert!(
+            msg("1e400 H").starts_with("'1e400 H': the value is beyond the range of numbers"),
+            "{}",
+            msg("1e400 H")
+        );
+        assert!(msg("1e300 GF").starts_with("'1e300 GF': the value is beyond the range"));
     }
 
     #[test]
