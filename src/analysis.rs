@@ -274,6 +274,18 @@ impl Analysis {
             s_va: s,
             pf: q.true_pf?,
             angle_deg: q.phase_angle_dft_deg?,
+            p1_w: q.power.fundamental_active_w,
+            q_budeanu_var: q
+                .harmonics
+                .iter()
+                .map(|h| h.voltage_rms * h.current_rms * h.angle_deg.to_radians().sin())
+                .sum(),
+            nonactive_var: q.power.nonactive_var,
+            s1_va: q.power.fundamental_apparent_va,
+            displacement_pf: q.displacement_pf?,
+            u_displacement_pf: u.displacement_pf?,
+            v1: q.voltage.fundamental_rms,
+            i1: q.current.fundamental_rms,
             v_rms: v,
             i_rms: i,
             u_p_w: u.power.active_w,

@@ -536,3 +536,85 @@ fn our_reversed_clamp_is_told_apart_from_the_meters_reversed_ct() {
     );
     assert!(!hints.contains("your own clamp"), "{hints}");
 }
+
+/// A meter that shows the nonactive power N on a load with 26 % current THD. With a sinusoidal
+/// voltage the IEEE Std 1459-2010 definitions (references §1) give P = P1 = V·I1·cos θ,
+/// Q1 = V·I1·sin θ, S = V·I with I = I1·√(1 + THD²), N = √(S² − P²). Judged as Q1 the reading
+/// is off by 100·(N/Q1 − 1) = +14.8 % at θ = 27.46°; it is N, within its class. Likewise a PF
+/// shown as the displacement PF cos θ against the true P/S.
+#[test]
+fn a_meter_showing_n_or_the_displacement_pf_is_judged_by_that_definition() {
+    let (v, i1, theta) = (230.0, 50.0, 27.46f64);
+    // 5th 10 A and 7th √69 A: THD = √(100 + 69)/50 = 26 %
+    let (i5, i7) = (10.0, 69f64.sqrt());
+    let thd = (i5 * i5 + i7 * i7).sqrt() / i1;
+    assert!((thd - 0.26).abs() < 1e-12);
+    let current = Waveform::sine(i1, -theta)
+        .with(5, i5, 40.0)
+        .with(7, i7, -75.0);
+    let dir = tempfile::TempDir::new().unwrap();
+    let path = synthetic(dir.path(), "thd26.csv", &sine_spec(current), &|x| x);
+    let (sin, cos) = theta.to_radians().sin_cos();
+    let p = v * i1 * cos;
+    let q1 = v * i1 * sin;
+    let s = v * i1 * (1.0 + thd * thd).sqrt();
+    let n = (s * s - p * p).sqrt();
+    let error_as_q1 = 100.0 * (n / q1 - 1.0);
+    assert!((error_as_q1 - 14.8).abs() < 0.01, "{error_as_q1}");
+
+    let reading = format!("q={n:.2}var,s={s:.2}VA");
+    let (code, r) = meter_on(&path, &["--class", "reactive-2", "--reading", &reading]);
+    assert_eq!(code, 0, "{r}");
+    let q = &r["checks"][0];
+    assert_eq!(q["quantity"], "q");
+    assert_eq!(q["verdict"], "pass", "{q}");
+    assert!(
+        q["definition"]
+            .as_str()
+            .unwrap()
+            .starts_with("N (nonactive"),
+        "{q}"
+    );
+    let measured = q["measured_value"].as_f64().unwrap();
+    assert!((measured / n - 1.0).abs() < 1e-4, "{measured} vs {n}");
+    assert!(q["note"].as_str().unwrap().contains("not Q1"), "{q}");
+    // S = V·I is IEEE 1459's own S: the first definition stands
+    let sc = &r["checks"][1];
+    assert!(
+        sc["definition"]
+            .as_str()
+            .unwrap()
+            .starts_with("S (arithmetic"),
+        "{sc}"
+    );
+
+    // the displacement PF cos θ against the true PF P/S = cos θ/√(1 + THD²)
+    let reading = format!("pf={cos:.4}");
+    let (code, r) = meter_on(&path, &["--class", "1", "--reading", &reading]);
+    assert_eq!(code, 0, "{r}");
+    let pf = &r["checks"][0];
+    assert_eq!(pf["verdict"], "pass", "{pf}");
+    assert!(
+        pf["definition"]
+            .as_str()
+            .unwrap()
+            .starts_with("displacement"),
+        "{pf}"
+    );
+    let true_pf = p / s;
+    assert!((true_pf - cos / (1.0 + thd * thd).sqrt()).abs() < 1e-12);
+
+    // a reading that is none of them is judged as Q1 and says so
+    let reading = format!("q={:.2}var", 1.3 * n);
+    let (code, r) = meter_on(&path, &["--class", "reactive-2", "--reading", &reading]);
+    assert_eq!(code, 1, "{r}");
+    let q = &r["checks"][0];
+    assert_eq!(q["verdict"], "fail", "{q}");
+    assert!(
+        q["definition"]
+            .as_str()
+            .unwrap()
+            .starts_with("none fits; judged as Q1"),
+        "{q}"
+    );
+}

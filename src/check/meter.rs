@@ -47,6 +47,7 @@
 //!     uncertainty, never closer than 2 % (our rule). A single quantity off alone gets no hint: it
 //!     is an inaccurate meter as far as we can tell.
 
+pub mod definitions;
 mod error;
 mod hints;
 mod input;
@@ -78,6 +79,22 @@ pub struct Measured {
     pub pf: f64,
     /// Phase angle V1 − I1, degrees, positive lagging.
     pub angle_deg: f64,
+    /// Fundamental active power P1, W.
+    pub p1_w: f64,
+    /// Budeanu's reactive power Σ Vh·Ih·sin θh, var.
+    pub q_budeanu_var: f64,
+    /// Nonactive power N = √(S² − P²), var (not negative).
+    pub nonactive_var: f64,
+    /// Fundamental apparent power S1 = V1·I1, VA.
+    pub s1_va: f64,
+    /// Displacement PF cos θ1.
+    pub displacement_pf: f64,
+    /// U of the displacement PF.
+    pub u_displacement_pf: f64,
+    /// Fundamental voltage RMS V1, V.
+    pub v1: f64,
+    /// Fundamental current RMS I1, A.
+    pub i1: f64,
     /// Voltage RMS, V.
     pub v_rms: f64,
     /// Current RMS, A.
@@ -134,6 +151,9 @@ impl From<Verdict> for MeterVerdict {
 pub struct MeterCheck {
     /// "pf", "p", "q", "s", "v" or "i".
     pub quantity: &'static str,
+    /// The definition of the quantity the reading was judged as, e.g. "N (nonactive √(S² − P²),
+    /// IEEE 1459, signed as Q1)"; it starts "none fits" when the reading fits no candidate.
+    pub definition: String,
     /// What the meter shows (W, var, VA, V, A; PF as signed by the meter).
     pub meter_value: f64,
     /// Our value in the same units (PF signed by the meter's convention).
@@ -288,42 +308,58 @@ pub fn check(
     let mut checks = Vec::new();
     let active = at(class.active_limit_percent(pf_abs), pf_abs, 1.0);
     if let Some(x) = reading.pf {
-        checks.push(check_pf(x, m, class, pf_sign, active.clone()));
+        let mut wrong_sign = false;
+        let mut each: Vec<MeterCheck> = definitions::candidates("pf", m)
+            .into_iter()
+            .map(|d| {
+                let (mut c, wrong) = check_pf(x, d.value, d.u, m, class, pf_sign, active.clone());
+                wrong_sign |= wrong;
+                c.definition = d.name.to_string();
+                c
+            })
+            .collect();
+        // a PF of the wrong sign is that, whatever the definition
+        checks.push(if wrong_sign {
+            each.swap_remove(0)
+        } else {
+            choose(each)
+        });
     }
+    // one quantity against each of its candidate definitions
+    let judge = |q: &'static str, x: f64, limit: &(f64, Option<String>), note: Option<String>| {
+        let share = match q {
+            "p" => Some("P"),
+            "q" => Some("Q"),
+            _ => None,
+        };
+        let each = definitions::candidates(q, m)
+            .into_iter()
+            .map(|d| {
+                let mut c = Compare::new(q, x, d.value, d.u, limit.0, note.clone())
+                    .with_note(limit.1.clone());
+                if let Some(symbol) = share {
+                    c = c.share_of_s(m.s_va, symbol);
+                }
+                let mut c = c.finish();
+                c.definition = d.name.to_string();
+                c
+            })
+            .collect();
+        choose(each)
+    };
     if let Some(x) = reading.p_w {
-        let c = Compare::new("p", x, m.p_w, m.u_p_w, active.0, class.active_note(pf_abs));
-        checks.push(
-            c.with_note(active.1.clone())
-                .share_of_s(m.s_va, "P")
-                .finish(),
-        );
+        checks.push(judge("p", x, &active, class.active_note(pf_abs)));
     }
     if let Some(x) = reading.q_var {
-        let (limit, note) = at(
+        let limit = at(
             class.reactive_limit_percent(sin_phi),
             sin_phi,
             reactive_scale,
         );
-        let c = Compare::new(
-            "q",
-            x,
-            m.q_var,
-            m.u_q_var,
-            limit,
-            class.reactive_note(sin_phi),
-        );
-        checks.push(c.with_note(note).share_of_s(m.s_va, "Q").finish());
+        checks.push(judge("q", x, &limit, class.reactive_note(sin_phi)));
     }
     if let Some(x) = reading.s_va {
-        let c = Compare::new(
-            "s",
-            x,
-            m.s_va,
-            m.u_s_va,
-            active.0,
-            class.active_note(pf_abs),
-        );
-        checks.push(c.with_note(active.1.clone()).finish());
+        checks.push(judge("s", x, &active, class.active_note(pf_abs)));
     }
     let unity_note = || {
         class.active_note(1.0).or_else(|| {
@@ -334,14 +370,12 @@ pub fn check(
             ))
         })
     };
-    let (unity, unity_current) = at(class.active_limit_percent(1.0), 1.0, 1.0);
+    let unity = at(class.active_limit_percent(1.0), 1.0, 1.0);
     if let Some(x) = reading.v {
-        let c = Compare::new("v", x, m.v_rms, m.u_v, unity, unity_note());
-        checks.push(c.with_note(unity_current.clone()).finish());
+        checks.push(judge("v", x, &unity, unity_note()));
     }
     if let Some(x) = reading.i {
-        let c = Compare::new("i", x, m.i_rms, m.u_i, unity, unity_note());
-        checks.push(c.with_note(unity_current).finish());
+        checks.push(judge("i", x, &unity, unity_note()));
     }
     let mut undermined: Vec<&'static str> = Vec::new();
     for c in &mut checks {
@@ -475,6 +509,7 @@ impl Compare {
             };
         MeterCheck {
             quantity: self.quantity,
+            definition: String::new(),
             meter_value: self.meter,
             measured_value: self.measured,
             error_percent: error,
@@ -486,15 +521,99 @@ impl Compare {
     }
 }
 
-/// The PF check: our PF signed the meter's way, a wrong sign explained.
+/// The check against the definition the reading matches (the rule in [`definitions`]): `each`
+/// holds one check per candidate, IEEE 1459's own first.
+fn choose(each: Vec<MeterCheck>) -> MeterCheck {
+    let size = |c: &MeterCheck| {
+        if c.error_percent.is_finite() {
+            c.error_percent.abs()
+        } else {
+            f64::INFINITY
+        }
+    };
+    let fitting: Vec<usize> = (0..each.len())
+        .filter(|&k| each[k].verdict != MeterVerdict::Fail && size(&each[k]).is_finite())
+        .collect();
+    let Some(&nearest) = fitting
+        .iter()
+        .min_by(|&&a, &&b| size(&each[a]).total_cmp(&size(&each[b])))
+    else {
+        let mut first = each[0].clone();
+        if each.iter().any(|c| c.error_percent.is_finite()) {
+            let errors: Vec<String> = each
+                .iter()
+                .map(|c| format!("{} {}", c.definition, signed_percent(c.error_percent)))
+                .collect();
+            first.add_note(format!(
+                "the reading fits none of the definitions (errors: {}); judged as the first",
+                errors.join(", ")
+            ));
+            first.definition = format!("none fits; judged as {}", first.definition);
+        }
+        return first;
+    };
+    // the first stands while it is no further from the reading than our uncertainty
+    let first = &each[0];
+    let pick = if fitting.contains(&0)
+        && size(first) - size(&each[nearest]) <= first.uncertainty_percent
+    {
+        0
+    } else {
+        nearest
+    };
+    let mut chosen = each[pick].clone();
+    let also: Vec<&str> = fitting
+        .iter()
+        .filter(|&&k| k != pick)
+        .map(|&k| each[k].definition.as_str())
+        .collect();
+    if pick != 0 {
+        chosen.add_note(format!(
+            "the reading matches {} and not {} ({}): judged as {}",
+            chosen.definition,
+            first.definition,
+            signed_percent(first.error_percent),
+            chosen.definition
+        ));
+    } else if !also.is_empty() && each.len() > 1 {
+        // clean waveforms make the definitions agree: worth saying only when they differ
+        let spread = each
+            .iter()
+            .map(|c| c.measured_value)
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), x| {
+                (lo.min(x), hi.max(x))
+            });
+        if spread.1 - spread.0 > 1e-3 * spread.1.abs().max(spread.0.abs()) {
+            chosen.add_note(format!(
+                "the reading also fits {} on this capture",
+                also.join(" and ")
+            ));
+        }
+    }
+    chosen
+}
+
+/// An error in percent with its sign, or "n/a".
+fn signed_percent(x: f64) -> String {
+    if x.is_finite() {
+        format!("{x:+.2} %")
+    } else {
+        "n/a".into()
+    }
+}
+
+/// The PF check against our PF `value` (±`u`) by one definition, signed the meter's way, a
+/// wrong sign explained.
 fn check_pf(
     meter: f64,
+    value: f64,
+    u: f64,
     m: &Measured,
     class: AccuracyClass,
     sign: PfSign,
     (limit, current_note): (f64, Option<String>),
-) -> MeterCheck {
-    let pf_abs = m.pf.abs();
+) -> (MeterCheck, bool) {
+    let pf_abs = value.abs();
     let p_unsure = m.p_w.abs() <= m.u_p_w.abs();
     let q_unsure = m.q_var.abs() <= m.u_q_var.abs();
     let uncertain_sign = match sign {
@@ -512,11 +631,11 @@ fn check_pf(
         ));
         pf_abs.copysign(meter)
     } else {
-        sign.apply(m.pf, m.p_w, m.q_var)
+        sign.apply(value, m.p_w, m.q_var)
     };
     let wrong_sign =
         !uncertain_sign && meter != 0.0 && ours != 0.0 && (meter < 0.0) != (ours < 0.0);
-    let mut c = Compare::new("pf", meter, ours, m.u_pf, limit, None);
+    let mut c = Compare::new("pf", meter, ours, u, limit, None);
     c.notes = notes;
     if pf_abs < LOW_SHARE {
         c.reference = 1.0;
@@ -539,7 +658,7 @@ fn check_pf(
         let fitting: Vec<&str> = PF_SIGNS
             .into_iter()
             .filter(|s| *s != PfSign::Unsigned)
-            .filter(|s| (s.apply(m.pf, m.p_w, m.q_var) < 0.0) == (meter < 0.0))
+            .filter(|s| (s.apply(value, m.p_w, m.q_var) < 0.0) == (meter < 0.0))
             .map(PfSign::as_str)
             .collect();
         let why = if sign == PfSign::Unsigned {
@@ -565,7 +684,7 @@ fn check_pf(
             None => text,
         });
     }
-    check
+    (check, wrong_sign)
 }
 
 #[cfg(test)]
@@ -585,6 +704,14 @@ mod tests {
             s_va: s,
             pf: cos,
             angle_deg,
+            p1_w: p,
+            q_budeanu_var: q,
+            nonactive_var: q.abs(),
+            s1_va: s,
+            displacement_pf: cos,
+            u_displacement_pf: 1e-3,
+            v1: v,
+            i1: i,
             v_rms: v,
             i_rms: i,
             u_p_w: 1e-3 * s,

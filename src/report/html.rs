@@ -980,7 +980,7 @@ fn meter_section(h: &mut String, m: &MeterSection) -> std::fmt::Result {
             h,
             "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>\
              <td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>\
-             <td>{}{}</td></tr>",
+             <td>{} as {}{}</td></tr>",
             escape(c.quantity),
             num(c.meter_value, 5),
             num(c.measured_value, 5),
@@ -988,9 +988,10 @@ fn meter_section(h: &mut String, m: &MeterSection) -> std::fmt::Result {
             num(c.limit_percent, 2),
             num(c.uncertainty_percent, 2),
             verdict_badge(v),
+            escape(&c.definition),
             c.note
                 .as_ref()
-                .map(|n| format!(" {}", escape(n)))
+                .map(|n| format!("; {}", escape(n)))
                 .unwrap_or_default()
         )?;
     }

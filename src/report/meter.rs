@@ -39,6 +39,7 @@ pub fn write(out: &mut dyn Write, r: &MeterReport, a: &Analysis, format: Format)
             w.write_record([
                 "file",
                 "quantity",
+                "definition",
                 "meter_value",
                 "measured_value",
                 "error_percent",
@@ -61,6 +62,7 @@ pub fn write(out: &mut dyn Write, r: &MeterReport, a: &Analysis, format: Format)
                 w.write_record([
                     record.file.clone(),
                     get("quantity"),
+                    get("definition"),
                     get("meter_value"),
                     get("measured_value"),
                     get("error_percent"),
@@ -110,6 +112,7 @@ fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
             num(c.uncertainty_percent, 2),
             c.verdict.as_str().to_uppercase(),
         )?;
+        writeln!(out, "  {:<10}  as: {}", "", c.definition)?;
         if let Some(n) = &c.note {
             writeln!(out, "  {:<10}  note: {n}", "")?;
         }
