@@ -242,7 +242,8 @@ impl Analysis {
     }
 
     /// Compares the measured angle with what `circuit` predicts at the measured frequency and
-    /// records the verdict in [`Analysis::expected`], when the angle is defined; gives the
+    /// records the verdict in [`Analysis::expected`] (`inconclusive` with the reason when the
+    /// capture cannot support the angle), when the angle is defined; gives the
     /// prediction (band, Monte Carlo spread) for plots.
     pub fn compare_with_model(
         &mut self,
@@ -256,7 +257,9 @@ impl Analysis {
         };
         let (v1, i1) = q.fundamentals;
         let e = expected::expectation(circuit, q.frequency_hz, mc);
-        self.expected = Some(expected::compare_to(circuit, &e, v1, i1, angle, u));
+        let mut x = expected::compare_to(circuit, &e, v1, i1, angle, u);
+        x.undermined_by(&self.verdict_doubts());
+        self.expected = Some(x);
         Some(e)
     }
 

@@ -497,3 +497,118 @@ fn a_missing_bank_out_capture_is_an_error_row_that_keeps_the_analysis() {
     let irms: f64 = on[column(&text, "current.rms")].parse().unwrap();
     assert!(irms > 7.0 && irms < 9.0, "{irms}");
 }
+
+/// As [`capture`], 230 V and `amps` A lagging `lag` degrees at 10 kS/s, but the current is cut
+/// off at `clip` of its peak, as a clamp on too small a range gives it: invented test data.
+fn clipped_capture(path: &Path, amps: f64, lag: f64, clip: f64, samples: usize) {
+    let rate = 10_000.0;
+    let (v_peak, i_peak) = (230.0 * 2f64.sqrt(), amps * 2f64.sqrt());
+    let mut text = String::from("t,v,i\n");
+    for k in 0..samples {
+        let x = 2.0 * std::f64::consts::PI * 50.0 * k as f64 / rate;
+        let i = (i_peak * (x - lag.to_radians()).sin()).clamp(-clip * i_peak, clip * i_peak);
+        text.push_str(&format!(
+            "{:.6},{:.4},{i:.6}\n",
+            k as f64 / rate,
+            v_peak * x.sin()
+        ));
+    }
+    std::fs::create_dir_all(path.parent().unwrap()).unwrap();
+    std::fs::write(path, text).unwrap();
+}
+
+/// The rows of a `--format json` batch run over `root`, and its exit code.
+fn json_rows(root: &Path, extra: &[&str]) -> (Vec<serde_json::Value>, Option<i32>) {
+    let out = tracephase()
+        .args(["batch", "--format", "json"])
+        .args(extra)
+        .arg(root)
+        .output()
+        .unwrap();
+    let rows = String::from_utf8(out.stdout)
+        .unwrap()
+        .lines()
+        .map(|l| serde_json::from_str(l).unwrap())
+        .collect();
+    (rows, out.status.code())
+}
+
+#[test]
+fn a_model_verdict_on_a_clipped_capture_is_inconclusive_with_the_reason() {
+    let dir = TempDir::new().unwrap();
+    // 30° against a pure resistor is `outside` on a clean capture (a_failed_verdict_gives_exit_
+    // code_1); here the current is cut at 60 % of its peak
+    clipped_capture(&dir.path().join("a.csv"), 10.0, 30.0, 0.6, 2000);
+    std::fs::write(
+        dir.path().join("r.toml"),
+        "network = \"R1\"\n[parts.R1]\nvalue = \"23 ohm\"\ntolerance = \"±1%\"\n",
+    )
+    .unwrap();
+    std::fs::write(dir.path().join("tracephase.toml"), "expect = \"r.toml\"\n").unwrap();
+    let report = dir.path().join("report.html");
+    let (rows, code) = json_rows(dir.path(), &["--draws", "1000"]);
+    assert_eq!(code, Some(0), "no failed verdict: {rows:?}");
+    let row = &rows[0];
+    assert_eq!(row["status"], "warning");
+    assert_eq!(row["warning_codes"][0], "clipping");
+    assert!(row["message"].as_str().unwrap().contains("clipped"));
+    assert_eq!(row["expected"]["verdict"], "inconclusive");
+    let reason = row["expected"]["reason"].as_str().unwrap();
+    assert!(
+        reason.contains("cannot support the angle") && reason.contains("current trace is clipped"),
+        "{reason}"
+    );
+    // the report's summary gives the reason beside the verdict
+    let out = tracephase()
+        .args(["batch", "--draws", "1000", "--report"])
+        .arg(&report)
+        .arg(dir.path())
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    let html = std::fs::read_to_string(&report).unwrap();
+    assert!(
+        html.contains("<td>model inconclusive: the capture cannot support the angle: the current"),
+        "summary checks"
+    );
+}
+
+#[test]
+fn a_bank_verdict_resting_on_a_clipped_bank_out_capture_is_inconclusive_and_carries_its_warnings() {
+    // the pair of a_bank_pair_in_a_sidecar_gets_the_bank_verdict (a `fail`), with the bank-out
+    // capture's current cut at 60 % of its peak
+    let dir = bank_site(BANK_SIDECAR);
+    let off = dir.path().join("bank/feeder-bank-off.csv");
+    clipped_capture(&off, 10.0, 40.0, 0.6, 4000);
+    let (rows, code) = json_rows(&dir.path().join("bank"), &[]);
+    assert_eq!(code, Some(0), "{rows:?}");
+    let on = rows
+        .iter()
+        .find(|r| r["file"].as_str().unwrap().ends_with("feeder-bank-on.csv"))
+        .unwrap();
+    assert_eq!(on["bank"]["verdict"], "inconclusive");
+    let reason = on["bank"]["reason"].as_str().unwrap();
+    let off_name = off.display().to_string();
+    assert!(
+        reason.contains(&format!(
+            "bank-out capture {off_name}: the current trace is clipped"
+        )),
+        "{reason}"
+    );
+    // the bank-on capture is clean, but its row carries the bank-out capture's warning
+    assert!(on["warnings"].as_array().unwrap().is_empty());
+    assert_eq!(on["status"], "warning");
+    assert!(
+        on["bank"]["before_warnings"][0]
+            .as_str()
+            .unwrap()
+            .contains("clipped")
+    );
+    assert!(
+        on["message"].as_str().unwrap().starts_with(&format!(
+            "bank-out capture {off_name}: current trace looks clipped"
+        )),
+        "{}",
+        on["message"]
+    );
+}

@@ -403,11 +403,20 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
             "pass"
         };
         row.verdict_failed |= !failed.is_empty();
+        // the meter check left the checks resting on a doubtful trace inconclusive; say why
+        let doubts = a.verdict_doubts();
+        let reason = (verdict == "inconclusive" && !doubts.is_empty()).then(|| {
+            format!(
+                "the capture cannot support the figures: {}",
+                doubts.join("; ")
+            )
+        });
         if let Value::Object(m) = &mut result {
             m.insert(
                 "meter".into(),
                 serde_json::json!({
                     "verdict": verdict,
+                    "reason": reason,
                     "failed_checks": failed,
                     "wiring_hints": r.wiring_hints,
                     "class": r.class,
@@ -422,13 +431,48 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
     // The bank-out capture itself, matched by the same pattern, has nothing to compare with.
     if let Some(spec) = setup.bank.as_ref().filter(|b| b.before != job.path) {
         match bank_check(&a, spec, setup) {
-            Ok(r) => {
+            Ok((mut r, before)) => {
+                // The delivered kvar rests on both captures: either one's doubts leave the
+                // verdict inconclusive, and the bank-out capture's warnings join this row's.
+                let before_name = before.path.display().to_string();
+                let mut doubts = a.verdict_doubts();
+                doubts.extend(
+                    before
+                        .verdict_doubts()
+                        .into_iter()
+                        .map(|d| format!("bank-out capture {before_name}: {d}")),
+                );
+                let reason = (!doubts.is_empty()).then(|| {
+                    format!(
+                        "the captures cannot support the delivered kvar: {}",
+                        doubts.join("; ")
+                    )
+                });
+                if reason.is_some() {
+                    r.verdict = BankVerdict::Inconclusive;
+                }
+                let before_warnings = crate::report::wire::words(&before, Severity::Warning);
+                if !before_warnings.is_empty() {
+                    row.status = Status::Warning;
+                    let theirs = before_warnings
+                        .iter()
+                        .map(|w| format!("bank-out capture {before_name}: {w}"))
+                        .collect::<Vec<_>>()
+                        .join("; ");
+                    row.message = if row.message.is_empty() {
+                        theirs
+                    } else {
+                        format!("{}; {theirs}", row.message)
+                    };
+                }
                 row.verdict_failed |= r.verdict == BankVerdict::Fail;
                 if let Value::Object(m) = &mut result {
                     m.insert(
                         "bank".into(),
                         serde_json::json!({
                             "verdict": r.verdict,
+                            "reason": reason,
+                            "before_warnings": before_warnings,
                             "before": spec.before.display().to_string(),
                             "delivered_kvar": r.delivered_kvar,
                             "delivered_uncertainty_kvar": r.delivered_uncertainty_kvar,
@@ -458,12 +502,12 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
 }
 
 /// The bank check of an analysed capture against its bank-out capture, analysed here with the
-/// same settings.
+/// same settings; gives the bank-out capture's analysis too (its warnings travel with the row).
 fn bank_check(
     after: &analysis::Analysis,
     spec: &BankSpec,
     setup: &Setup,
-) -> Result<BankReport, String> {
+) -> Result<(BankReport, analysis::Analysis), String> {
     let before = capture::load(&spec.before, &setup.load)
         .map_err(|e| format!("bank-out capture {e}"))
         .and_then(|c| {
@@ -477,7 +521,8 @@ fn bank_check(
     };
     let b = before.bank_side().ok_or_else(|| no_angle(&before))?;
     let a = after.bank_side().ok_or_else(|| no_angle(after))?;
-    Ok(bank::check_bank(&b, &a, &spec.nameplate))
+    let report = bank::check_bank(&b, &a, &spec.nameplate);
+    Ok((report, before))
 }
 
 /// The CSV columns of a summary: the lead columns, the `analyze` keys flattened with dots (the

@@ -51,15 +51,19 @@ pub const LEAD_COLUMNS: [&str; 6] = [
 ];
 
 /// Columns of the verdicts, after the analysis keys.
-pub const VERDICT_COLUMNS: [&str; 14] = [
+pub const VERDICT_COLUMNS: [&str; 18] = [
     "expected.verdict",
+    "expected.reason",
     "expected.nominal_phase_deg",
     "expected.band_deg",
     "expected.margin_deg",
     "meter.verdict",
+    "meter.reason",
     "meter.failed_checks",
     "meter.wiring_hints",
     "bank.verdict",
+    "bank.reason",
+    "bank.before_warnings",
     "bank.before",
     "bank.delivered_kvar",
     "bank.delivered_uncertainty_kvar",
@@ -134,7 +138,9 @@ pub fn fingerprint(bytes: &[u8]) -> String {
 
 impl Row {
     /// The verdicts of the checks that ran, in a few words for a report's summary table:
-    /// `model consistent; meter fail (p, q); bank fail (1 step failed)`; empty when none ran.
+    /// `model consistent; meter fail (p, q); bank fail (1 step failed)`, with the reason of an
+    /// inconclusive one the capture could not support (`bank inconclusive: the captures cannot
+    /// support...`); empty when none ran.
     pub fn checks(&self) -> String {
         let Some(r) = &self.result else {
             return String::new();
@@ -144,9 +150,16 @@ impl Row {
                 .and_then(|x| x.get("verdict"))
                 .and_then(Value::as_str)
         };
+        let reason = |k: &str| {
+            r.get(k)
+                .and_then(|x| x.get("reason"))
+                .and_then(Value::as_str)
+                .map(|why| format!(": {why}"))
+                .unwrap_or_default()
+        };
         let mut out = Vec::new();
         if let Some(v) = verdict("expected") {
-            out.push(format!("model {v}"));
+            out.push(format!("model {v}{}", reason("expected")));
         }
         if let Some(v) = verdict("meter") {
             let failed: Vec<&str> = r["meter"]["failed_checks"]
@@ -154,7 +167,7 @@ impl Row {
                 .map(|a| a.iter().filter_map(Value::as_str).collect())
                 .unwrap_or_default();
             out.push(if failed.is_empty() {
-                format!("meter {v}")
+                format!("meter {v}{}", reason("meter"))
             } else {
                 format!("meter {v} ({})", failed.join(", "))
             });
@@ -165,7 +178,7 @@ impl Row {
                     "bank {v} ({n} step{} failed)",
                     if n == 1 { "" } else { "s" }
                 ),
-                _ => format!("bank {v}"),
+                _ => format!("bank {v}{}", reason("bank")),
             });
         }
         out.join("; ")

@@ -144,6 +144,9 @@ pub struct Expected {
     pub margin_deg: f64,
     /// The rule the verdict follows.
     pub decision_rule: &'static str,
+    /// Why the verdict is `inconclusive` whatever the margin, when the capture cannot support the
+    /// angle (clipping, too few cycles, no fundamental); `None` otherwise.
+    pub reason: Option<String>,
     /// What the measured impedance says.
     pub explanation: Explanation,
 }
@@ -304,6 +307,7 @@ pub fn compare_to(
         verdict: d.verdict,
         margin_deg: d.margin,
         decision_rule: DECISION_RULE,
+        reason: None,
         explanation: Explanation {
             impedance_ohm: z.norm(),
             series_resistance_ohm: z.re,
@@ -319,5 +323,18 @@ impl Expected {
     /// True when the verdict is `outside`.
     pub fn failed(&self) -> bool {
         self.verdict == Verdict::Outside
+    }
+
+    /// Makes the verdict `inconclusive` because the capture cannot support the angle, for the
+    /// `doubts` given (the reasons of the capture's warnings); nothing when there are none.
+    pub fn undermined_by(&mut self, doubts: &[String]) {
+        if doubts.is_empty() {
+            return;
+        }
+        self.verdict = Verdict::Inconclusive;
+        self.reason = Some(format!(
+            "the capture cannot support the angle: {}",
+            doubts.join("; ")
+        ));
     }
 }

@@ -410,7 +410,10 @@ pub fn summary_rows(entries: &[Entry]) -> Vec<BatchRow> {
                 checks: a
                     .expected
                     .as_ref()
-                    .map(|x| format!("model {}", x.verdict.as_str()))
+                    .map(|x| match &x.reason {
+                        Some(why) => format!("model {}: {why}", x.verdict.as_str()),
+                        None => format!("model {}", x.verdict.as_str()),
+                    })
                     .unwrap_or_default(),
             },
         })
@@ -830,6 +833,9 @@ fn expected_block(h: &mut String, e: &Expected) -> std::fmt::Result {
         num(e.monte_carlo_95_deg[0], 4),
         num(e.monte_carlo_95_deg[1], 4),
     )?;
+    if let Some(r) = &e.reason {
+        writeln!(h, "<p>No verdict: {}.</p>", escape(r))?;
+    }
     let x = &e.explanation;
     writeln!(
         h,

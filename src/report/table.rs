@@ -307,6 +307,9 @@ fn expected_block(out: &mut dyn Write, e: &Expected) -> io::Result<()> {
             "°"
         ),
     )?;
+    if let Some(r) = &e.reason {
+        writeln!(out, "  reason       {r}")?;
+    }
     writeln!(out, "  rule         {}", e.decision_rule)?;
     let x = &e.explanation;
     writeln!(out, "  measured Z   {}", impedance_text(e))?;
