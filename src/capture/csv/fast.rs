@@ -1,0 +1,365 @@
+//! The fast reader: the data region is cut at line ends into one part per core; each part is read
+//! in blocks, split on newlines with `memchr`, its cells parsed with `fast_float2` straight into
+//! that part's share of the two pre-sized columns. It vouches only for plain rows: whatever else
+//! it meets makes it give up, and the caller reads the region again with the `csv` crate.
+
+use super::{Columns, Layout, RowSpec, TimeCheck, Tuning, decimal, estimated_rows, parse_f64};
+use memchr::{memchr, memchr_iter, memrchr};
+use std::fs::File;
+use std::io::{ErrorKind, Read, Seek, SeekFrom};
+use std::path::Path;
+use std::sync::atomic::{AtomicBool, Ordering};
+
+/// A part met something only the reference reader handles (or could not be read).
+#[derive(Debug)]
+struct GiveUp;
+
+/// One part's share of the columns, and what it found.
+struct Out<'a> {
+    v: &'a mut [f64],
+    i: &'a mut [f64],
+    /// Rows written into `v` and `i`.
+    n: usize,
+    /// Rows beyond the pre-sized share.
+    spill_v: Vec<f64>,
+    spill_i: Vec<f64>,
+    time: TimeCheck,
+}
+
+/// What a finished part hands back.
+struct Part {
+    n: usize,
+    spill_v: Vec<f64>,
+    spill_i: Vec<f64>,
+    time: TimeCheck,
+}
+
+impl Out<'_> {
+    #[inline]
+    fn push(&mut self, t: f64, v: f64, i: f64, timed: bool) -> Result<(), GiveUp> {
+        if timed {
+            self.time.push(t).map_err(|_| GiveUp)?;
+        }
+        match (self.v.get_mut(self.n), self.i.get_mut(self.n)) {
+            (Some(a), Some(b)) => {
+                *a = v;
+                *b = i;
+                self.n += 1;
+            }
+            _ => {
+                self.spill_v.push(v);
+                self.spill_i.push(i);
+            }
+        }
+        Ok(())
+    }
+
+    fn finish(self) -> Part {
+        Part {
+            n: self.n,
+            spill_v: self.spill_v,
+            spill_i: self.spill_i,
+            time: self.time,
+        }
+    }
+}
+
+/// Reads the data region from `data_start` to the end of the file; `None` when the reference
+/// reader must do it (see the module note). `file` is only used to find the cut points.
+pub(super) fn read(
+    file: &mut File,
+    path: &Path,
+    data_start: u64,
+    file_len: u64,
+    spec: &RowSpec,
+    layout: &Layout,
+    tuning: Tuning,
+) -> Option<Columns> {
+    let region = file_len.saturating_sub(data_start);
+    let parts = (region / tuning.min_part_bytes.max(1)).clamp(1, tuning.max_parts.max(1) as u64);
+    let bounds = cut(file, data_start, file_len, parts as usize).ok()?;
+    let caps: Vec<usize> = bounds
+        .windows(2)
+        .map(|w| estimated_rows(w[1] - w[0], layout))
+        .collect();
+    let total: usize = caps.iter().sum();
+    // Zeroed (calloc'd) columns: pages a part never writes are never touched.
+    let mut v = vec![0.0f64; total];
+    let mut i = vec![0.0f64; total];
+    let cancel = AtomicBool::new(false);
+    let block = tuning.block_bytes.max(1);
+    let results: Vec<Result<Part, GiveUp>> = {
+        let outs = carve(&mut v, &caps)
+            .into_iter()
+            .zip(carve(&mut i, &caps))
+            .map(|(v, i)| Out {
+                v,
+                i,
+                n: 0,
+                spill_v: Vec::new(),
+                spill_i: Vec::new(),
+                time: TimeCheck::default(),
+            });
+        let last = caps.len() - 1;
+        let jobs: Vec<_> = outs
+            .enumerate()
+            .map(|(k, out)| {
+                // The last part reads on to the end of the file, as the reference reader does.
+                let limit = (k < last).then(|| bounds[k + 1] - bounds[k]);
+                (bounds[k], limit, out)
+            })
+            .collect();
+        let run = |(start, limit, mut out): (u64, Option<u64>, Out<'_>)| {
+            let r = read_part(path, start, limit, spec, block, &mut out, &cancel);
+            if r.is_err() {
+                cancel.store(true, Ordering::Relaxed);
+            }
+            r.map(|()| out.finish())
+        };
+        std::thread::scope(|s| {
+            let mut jobs = jobs.into_iter();
+            let first = jobs.next();
+            let spawned: Vec<_> = jobs
+                .map(|job| std::thread::Builder::new().spawn_scoped(s, || run(job)))
+                .collect();
+            let mut results = Vec::with_capacity(caps.len());
+            results.extend(first.map(run));
+            for h in spawned {
+                results.push(match h {
+                    Ok(h) => match h.join() {
+                        Ok(r) => r,
+                        Err(panic) => std::panic::resume_unwind(panic),
+                    },
+                    // No thread to be had: let the reference reader do it all.
+                    Err(_) => {
+                        cancel.store(true, Ordering::Relaxed);
+                        Err(GiveUp)
+                    }
+                });
+            }
+            results
+        })
+    };
+    let parts: Vec<Part> = results.into_iter().collect::<Result<_, _>>().ok()?;
+    let mut time = TimeCheck::default();
+    for p in &parts {
+        time.append(&p.time).ok()?;
+    }
+    let used: Vec<usize> = parts.iter().map(|p| p.n).collect();
+    let (spill_v, spill_i): (Vec<_>, Vec<_>) =
+        parts.into_iter().map(|p| (p.spill_v, p.spill_i)).unzip();
+    Some(Columns {
+        v: assemble(v, &caps, &used, spill_v),
+        i: assemble(i, &caps, &used, spill_i),
+        time,
+    })
+}
+
+/// Start offsets of up to `parts` parts of `start..end`, each just after a newline, followed
+/// by `end`.
+fn cut(file: &mut File, start: u64, end: u64, parts: usize) -> std::io::Result<Vec<u64>> {
+    let end = end.max(start);
+    let len = end - start;
+    let mut bounds = vec![start];
+    let mut buf = [0u8; 4096];
+    for k in 1..parts {
+        let guess = start + (u128::from(len) * k as u128 / parts as u128) as u64;
+        if bounds.last().is_some_and(|&b| guess <= b) {
+            continue;
+        }
+        match next_line_start(file, guess, end, &mut buf)? {
+            Some(b) if b < end => bounds.push(b),
+            _ => break,
+        }
+    }
+    bounds.push(end);
+    Ok(bounds)
+}
+
+/// Offset just after the first newline at or after `from`, if one comes before `end`.
+fn next_line_start(
+    file: &mut File,
+    from: u64,
+    end: u64,
+    buf: &mut [u8],
+) -> std::io::Result<Option<u64>> {
+    file.seek(SeekFrom::Start(from))?;
+    let mut pos = from;
+    while pos < end {
+        let n = match file.read(buf) {
+            Ok(0) => return Ok(None),
+            Ok(n) => n,
+            Err(e) if e.kind() == ErrorKind::Interrupted => continue,
+            Err(e) => return Err(e),
+        };
+        if let Some(k) = memchr(b'\n', &buf[..n]) {
+            return Ok(Some(pos + k as u64 + 1));
+        }
+        pos += n as u64;
+    }
+    Ok(None)
+}
+
+/// Splits `col` into consecutive slices of the given sizes.
+fn carve<'a>(mut col: &'a mut [f64], sizes: &[usize]) -> Vec<&'a mut [f64]> {
+    let mut out = Vec::with_capacity(sizes.len());
+    for &n in sizes {
+        let (a, b) = std::mem::take(&mut col).split_at_mut(n.min(col.len()));
+        out.push(a);
+        col = b;
+    }
+    out
+}
+
+/// Closes the gaps between the parts' shares (and adds what spilled over), in file order.
+fn assemble(mut col: Vec<f64>, caps: &[usize], used: &[usize], spills: Vec<Vec<f64>>) -> Vec<f64> {
+    let last = spills.len().saturating_sub(1);
+    if spills[..last].iter().any(|s| !s.is_empty()) {
+        // A part held more rows than estimated (rare): build the column afresh.
+        let total = used.iter().sum::<usize>() + spills.iter().map(Vec::len).sum::<usize>();
+        let mut whole = Vec::with_capacity(total);
+        let mut at = 0;
+        for ((&cap, &n), spill) in caps.iter().zip(used).zip(&spills) {
+            whole.extend_from_slice(&col[at..at + n]);
+            whole.extend_from_slice(spill);
+            at += cap;
+        }
+        return whole;
+    }
+    let (mut at, mut w) = (0, 0);
+    for (&cap, &n) in caps.iter().zip(used) {
+        col.copy_within(at..at + n, w);
+        w += n;
+        at += cap;
+    }
+    col.truncate(w);
+    if let Some(spill) = spills.last() {
+        col.extend_from_slice(spill);
+    }
+    col
+}
+
+/// Reads one part (`limit` bytes from `start`, or to the end of the file) into `out`.
+fn read_part(
+    path: &Path,
+    start: u64,
+    limit: Option<u64>,
+    spec: &RowSpec,
+    block: usize,
+    out: &mut Out<'_>,
+    cancel: &AtomicBool,
+) -> Result<(), GiveUp> {
+    let mut file = File::open(path).map_err(|_| GiveUp)?;
+    file.seek(SeekFrom::Start(start)).map_err(|_| GiveUp)?;
+    let mut src = file.take(limit.unwrap_or(u64::MAX));
+    let mut buf = vec![0u8; block];
+    let mut filled = 0;
+    loop {
+        if cancel.load(Ordering::Relaxed) {
+            return Err(GiveUp);
+        }
+        if filled == buf.len() {
+            buf.resize(buf.len() * 2, 0); // a line longer than the block
+        }
+        let got = match src.read(&mut buf[filled..]) {
+            Ok(n) => n,
+            Err(e) if e.kind() == ErrorKind::Interrupted => continue,
+            Err(_) => return Err(GiveUp),
+        };
+        let before = filled;
+        filled += got;
+        let upto = if got == 0 {
+            filled
+        } else {
+            // Only the new bytes can hold a newline: the carried-over tail has none.
+            match memrchr(b'\n', &buf[before..filled]) {
+                Some(k) => before + k + 1,
+                None => continue,
+            }
+        };
+        let chunk = &buf[..upto];
+        if memchr(b'"', chunk).is_some() {
+            return Err(GiveUp); // quoted fields
+        }
+        let has_cr = memchr(b'\r', chunk).is_some();
+        let mut line_start = 0;
+        for nl in memchr_iter(b'\n', chunk) {
+            row(&chunk[line_start..nl], has_cr, spec, out)?;
+            line_start = nl + 1;
+        }
+        if line_start < chunk.len() {
+            row(&chunk[line_start..], has_cr, spec, out)?;
+        }
+        buf.copy_within(upto..filled, 0);
+        filled -= upto;
+        if got == 0 {
+            return Ok(());
+        }
+    }
+}
+
+/// One line, without its `\n`.
+#[inline]
+fn row(line: &[u8], has_cr: bool, spec: &RowSpec, out: &mut Out<'_>) -> Result<(), GiveUp> {
+    let line = if has_cr {
+        let l = line.strip_suffix(b"\r").unwrap_or(line);
+        if memchr(b'\r', l).is_some() {
+            return Err(GiveUp); // a lone CR ends a record for the csv crate
+        }
+        l
+    } else {
+        line
+    };
+    if line.is_empty() {
+        return Ok(());
+    }
+    match values(line, spec) {
+        Some([t, v, i]) => out.push(t, v, i, spec.time_col.is_some()),
+        // A line of spaces: one blank field, skipped like the reference reader does.
+        None if memchr(spec.delimiter, line).is_none() && line.trim_ascii().is_empty() => Ok(()),
+        None => Err(GiveUp),
+    }
+}
+
+/// Time, voltage and current of a row, or `None` when a cell is missing, not a number or not
+/// finite.
+#[inline]
+fn values(line: &[u8], spec: &RowSpec) -> Option<[f64; 3]> {
+    let mut cells = [0.0; 4];
+    let mut p = 0;
+    for &step in &spec.plan {
+        let rest = line.get(p..)?; // past the end: too few fields
+        match step {
+            None => p += memchr(spec.delimiter, rest).unwrap_or(rest.len()) + 1,
+            Some(k) => {
+                let (x, used) = cell(rest, spec.delimiter, spec.decimal_comma)?;
+                if !x.is_finite() {
+                    return None;
+                }
+                cells[usize::from(k & 3)] = x;
+                p += used + 1;
+            }
+        }
+    }
+    let [t, v, i] = spec.pick;
+    Some([
+        cells[usize::from(t & 3)],
+        cells[usize::from(v & 3)],
+        cells[usize::from(i & 3)],
+    ])
+}
+
+/// The number at the start of `rest` and the length of its cell. A cell that is exactly a
+/// number is taken as parsed; any other (spaces, decimal comma, junk) goes through
+/// [`parse_f64`], so both give the same value.
+#[inline]
+fn cell(rest: &[u8], delimiter: u8, decimal_comma: bool) -> Option<(f64, usize)> {
+    let quick = decimal(rest).or_else(|| fast_float2::parse_partial::<f64, _>(rest).ok());
+    if let Some((x, n)) = quick
+        && rest.get(n).is_none_or(|&b| b == delimiter)
+    {
+        return Some((x, n));
+    }
+    let end = memchr(delimiter, rest).unwrap_or(rest.len());
+    parse_f64(&rest[..end], decimal_comma).map(|x| (x, end))
+}
