@@ -455,7 +455,16 @@ pub(crate) fn pick_channels(
         let num = |k: Option<usize>, fallback: &str| {
             k.map_or(fallback.to_string(), |k| channels[k].column.to_string())
         };
-        format!("--voltage {} --current {}", num(v, "N"), num(i, "N"))
+        let counts = if channels.iter().any(|c| c.role == Role::Time) {
+            "numbers count the file's columns, the time column too"
+        } else {
+            "numbers count the file's columns or WAV channels from 1"
+        };
+        format!(
+            "--voltage {} --current {} ({counts})",
+            num(v, "N"),
+            num(i, "N")
+        )
     };
     let with_role = |role: Role, not: Option<usize>| -> Vec<usize> {
         data.iter()

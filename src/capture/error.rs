@@ -157,10 +157,7 @@ pub enum LoadErrorKind {
 
 /// Which channel is the voltage or the current is not said (see [`LoadErrorKind::Ambiguous`]).
 #[derive(Debug, thiserror::Error)]
-#[error(
-    "cannot tell which channel is the {what}: {why}: {channels}; say which with {hint} \
-     (numbers count the file's columns, the time column too)"
-)]
+#[error("cannot tell which channel is the {what}: {why}: {channels}; say which with {hint}")]
 pub struct Ambiguity {
     /// "voltage", "current" or "voltage and the current".
     pub what: &'static str,
@@ -168,7 +165,7 @@ pub struct Ambiguity {
     pub why: String,
     /// The candidates, each with its column, name, role and unit.
     pub channels: String,
-    /// The options that would say it.
+    /// The options that would say it, and what their numbers count.
     pub hint: String,
 }
 
