@@ -1006,8 +1006,10 @@ mod tests {
     }
 
     #[test]
-    fn near_zero_p_is_judged_in_percent_of_s() {
-        // 88° lagging: P = 401 W, 3.5 % of S; a meter 40 W off is 10 % of P but 0.35 % of S
+    fn near_zero_p_is_judged_in_percent_of_s_and_below_pf_0_25_nothing_is_specified() {
+        // 88° lagging: P = 401 W, 3.5 % of S; a meter 40 W off is 10 % of P but 0.35 % of S.
+        // PF 0.035 is below the lowest test point (PF 0.25 inductive, IEC 62053-21, from
+        // memory): no limit is specified there, so no verdict, never a borrowed limit
         let m = measured(88.0);
         let r = Reading {
             p_w: Some(m.p_w + 40.0),
@@ -1015,10 +1017,19 @@ mod tests {
         };
         let c = &check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow).checks[0];
         assert!((c.error_percent - 100.0 * 40.0 / 11_500.0).abs() < 1e-9);
-        assert_eq!(c.verdict, MeterVerdict::Pass);
+        assert!(c.limit_percent.is_nan());
+        assert_eq!(c.verdict, MeterVerdict::Inconclusive);
         let note = c.note.as_deref().unwrap();
         assert!(note.contains("in percent of S"), "{note}");
-        assert!(note.contains("below PF 0.5"), "{note}");
+        assert!(note.contains("not specified"), "{note}");
+        // at 70° (PF 0.342) the PF 0.25 point holds: ±3.5 % for class 1
+        let m = measured(70.0);
+        let r = Reading {
+            p_w: Some(1.03 * m.p_w),
+            ..Reading::default()
+        };
+        let c = &check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow).checks[0];
+        assert_eq!((c.limit_percent, c.verdict), (3.5, MeterVerdict::Pass));
     }
 
     #[test]
@@ -1030,6 +1041,12 @@ mod tests {
             &mut m.s_va,
             &mut m.pf,
             &mut m.i_rms,
+            &mut m.i1,
+            &mut m.p1_w,
+            &mut m.s1_va,
+            &mut m.q_budeanu_var,
+            &mut m.nonactive_var,
+            &mut m.displacement_pf,
         ] {
             *x = 0.0;
         }

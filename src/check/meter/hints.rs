@@ -100,23 +100,31 @@ pub(super) fn fits_turn(
     let q = m.q_var * cos + m.p_w * sin;
     let pf = p / s;
     let sin_phi = q / s;
+    // a tolerance for the pattern, not a verdict: the widest listed limit where none is specified
+    let or_widest = |l: f64| {
+        if l.is_nan() {
+            class.widest_listed() * if class.is_reactive() { 1.0 } else { 2.0 }
+        } else {
+            l
+        }
+    };
     let mut any = false;
     if let Some(x) = r.p_w {
-        let tol = class.active_limit_percent(pf) / 100.0 * s + m.u_p_w.abs();
+        let tol = or_widest(class.active_limit_percent(pf)) / 100.0 * s + m.u_p_w.abs();
         if !((x - p).abs() <= tol) {
             return false;
         }
         any = true;
     }
     if let Some(x) = r.q_var {
-        let tol = class.reactive_limit_percent(sin_phi) / 100.0 * s + m.u_q_var.abs();
+        let tol = or_widest(class.reactive_limit_percent(sin_phi)) / 100.0 * s + m.u_q_var.abs();
         if !((x - q).abs() <= tol) {
             return false;
         }
         any = true;
     }
     if let Some(x) = r.pf {
-        let tol = class.active_limit_percent(pf) / 100.0 + m.u_pf.abs();
+        let tol = or_widest(class.active_limit_percent(pf)) / 100.0 + m.u_pf.abs();
         if !((x - sign.apply(pf, p, q)).abs() <= tol) {
             return false;
         }

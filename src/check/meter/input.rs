@@ -218,6 +218,9 @@ pub const UNITY_POINT: f64 = 0.995;
 /// The lower test point: PF 0.5 inductive (0.8 capacitive), or sin φ 0.5 (IEC 62053-21/-22/-23,
 /// from memory).
 pub const LOW_POINT: f64 = 0.5;
+/// The lowest test point: PF 0.25 inductive, or sin φ 0.25 (IEC 62053-21/-22/-23, from memory);
+/// below it a class specifies no limit.
+pub const LOWEST_POINT: f64 = 0.25;
 
 impl AccuracyClass {
     const ALL: [AccuracyClass; 9] = [
@@ -264,48 +267,61 @@ impl AccuracyClass {
         matches!(self, AccuracyClass::Reactive2 | AccuracyClass::Reactive3)
     }
 
-    /// The limits the standard lists, ± %: at the unity point and, where listed, at the lower
-    /// point. Active classes: PF 1 and PF 0.5 inductive / 0.8 capacitive; reactive classes:
-    /// sin φ 1 and 0.5. All from memory (IEC 62053-21/-22/-23, ANSI C12.20); ANSI C12.20 is
-    /// listed here at unity PF only.
-    fn listed(&self) -> (f64, Option<f64>) {
+    /// The limits the standard lists, ± %: at the unity point, at the lower point and, where
+    /// listed, at the [`LOWEST_POINT`] (PF 0.25 inductive or sin φ 0.25). Active classes: PF 1,
+    /// PF 0.5 inductive / 0.8 capacitive, PF 0.25 inductive; reactive classes: sin φ 1, 0.5 and
+    /// 0.25. All from memory (IEC 62053-21/-22/-23; the PF 0.25 points are those the standards
+    /// list for tests on the user's request). ANSI C12.20 is listed here at unity PF only (its
+    /// PF-dependent and light-load points are not known to this check, from memory or otherwise):
+    /// at any other PF no limit is specified by this check.
+    fn listed(&self) -> (f64, Option<f64>, Option<f64>) {
         match self {
-            AccuracyClass::Iec1 => (1.0, Some(1.0)), // IEC 62053-21, from memory
-            AccuracyClass::Iec2 => (2.0, Some(2.0)), // IEC 62053-21, from memory
-            AccuracyClass::Iec02S => (0.2, Some(0.3)), // IEC 62053-22, from memory
-            AccuracyClass::Iec05S => (0.5, Some(0.6)), // IEC 62053-22, from memory
-            AccuracyClass::Ansi01 => (0.1, None),    // ANSI C12.20, from memory
-            AccuracyClass::Ansi02 => (0.2, None),    // ANSI C12.20, from memory
-            AccuracyClass::Ansi05 => (0.5, None),    // ANSI C12.20, from memory
-            AccuracyClass::Reactive2 => (2.0, Some(2.0)), // IEC 62053-23, from memory
-            AccuracyClass::Reactive3 => (3.0, Some(3.0)), // IEC 62053-23, from memory
+            AccuracyClass::Iec1 => (1.0, Some(1.0), Some(3.5)), // IEC 62053-21, from memory
+            // IEC 62053-21 class 2 lists no PF 0.25 point (from memory)
+            AccuracyClass::Iec2 => (2.0, Some(2.0), None),
+            AccuracyClass::Iec02S => (0.2, Some(0.3), Some(0.5)), // IEC 62053-22, from memory
+            AccuracyClass::Iec05S => (0.5, Some(0.6), Some(1.0)), // IEC 62053-22, from memory
+            AccuracyClass::Ansi01 => (0.1, None, None),           // ANSI C12.20, from memory
+            AccuracyClass::Ansi02 => (0.2, None, None),           // ANSI C12.20, from memory
+            AccuracyClass::Ansi05 => (0.5, None, None),           // ANSI C12.20, from memory
+            AccuracyClass::Reactive2 => (2.0, Some(2.0), Some(2.5)), // IEC 62053-23, from memory
+            AccuracyClass::Reactive3 => (3.0, Some(3.0), Some(4.0)), // IEC 62053-23, from memory
         }
     }
 
     /// The listed limit at `x` (a |PF| or |sin φ|): the limit of the nearest test point at or
-    /// below `x`, where anything from [`UNITY_POINT`] up counts as unity; below the lower point
-    /// (or with no lower point listed, or `x` not a number) the widest listed limit.
+    /// below `x`, where anything from [`UNITY_POINT`] up counts as unity. Below the lowest point
+    /// the class lists (or `x` not a number) the class specifies nothing: NaN.
     fn at_point(&self, x: f64) -> f64 {
-        let (unity, low) = self.listed();
-        let widest = low.map_or(unity, |l| l.max(unity));
-        let x = x.abs();
-        if x >= UNITY_POINT {
-            unity
+        let (unity, low, lowest) = self.listed();
+        // a hair below a test point (sin 30° in floating point) is at it
+        let x = x.abs() + 1e-9;
+        let pick = if x >= UNITY_POINT {
+            Some(unity)
         } else if x >= LOW_POINT {
-            low.unwrap_or(unity)
+            low
+        } else if x >= LOWEST_POINT {
+            lowest
         } else {
-            widest
-        }
+            None
+        };
+        pick.unwrap_or(f64::NAN)
+    }
+
+    /// The widest limit the class lists at any test point, ± %: a tolerance for recognising
+    /// wiring patterns where no limit is specified, never a verdict's limit.
+    pub(super) fn widest_listed(&self) -> f64 {
+        let (unity, low, lowest) = self.listed();
+        [low, lowest].into_iter().flatten().fold(unity, f64::max)
     }
 
     /// The active-power limit, ± % of reading, at the measured |PF|.
     ///
     /// The limit of the nearest test point at or below |PF|: |PF| ≥ [`UNITY_POINT`] gets the PF 1
     /// limit, 0.5 ≤ |PF| < 0.995 the PF 0.5 inductive / 0.8 capacitive limit (the standards give
-    /// one figure for both), and below 0.5, where the classes list nothing, the widest listed
-    /// limit (our rule). ANSI C12.20 is listed here at unity PF only, so its unity figure serves at
-    /// every PF. A reactive class makes no claim on active power; its reactive figure at the same
-    /// point is used (our rule).
+    /// one figure for both), 0.25 ≤ |PF| < 0.5 the PF 0.25 inductive limit where the class lists
+    /// one, and below that NaN: not specified. A reactive class makes no claim on active power;
+    /// its reactive figure at the same point is used (our rule).
     pub fn active_limit_percent(&self, pf: f64) -> f64 {
         self.at_point(pf)
     }
@@ -313,9 +329,9 @@ impl AccuracyClass {
     /// The reactive-power limit, ± % of reading, at the measured |sin φ|.
     ///
     /// Reactive classes: the limit of the nearest test point at or below, as for
-    /// [`Self::active_limit_percent`] (sin φ 1 and 0.5, IEC 62053-23, from memory). Active classes
-    /// list no reactive limit; twice their active limit at the same point is used (our rule: an
-    /// active class 1 meter commonly comes with reactive class 2, common practice).
+    /// [`Self::active_limit_percent`] (sin φ 1, 0.5 and 0.25, IEC 62053-23, from memory). Active
+    /// classes list no reactive limit; twice their active limit at the same point is used (our
+    /// rule: an active class 1 meter commonly comes with reactive class 2, common practice).
     pub fn reactive_limit_percent(&self, sin_phi: f64) -> f64 {
         if self.is_reactive() {
             self.at_point(sin_phi)
@@ -332,16 +348,12 @@ impl AccuracyClass {
                 self.name()
             ));
         }
-        let (_, low) = self.listed();
         let pf = pf.abs();
-        if low.is_none() && pf < UNITY_POINT {
+        if self.active_limit_percent(pf).is_nan() {
             Some(format!(
-                "only the unity-PF limit of {} is known to this check; it is used at PF {pf:.2}",
+                "not specified: {} lists no limit at PF {pf:.2} known to this check (none below \
+                 its lowest test point)",
                 self.name()
-            ))
-        } else if pf < LOW_POINT {
-            Some(format!(
-                "the class lists no limit below PF 0.5; its widest listed limit is used at PF {pf:.2}"
             ))
         } else {
             None
@@ -424,9 +436,10 @@ impl AccuracyClass {
             ));
         }
         let s = sin_phi.abs();
-        (s < LOW_POINT).then(|| {
+        self.reactive_limit_percent(s).is_nan().then(|| {
             format!(
-                "the class lists no limit below sin φ 0.5; its widest listed limit is used at sin φ {s:.2}"
+                "not specified: {} lists no limit below sin φ {LOWEST_POINT}",
+                self.name()
             )
         })
     }
@@ -636,15 +649,30 @@ mod tests {
             ("2", 2.0, 2.0),
             ("0.2s", 0.2, 0.3),
             ("0.5s", 0.5, 0.6),
-            ("ansi-0.1", 0.1, 0.1),
-            ("ansi-0.2", 0.2, 0.2),
-            ("ansi-0.5", 0.5, 0.5),
         ];
         for (name, at_1, at_half) in table {
             let c = AccuracyClass::parse(name).unwrap();
             assert_eq!(c.active_limit_percent(1.0), at_1, "{name} at PF 1");
             assert_eq!(c.active_limit_percent(0.5), at_half, "{name} at PF 0.5");
             assert_eq!(c.active_limit_percent(-0.5), at_half, "{name} at PF -0.5");
+        }
+        // ANSI C12.20 at unity PF (from memory); its other points are not known here
+        for (name, at_1) in [("ansi-0.1", 0.1), ("ansi-0.2", 0.2), ("ansi-0.5", 0.5)] {
+            let c = AccuracyClass::parse(name).unwrap();
+            assert_eq!(c.active_limit_percent(1.0), at_1, "{name} at PF 1");
+            assert!(c.active_limit_percent(0.5).is_nan(), "{name} at PF 0.5");
+        }
+        // PF 0.25 inductive: class 1 ±3.5 %, 0.2S ±0.5 %, 0.5S ±1.0 %; sin φ 0.25: reactive
+        // classes 2 and 3 ±2.5 % and ±4.0 % (IEC 62053-21/-22/-23, from memory)
+        for (name, at_quarter) in [("1", 3.5), ("0.2s", 0.5), ("0.5s", 1.0)] {
+            let c = AccuracyClass::parse(name).unwrap();
+            assert_eq!(c.active_limit_percent(0.3), at_quarter, "{name} at PF 0.3");
+            assert!(c.active_limit_percent(0.2).is_nan(), "{name} at PF 0.2");
+        }
+        for (name, at_quarter) in [("reactive-2", 2.5), ("reactive-3", 4.0)] {
+            let c = AccuracyClass::parse(name).unwrap();
+            assert_eq!(c.reactive_limit_percent(0.25), at_quarter, "{name}");
+            assert!(c.reactive_limit_percent(0.2).is_nan(), "{name}");
         }
         for (name, limit) in [("reactive-2", 2.0), ("reactive-3", 3.0)] {
             let c = AccuracyClass::parse(name).unwrap();
@@ -659,9 +687,11 @@ mod tests {
         // PF 0.997 shows as 1.00: unity limit; PF 0.9 takes the lower point at or below it
         assert_eq!(c.active_limit_percent(0.997), 0.2);
         assert_eq!(c.active_limit_percent(0.9), 0.3);
-        // below 0.5 nothing is listed: the widest listed limit
-        assert_eq!(c.active_limit_percent(0.2), 0.3);
-        assert!(c.active_note(0.2).unwrap().contains("below PF 0.5"));
+        // between 0.25 and 0.5 the PF 0.25 point; below it nothing is specified, never the
+        // widest listed limit
+        assert_eq!(c.active_limit_percent(0.4), 0.5);
+        assert!(c.active_limit_percent(0.2).is_nan());
+        assert!(c.active_note(0.2).unwrap().starts_with("not specified"));
         assert_eq!(c.active_note(0.9), None);
         // an active class: twice its active limit for reactive power (our rule)
         assert_eq!(c.reactive_limit_percent(1.0), 0.4);
@@ -670,7 +700,7 @@ mod tests {
             AccuracyClass::Ansi02
                 .active_note(0.8)
                 .unwrap()
-                .contains("only the unity-PF limit")
+                .starts_with("not specified")
         );
     }
 }
