@@ -153,6 +153,11 @@ pub fn analyze_traces(
 
 /// Runs the whole pipeline on a loaded capture.
 pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, AnalysisError> {
+    // a skew the file itself declares (COMTRADE) adds to the one the command line gives
+    let settings = &Settings {
+        skew_s: settings.skew_s + capture.skew_s,
+        ..*settings
+    };
     condition::scale(&mut capture, settings.v_scale, settings.i_scale);
     let (v, i) = (&capture.voltage.samples, &capture.current.samples);
     let (estimate, quantities) =

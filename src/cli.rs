@@ -479,6 +479,10 @@ pub struct ChannelArgs {
     /// other quantity (a mislabelled export); the output then carries a warning.
     #[arg(long)]
     pub force_channels: bool,
+    /// COMTRADE records: give values on the secondary side of the CTs and VTs, as the relay
+    /// saw them, instead of primary (the record's ratios convert between them).
+    #[arg(long)]
+    pub secondary: bool,
     /// Sample rate in Hz, for files without a time column (overrides the file's own).
     #[arg(long, value_name = "HZ")]
     pub rate: Option<f64>,

@@ -110,6 +110,7 @@ pub fn resolve_channels(
             current: c.current.as_deref().map(ChannelSel::parse),
             rate_hz: c.rate,
             force_channels: c.force_channels,
+            secondary_values: c.secondary,
         },
         Settings {
             v_scale: finite_nonzero(c.v_scale, "--v-scale")?,

@@ -3,8 +3,9 @@
 
 use std::path::{Path, PathBuf};
 
-/// Extensions taken as captures (the content still decides the format).
-pub const CAPTURE_EXTENSIONS: [&str; 4] = ["csv", "tsv", "txt", "wav"];
+/// Extensions taken as captures (the content still decides the format). A COMTRADE record is
+/// its `.cfg`; the `.dat` beside it is read through the `.cfg`, never as a capture of its own.
+pub const CAPTURE_EXTENSIONS: [&str; 5] = ["csv", "tsv", "txt", "wav", "cfg"];
 
 /// A capture to analyse and the folder its settings are looked up from.
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord)]
@@ -134,7 +135,10 @@ mod tests {
             "notes.pdf",
             "b/c.txt",
             "b/tracephase.toml",
+            "r/fault.cfg",
+            "r/fault.dat",
         ] {
+            std::fs::create_dir_all(dir.path().join(p).parent().unwrap()).unwrap();
             std::fs::write(dir.path().join(p), "x").unwrap();
         }
         let d = discover(&[dir.path().to_path_buf()]);
@@ -149,7 +153,8 @@ mod tests {
                     .to_string()
             })
             .collect();
-        assert_eq!(names, vec!["a.WAV", "b/c.txt", "z.csv"]);
-        assert_eq!(d.skipped, 1);
+        assert_eq!(names, vec!["a.WAV", "b/c.txt", "r/fault.cfg", "z.csv"]);
+        // notes.pdf and the record's .dat
+        assert_eq!(d.skipped, 2);
     }
 }

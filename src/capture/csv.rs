@@ -581,6 +581,7 @@ pub(crate) fn load_with(
             full_scale: None,
         },
         time: time_channel,
+        skew_s: 0.0,
         warnings,
     })
 }

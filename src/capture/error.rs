@@ -51,6 +51,9 @@ pub enum LoadErrorKind {
     /// The operating system refused (missing file, no permission...).
     #[error("cannot read the file: {0}")]
     Io(#[from] std::io::Error),
+    /// A COMTRADE configuration or data file that cannot be read as the standard says.
+    #[error("{0}")]
+    BadRecord(String),
     /// A directory was given where a file was expected.
     #[error("is a folder, not a capture file")]
     IsDirectory,

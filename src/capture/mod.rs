@@ -9,6 +9,7 @@
 //! are later stages ([`crate::condition`]).
 
 mod channel;
+mod comtrade;
 mod csv;
 mod error;
 mod wav;
@@ -62,6 +63,8 @@ pub struct LoadOptions {
     pub rate_hz: Option<f64>,
     /// Use the chosen channels even when their unit or name says the other quantity.
     pub force_channels: bool,
+    /// Give a COMTRADE record's values on the secondary side of its CTs and VTs (default: primary).
+    pub secondary_values: bool,
 }
 
 /// The file format a capture was read from.
@@ -73,6 +76,17 @@ pub enum SourceFormat {
         delimiter: u8,
         /// Whether numbers use a decimal comma.
         decimal_comma: bool,
+    },
+    /// IEEE C37.111 (COMTRADE) `.cfg` + `.dat`.
+    Comtrade {
+        /// Revision year of the configuration.
+        revision: u16,
+        /// Data file type (ASCII, BINARY, BINARY32, FLOAT32).
+        data: &'static str,
+        /// Analog channels in the record.
+        analog: usize,
+        /// Digital (status) channels in the record, read but not analysed.
+        digital: usize,
     },
     /// RIFF/WAVE audio-style file.
     Wav {
@@ -102,6 +116,15 @@ impl fmt::Display for SourceFormat {
                 }
                 Ok(())
             }
+            SourceFormat::Comtrade {
+                revision,
+                data,
+                analog,
+                digital,
+            } => write!(
+                f,
+                "COMTRADE {revision}, {data}, {analog} analog and {digital} digital channels"
+            ),
             SourceFormat::Wav {
                 bits,
                 float,
@@ -202,6 +225,9 @@ pub struct Capture {
     pub voltage: Trace,
     /// The current trace.
     pub current: Trace,
+    /// Delay of the current channel's samples behind the voltage channel's that the file itself
+    /// declares (a COMTRADE record's per-channel skews), seconds; added to `--skew`.
+    pub skew_s: f64,
     /// The time column the rate came from (CSV), with its unit.
     pub time: Option<Channel>,
     /// Doubts found while loading (uneven time base, rate mismatch).
@@ -239,7 +265,7 @@ pub fn load(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError> {
         return Err(err(LoadErrorKind::IsDirectory));
     }
     let mut file = std::fs::File::open(path).map_err(|e| err(LoadErrorKind::Io(e)))?;
-    let mut head = [0u8; 12];
+    let mut head = [0u8; 512];
     let got = read_up_to(&mut file, &mut head).map_err(|e| err(LoadErrorKind::Io(e)))?;
     drop(file);
     if got == 0 {
@@ -248,6 +274,14 @@ pub fn load(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError> {
     let head = &head[..got];
     if got >= 12 && (&head[..4] == b"RIFF" || &head[..4] == b"RF64") && &head[8..12] == b"WAVE" {
         wav::load(path, opts)
+    } else if head.len() >= 14 && head[..14].eq_ignore_ascii_case(b"--- file type:") {
+        Err(err(LoadErrorKind::NotACapture(
+            "a COMTRADE single-file record (.cff), not supported yet: export the .cfg and .dat \
+             pair"
+                .into(),
+        )))
+    } else if comtrade::looks_like_cfg(head) {
+        comtrade::load(path, opts)
     } else if head.starts_with(b"RIFF") {
         Err(err(LoadErrorKind::NotACapture(
             "a RIFF file that is not WAVE".into(),

@@ -121,6 +121,7 @@ fn load_with(
         voltage: trace(vi, chosen.voltage_by, voltage),
         current: trace(ii, chosen.current_by, current),
         time: None,
+        skew_s: 0.0,
         warnings,
     })
 }

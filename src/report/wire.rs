@@ -265,6 +265,7 @@ pub fn analysis_columns() -> Vec<String> {
         voltage: trace("v", 1, v),
         current: trace("i", 2, i),
         time: None,
+        skew_s: 0.0,
         warnings: Vec::new(),
     };
     match crate::analysis::analyze(capture, &crate::analysis::Settings::default()) {
