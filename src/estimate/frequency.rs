@@ -25,15 +25,42 @@ thread_local! {
     static PLANNER: std::cell::RefCell<FftPlanner<f64>> = std::cell::RefCell::new(FftPlanner::new());
 }
 
-/// Largest FFT the coarse search uses; longer records are block-averaged down first.
+/// Largest FFT the coarse search uses.
 pub const COARSE_FFT_MAX: usize = 1 << 18;
+/// Cycles the first [`COARSE_FFT_MAX`] samples of a longer record must hold for the search on
+/// that span to be trusted.
+const SPAN_MIN_CYCLES: f64 = 8.0;
 
 /// A coarse frequency in Hz from the spectrum of `y` sampled at `fs`, or `None` when no peak
 /// stands out of the noise (or the record holds fewer than two cycles of anything).
+///
+/// A record longer than [`COARSE_FFT_MAX`] samples is searched on its first `COARSE_FFT_MAX`
+/// samples at the full rate, which cannot alias (the bins are fine enough for the refinement:
+/// it needs the phase between sub-records, at most 1/64 of the record apart, to move by less than
+/// half a cycle). Only when that span holds too few cycles (a fast scope's record of a slow
+/// fundamental) is the whole record block-averaged down to `COARSE_FFT_MAX` points; by then the
+/// fundamental is below `SPAN_MIN_CYCLES·fs/COARSE_FFT_MAX`, far under the averaged record's
+/// Nyquist frequency for any record under 2^32 samples. (Block-averaging every long record
+/// aliased the fundamental of records longer than about 2^18/(2f) seconds: 39 min at 50 Hz.)
 pub fn coarse(y: &[f64], fs: f64) -> Option<f64> {
-    let factor = y.len().div_ceil(COARSE_FFT_MAX).max(1);
-    let x = crate::condition::decimate(y, factor);
-    let fs = fs / factor as f64;
+    if y.len() <= COARSE_FFT_MAX {
+        return spectrum_peak(y, fs);
+    }
+    let span_s = COARSE_FFT_MAX as f64 / fs;
+    if let Some(f) = spectrum_peak(&y[..COARSE_FFT_MAX], fs)
+        && f * span_s >= SPAN_MIN_CYCLES
+    {
+        return Some(f);
+    }
+    let factor = y.len().div_ceil(COARSE_FFT_MAX);
+    let fsd = fs / factor as f64;
+    spectrum_peak(&crate::condition::decimate(y, factor), fsd)
+        // a peak the full-rate span should have seen is an alias of something faster
+        .filter(|f| f * span_s < 2.0 * SPAN_MIN_CYCLES && *f < 0.25 * fsd)
+}
+
+/// The interpolated Hann-DFT peak of the whole of `x` sampled at `fs`.
+fn spectrum_peak(x: &[f64], fs: f64) -> Option<f64> {
     let n = x.len();
     if n < 16 {
         return None;
@@ -228,6 +255,19 @@ mod tests {
             "{} vs {f_true}",
             r.hz
         );
+    }
+
+    /// Long records: 2 370 s at 1 kS/s (once "no fundamental", the averaged record's Nyquist
+    /// frequency fell on 50 Hz) and a fast scope's 600 000 samples at 5 MS/s holding 6 cycles
+    /// (the first 2^18 samples hold 2.6: the whole record is averaged down).
+    #[test]
+    fn coarse_finds_the_fundamental_of_long_records() {
+        for (fs, f, n) in [(1_000.0, 50.0, 2_370_000), (5e6, 50.0, 600_000)] {
+            let y = wave(n, fs, f);
+            let found = coarse(&y, fs).unwrap();
+            let bin = fs / n.min(COARSE_FFT_MAX) as f64;
+            assert!((found - f).abs() < 0.5 * bin.max(fs / n as f64), "{found}");
+        }
     }
 
     #[test]

@@ -17,7 +17,7 @@ pub mod frequency;
 pub mod simd;
 pub mod zero_crossing;
 
-use crate::condition::{block_average_gain, decimate};
+use crate::condition::{block_average_gain, decimate, whole_cycles};
 use crate::warning::Trace;
 use rustfft::num_complex::Complex64;
 use std::f64::consts::{PI, SQRT_2};
@@ -160,14 +160,16 @@ pub const MAX_WINDOWS: usize = 200;
 /// (at most `order`; 0 when they are too short for any fit).
 fn window_ranges(n: usize, f: f64, fs: f64, order: usize) -> (Vec<Range<usize>>, usize) {
     let per_cycle = fs / f;
-    let cycles = (n as f64 / per_cycle).floor();
+    let cycles = whole_cycles(n, per_cycle).0 as f64;
     let mut cpw = (WINDOW_SECONDS * f).round().max(1.0);
     if (cycles / cpw).floor() > MAX_WINDOWS as f64 {
         cpw = (cycles / MAX_WINDOWS as f64).ceil();
     }
     let count = ((cycles / cpw).floor() as usize).max(2);
+    // Rounded to whole samples, `count` windows may need a sample or two more than the record
+    // holds (10 kS/s, 9 999 samples at 50.01 Hz: 5 × 2 000 > 9 999): never more than n/count.
     let len = if (cycles / cpw).floor() >= 2.0 {
-        (cpw * per_cycle).round() as usize
+        ((cpw * per_cycle).round() as usize).min(n / count)
     } else {
         n / 2
     };
@@ -373,4 +375,29 @@ pub fn estimate(
 /// already keeps every core busy does not start more threads than cores).
 fn both<A: Send, B: Send>(a: impl FnOnce() -> A + Send, b: impl FnOnce() -> B + Send) -> (A, B) {
     rayon::join(a, b)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::window_ranges;
+
+    /// The windows stay inside the record at every frequency near 50 Hz, length and rate: once
+    /// they were rounded up to whole samples past its end (10 kS/s, 9 999 samples, 50.01 Hz).
+    #[test]
+    fn windows_stay_inside_the_record() {
+        for (fs, n) in [(10_000.0, 9_999usize), (4_000.0, 7_999), (6_400.0, 64_003)] {
+            for step in 0..=1000 {
+                let f = 49.5 + step as f64 * 0.001;
+                let (ranges, _) = window_ranges(n, f, fs, 50);
+                let mut last = 0;
+                for r in &ranges {
+                    assert!(
+                        last <= r.start && r.start < r.end && r.end <= n,
+                        "{fs} {n} {f}"
+                    );
+                    last = r.end;
+                }
+            }
+        }
+    }
 }
