@@ -57,11 +57,19 @@ pub fn block_average_gain(omega: f64, factor: usize) -> f64 {
     }
 }
 
+/// Slack, in samples, when whole cycles are counted: a cycle that ends within half a sample of
+/// the record's end is counted.
+pub const WHOLE_CYCLE_SLACK: f64 = 0.5;
+
 /// The whole number of cycles in a record of `len` samples and the number of samples
 /// (rounded) that spans them from the first sample.
+///
+/// A cycle that would end up to [`WHOLE_CYCLE_SLACK`] samples past the record's end counts: a
+/// record of exactly 12 cycles whose frequency estimate is a hair low (noise moves it by about
+/// 1e-5) holds 11.9999 estimated cycles and would otherwise be averaged over 11. The span rounds
+/// to the whole record and the span correction of [`crate::quantity`] absorbs the fraction.
 pub fn whole_cycles(len: usize, samples_per_cycle: f64) -> (usize, usize) {
-    // a hair of slack so a record of exactly 20 cycles is not counted as 19.999999999999996
-    let cycles = (len as f64 / samples_per_cycle + 1e-9).floor() as usize;
+    let cycles = ((len as f64 + WHOLE_CYCLE_SLACK) / samples_per_cycle).floor() as usize;
     let span = ((cycles as f64 * samples_per_cycle).round() as usize).min(len);
     (cycles, span)
 }
@@ -170,7 +178,9 @@ mod tests {
     #[test]
     fn whole_cycles_of_a_record() {
         assert_eq!(whole_cycles(1000, 40.0), (25, 1000));
-        assert_eq!(whole_cycles(1000, 40.01), (24, 960));
+        // 25 cycles of 40.01 samples end 0.25 samples past the record: within the slack
+        assert_eq!(whole_cycles(1000, 40.01), (25, 1000));
+        assert_eq!(whole_cycles(1000, 40.03), (24, 961));
         assert_eq!(whole_cycles(100, 33.3), (3, 100));
     }
 }
