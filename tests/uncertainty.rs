@@ -163,3 +163,63 @@ fn analytic_noise_floor_matches_monte_carlo_on_a_short_record() {
     // the band is 0.8 to 1.4 times the Monte Carlo spread.
     compare_within(3.3, noise_only(), 303, 0.8, 1.4);
 }
+
+/// The power factors' U at θ = 0°, 2° and 30° against a Monte Carlo of the same inputs
+/// (JCGM 101:2008): instrument errors drawn within their limits, fresh noise each trial; the
+/// truth is the waveform's own (PF1 = cos θ, true PF = P/S of the definitions, references §1).
+/// Near unity cos θ is flat: first-order propagation gave U(PF1) = 2e-7 at 0°, where the errors
+/// reach 4e-5. The reported U must cover at least 93 % of the errors (400 trials: the binomial
+/// standard error at 95 % is 1.1 %), and not more than three times the errors' own 95th
+/// percentile (an honest U, not a huge one).
+#[test]
+fn power_factor_uncertainty_is_honest_at_unity_and_away_from_it() {
+    let inputs = UncertaintyInputs {
+        v_ratio_percent: 1.0,
+        i_ratio_percent: 2.0,
+        phase_error_deg: 0.5,
+        skew_s: 0.0,
+        clock_ppm: 0.0,
+        adc: None,
+    };
+    for angle in [0.0, 2.0, 30.0] {
+        let mut rng = ChaCha8Rng::seed_from_u64(404 + angle as u64);
+        let (mut err1, mut errt, mut u1, mut ut) = (vec![], vec![], vec![], vec![]);
+        for _ in 0..400 {
+            let (ev, ei, phase) = (
+                rng.random_range(-0.01..0.01),
+                rng.random_range(-0.02..0.02),
+                rng.random_range(-0.5..0.5),
+            );
+            let v = Waveform::sine(230.0 * (1.0 + ev), 0.0).with(5, 6.0 * (1.0 + ev), 20.0);
+            let i = Waveform::sine(10.0 * (1.0 + ei), -angle - phase).with(3, 1.0 + ei, 70.0);
+            let mut spec = Spec::clean(6_400.0, 50.0, 1_318, v, i);
+            spec.snr_db = Some(46.0);
+            spec.seed = rng.random();
+            let (vs, is) = synthesize(&spec);
+            let (est, q) = analyze_traces(&vs, &is, 6_400.0, &Settings::default()).unwrap();
+            let u = uncertainty(&vs, &is, &est, &q, 0.0, &inputs);
+            // truth of the nominal waveforms: P = V1·I1·cos θ (the harmonics are of different
+            // orders, so carry no P), S = V·I (IEEE 1459, references §1)
+            let (vn, inn) = (
+                Waveform::sine(230.0, 0.0).with(5, 6.0, 20.0),
+                Waveform::sine(10.0, -angle).with(3, 1.0, 70.0),
+            );
+            let pf_true = 230.0 * 10.0 * angle.to_radians().cos() / (vn.rms() * inn.rms());
+            err1.push((q.displacement_pf.unwrap() - angle.to_radians().cos()).abs());
+            errt.push((q.true_pf.unwrap() - pf_true).abs());
+            u1.push(u.displacement_pf.unwrap());
+            ut.push(u.true_pf.unwrap());
+        }
+        for (name, err, u) in [("PF1", &err1, &u1), ("true PF", &errt, &ut)] {
+            let covered = err.iter().zip(u.iter()).filter(|(e, u)| e <= u).count();
+            let share = covered as f64 / err.len() as f64;
+            let mut sorted = err.clone();
+            sorted.sort_by(f64::total_cmp);
+            let p95 = sorted[(0.95 * sorted.len() as f64) as usize];
+            let u_mean = mean(u);
+            eprintln!("{angle}°, {name}: coverage {share:.3}, U {u_mean:.3e}, 95th pct {p95:.3e}");
+            assert!(share >= 0.93, "{angle}°, {name}: U covers {share}");
+            assert!(u_mean <= 3.0 * p95, "{angle}°, {name}: U {u_mean} vs {p95}");
+        }
+    }
+}

@@ -201,6 +201,15 @@ fn sd_mean(x: impl Iterator<Item = f64> + Clone) -> f64 {
     (var / n).sqrt()
 }
 
+/// Standard uncertainty of `scale·cos θ` for an angle θ (radians) of standard uncertainty `u`:
+/// `scale·√(sin²θ·u² + ½·cos²θ·u⁴)`, the law of propagation with its second-order term for a
+/// normal input (JCGM 100:2008, 5.1.2 note). Near θ = 0 or 180° the cosine is flat and the
+/// first-order term alone would vanish (it gave ±2e-7 where the spread is 5e-5).
+fn through_cos(theta: f64, u: f64, scale: f64) -> f64 {
+    let (s, c) = theta.sin_cos();
+    scale.abs() * (s * s * u * u + 0.5 * c * c * u.powi(4)).sqrt()
+}
+
 fn rss(parts: &[f64]) -> f64 {
     parts.iter().map(|x| x * x).sum::<f64>().sqrt()
 }
@@ -353,13 +362,23 @@ pub fn uncertainty(
             dft: defined.then_some(k * u_angle),
             zero_crossing: u_angle_zc.map(|u| k * u),
         },
-        displacement_pf: defined.then(|| {
-            let sens = theta.sin().abs();
-            k * rss(&[sens * u_theta_b, type_a(|w| w.pf1, sens * u_theta_noise)])
-        }),
+        // PF1 = cos θ depends on the angle alone, so the angle's whole uncertainty goes through
+        // the cosine; true PF takes the angle's Type B part that way and its own window spread.
+        displacement_pf: defined.then(|| k * through_cos(theta, u_angle.to_radians(), 1.0)),
         true_pf: defined.then(|| {
-            let sens = (s1 / s) * theta.sin().abs();
-            k * rss(&[sens * u_theta_b, type_a(|w| w.pf, sens * u_theta_noise)])
+            let scale = s1 / s;
+            // The noise the fit leaves (at the input rate) is in the RMS readings and so in S:
+            // PF reads low by PF·(1 − 1/√((1 + σv²/V²)(1 + σi²/I²))), a bias left uncorrected
+            // and taken as a ± limit, as the resolution is for RMS.
+            let d = est.decimation.max(1) as f64;
+            let rel = |sigma: f64, x: f64| if x > 0.0 { sigma * sigma * d / (x * x) } else { 0.0 };
+            let inflation = ((1.0 + rel(sv, q.voltage.rms)) * (1.0 + rel(si, q.current.rms))).sqrt();
+            let noise_bias = q.true_pf.unwrap_or(0.0).abs() * (1.0 - 1.0 / inflation);
+            k * rss(&[
+                through_cos(theta, u_theta_b, scale),
+                type_a(|w| w.pf, through_cos(theta, u_theta_noise, scale)),
+                rect(noise_bias),
+            ])
         }),
         voltage: TraceUncertainty {
             rms: k * u_v,
