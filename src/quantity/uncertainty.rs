@@ -371,8 +371,15 @@ pub fn uncertainty(
             // PF reads low by PF·(1 − 1/√((1 + σv²/V²)(1 + σi²/I²))), a bias left uncorrected
             // and taken as a ± limit, as the resolution is for RMS.
             let d = est.decimation.max(1) as f64;
-            let rel = |sigma: f64, x: f64| if x > 0.0 { sigma * sigma * d / (x * x) } else { 0.0 };
-            let inflation = ((1.0 + rel(sv, q.voltage.rms)) * (1.0 + rel(si, q.current.rms))).sqrt();
+            let rel = |sigma: f64, x: f64| {
+                if x > 0.0 {
+                    sigma * sigma * d / (x * x)
+                } else {
+                    0.0
+                }
+            };
+            let inflation =
+                ((1.0 + rel(sv, q.voltage.rms)) * (1.0 + rel(si, q.current.rms))).sqrt();
             let noise_bias = q.true_pf.unwrap_or(0.0).abs() * (1.0 - 1.0 / inflation);
             k * rss(&[
                 through_cos(theta, u_theta_b, scale),
