@@ -138,7 +138,6 @@ pub struct PowerUncertainty {
 /// One window's figures, for the spread.
 struct WindowFigures {
     angle_deg: f64,
-    pf1: f64,
     pf: f64,
     v_rms: f64,
     i_rms: f64,
@@ -179,7 +178,6 @@ fn window_figures(
     };
     WindowFigures {
         angle_deg: theta.to_degrees(),
-        pf1: theta.cos(),
         pf: p / (v_rms * i_rms),
         v_rms,
         i_rms,
