@@ -1,0 +1,312 @@
+//! The bank as rated: the nameplate file, its keys and checks, the capacitor standards' bands and
+//! what is known of the supply.
+
+use serde::{Deserialize, Serialize};
+use std::path::{Path, PathBuf};
+
+/// Which capacitor standard sets the acceptance band of delivered/rated kvar.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+pub enum CapacitorStandard {
+    /// IEEE Std 18: 100 % to 110 % of rated kvar (from memory; older editions allowed 115 %).
+    #[default]
+    #[serde(rename = "ieee-18")]
+    Ieee18,
+    /// IEC 60831-1: −5 % to +10 % for units up to 100 kvar (from memory).
+    #[serde(rename = "iec-60831")]
+    Iec60831,
+}
+
+impl CapacitorStandard {
+    /// Accepted names on the command line and in a nameplate file.
+    pub const NAMES: [&'static str; 2] = ["ieee-18", "iec-60831"];
+
+    /// Reads a name.
+    pub fn parse(text: &str) -> Option<Self> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "ieee-18" | "ieee18" => Some(CapacitorStandard::Ieee18),
+            "iec-60831" | "iec60831" => Some(CapacitorStandard::Iec60831),
+            _ => None,
+        }
+    }
+
+    /// Lower and upper limit of delivered/rated (at rated voltage and frequency).
+    pub fn band(self) -> (f64, f64) {
+        match self {
+            CapacitorStandard::Ieee18 => (1.00, 1.10),
+            CapacitorStandard::Iec60831 => (0.95, 1.10),
+        }
+    }
+
+    /// The standard's name and band in words.
+    pub fn describe(self) -> &'static str {
+        match self {
+            CapacitorStandard::Ieee18 => "IEEE Std 18: 100 % to 110 % of rated kvar",
+            CapacitorStandard::Iec60831 => "IEC 60831-1: -5 % to +10 % of rated kvar",
+        }
+    }
+}
+
+/// What is known of the supply, for the resonance check.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub enum Supply {
+    /// Short-circuit power at the bank's bus, MVA.
+    ShortCircuitMva(f64),
+    /// The supplying transformer: rating in kVA and impedance in percent.
+    Transformer {
+        /// Rating, kVA.
+        kva: f64,
+        /// Short-circuit impedance, percent.
+        z_percent: f64,
+    },
+}
+
+impl Supply {
+    /// Short-circuit power in kVA (a transformer alone: S/z, the source taken as infinite).
+    pub fn short_circuit_kva(self) -> f64 {
+        match self {
+            Supply::ShortCircuitMva(s) => s * 1000.0,
+            Supply::Transformer { kva, z_percent } => kva / (z_percent / 100.0),
+        }
+    }
+}
+
+/// The bank as rated.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Nameplate {
+    /// Rated reactive power of the whole bank, kvar.
+    pub rated_kvar: f64,
+    /// Rated voltage, V (line-to-line for a three-phase bank).
+    pub rated_voltage: f64,
+    /// Rated frequency, Hz.
+    pub rated_frequency_hz: f64,
+    /// Rated kvar of each step (they add up to `rated_kvar`).
+    pub steps_kvar: Vec<f64>,
+    /// The captures are of one phase of a balanced three-phase system.
+    pub three_phase: bool,
+    /// The acceptance band's standard.
+    pub standard: CapacitorStandard,
+    /// The supply, when known.
+    pub supply: Option<Supply>,
+    /// Target PF for the correction advice.
+    pub target_pf: f64,
+}
+
+/// The nameplate as a file may give it (TOML, our own keys); every key optional. Command-line
+/// options, or a batch sidecar's `[bank]` table, fill or override them ([`NameplateFile::or`]),
+/// and [`Nameplate::resolve`] checks the result.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct NameplateFile {
+    /// Rated kvar of the whole bank.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rated_kvar: Option<f64>,
+    /// Rated voltage (line-to-line for three-phase), V.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rated_voltage: Option<f64>,
+    /// Rated frequency, Hz.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rated_frequency_hz: Option<f64>,
+    /// Number of equal steps.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub steps: Option<usize>,
+    /// Rated kvar of each step, when unequal.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub step_kvar: Option<Vec<f64>>,
+    /// One phase of a balanced three-phase bank.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub three_phase: Option<bool>,
+    /// "ieee-18" or "iec-60831".
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub standard: Option<String>,
+    /// Target PF.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub target_pf: Option<f64>,
+    /// Supply short-circuit power, MVA.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub supply_mva: Option<f64>,
+    /// Supplying transformer rating, kVA.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub transformer_kva: Option<f64>,
+    /// Supplying transformer impedance, percent.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub transformer_z_percent: Option<f64>,
+}
+
+impl NameplateFile {
+    /// Every value `self` gives, and `under`'s where `self` gives none.
+    pub fn or(self, under: NameplateFile) -> NameplateFile {
+        NameplateFile {
+            rated_kvar: self.rated_kvar.or(under.rated_kvar),
+            rated_voltage: self.rated_voltage.or(under.rated_voltage),
+            rated_frequency_hz: self.rated_frequency_hz.or(under.rated_frequency_hz),
+            steps: self.steps.or(under.steps),
+            step_kvar: self.step_kvar.or(under.step_kvar),
+            three_phase: self.three_phase.or(under.three_phase),
+            standard: self.standard.or(under.standard),
+            target_pf: self.target_pf.or(under.target_pf),
+            supply_mva: self.supply_mva.or(under.supply_mva),
+            transformer_kva: self.transformer_kva.or(under.transformer_kva),
+            transformer_z_percent: self.transformer_z_percent.or(under.transformer_z_percent),
+        }
+    }
+
+    /// True when no value is given.
+    pub fn is_empty(&self) -> bool {
+        *self == NameplateFile::default()
+    }
+}
+
+/// The key names [`Nameplate::resolve`] uses in its messages, and where a missing value may be
+/// given.
+pub struct KeyNames {
+    /// The name of a key (a `NameplateFile` field name) as the user writes it.
+    pub name: fn(&'static str) -> String,
+    /// Where a missing value can be given, for the message.
+    pub where_given: &'static str,
+}
+
+impl KeyNames {
+    /// Names as in the nameplate file and a sidecar's `[bank]` table.
+    pub const FILE: KeyNames = KeyNames {
+        name: |k| k.to_string(),
+        where_given: "the nameplate file or the [bank] table",
+    };
+}
+
+impl Nameplate {
+    /// Checks a merged nameplate and fills the defaults: one step, the default standard, target
+    /// PF 0.95. Messages name keys through `keys`.
+    pub fn resolve(f: &NameplateFile, keys: &KeyNames) -> Result<Nameplate, String> {
+        let name = keys.name;
+        let need = |v: Option<f64>, key: &'static str| -> Result<f64, String> {
+            match v {
+                Some(x) if x.is_finite() && x > 0.0 => Ok(x),
+                Some(x) => Err(format!("{} must be a positive number, not {x}", name(key))),
+                None => Err(format!(
+                    "{} is missing: give it in {}",
+                    name(key),
+                    keys.where_given
+                )),
+            }
+        };
+        let rated_kvar = need(f.rated_kvar, "rated_kvar")?;
+        let rated_voltage = need(f.rated_voltage, "rated_voltage")?;
+        let rated_frequency_hz = need(f.rated_frequency_hz, "rated_frequency_hz")?;
+        let steps_kvar = match (&f.step_kvar, f.steps) {
+            (Some(list), _) => {
+                if list.is_empty() || list.iter().any(|q| !(q.is_finite() && *q > 0.0)) {
+                    return Err(format!("{} needs positive kvar values", name("step_kvar")));
+                }
+                let sum: f64 = list.iter().sum();
+                if (sum / rated_kvar - 1.0).abs() > 0.01 {
+                    return Err(format!(
+                        "the steps add up to {sum} kvar, not the rated {rated_kvar} kvar"
+                    ));
+                }
+                list.clone()
+            }
+            (None, Some(0)) => return Err(format!("{} must be at least 1", name("steps"))),
+            (None, Some(n)) => vec![rated_kvar / n as f64; n],
+            (None, None) => vec![rated_kvar],
+        };
+        if steps_kvar.len() > 20 {
+            return Err("at most 20 steps are supported".into());
+        }
+        let standard = match f.standard.as_deref() {
+            None => CapacitorStandard::default(),
+            Some(s) => CapacitorStandard::parse(s).ok_or_else(|| {
+                format!(
+                    "unknown capacitor standard '{s}': use {}",
+                    CapacitorStandard::NAMES.join(" or ")
+                )
+            })?,
+        };
+        let supply = match (f.supply_mva, f.transformer_kva, f.transformer_z_percent) {
+            (Some(s), _, _) => Some(Supply::ShortCircuitMva(need(Some(s), "supply_mva")?)),
+            (None, Some(k), Some(z)) => Some(Supply::Transformer {
+                kva: need(Some(k), "transformer_kva")?,
+                z_percent: need(Some(z), "transformer_z_percent")?,
+            }),
+            (None, Some(_), None) | (None, None, Some(_)) => {
+                return Err(format!(
+                    "a transformer needs both {} and {}",
+                    name("transformer_kva"),
+                    name("transformer_z_percent")
+                ));
+            }
+            (None, None, None) => None,
+        };
+        let target_pf = f.target_pf.unwrap_or(0.95);
+        if !(target_pf > 0.0 && target_pf <= 1.0) {
+            return Err(format!(
+                "{} must be above 0 and at most 1, not {target_pf}",
+                name("target_pf")
+            ));
+        }
+        Ok(Nameplate {
+            rated_kvar,
+            rated_voltage,
+            rated_frequency_hz,
+            steps_kvar,
+            three_phase: f.three_phase.unwrap_or(false),
+            standard,
+            supply,
+            target_pf,
+        })
+    }
+}
+
+/// A nameplate file that cannot be used.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{}: {}{message}", .path.display(), .line.map(|l| format!("line {l}: ")).unwrap_or_default())]
+pub struct NameplateError {
+    /// The file.
+    pub path: PathBuf,
+    /// 1-based line, where known.
+    pub line: Option<usize>,
+    /// What is wrong.
+    pub message: String,
+}
+
+impl NameplateFile {
+    /// Reads a nameplate file.
+    pub fn load(path: &Path) -> Result<Self, NameplateError> {
+        let text = std::fs::read_to_string(path).map_err(|e| NameplateError {
+            path: path.to_path_buf(),
+            line: None,
+            message: format!("cannot read the file: {e}"),
+        })?;
+        Self::parse(&text, path)
+    }
+
+    /// Parses nameplate TOML.
+    pub fn parse(text: &str, path: &Path) -> Result<Self, NameplateError> {
+        toml::from_str(text).map_err(|e: toml::de::Error| NameplateError {
+            path: path.to_path_buf(),
+            line: e
+                .span()
+                .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1),
+            message: e.message().trim().to_string(),
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn nameplate_files_are_read_and_their_mistakes_named() {
+        let ok = NameplateFile::parse(
+            "rated_kvar = 30\nrated_voltage = 400\nrated_frequency_hz = 50\nsteps = 3\n",
+            Path::new("plate.toml"),
+        )
+        .unwrap();
+        assert_eq!(ok.steps, Some(3));
+        let e = NameplateFile::parse("rated_kvar = 30\nrated_kvars = 4\n", Path::new("p.toml"))
+            .unwrap_err();
+        assert!(e.to_string().starts_with("p.toml: line 2: "), "{e}");
+        assert!(e.to_string().contains("rated_kvars"), "{e}");
+        assert!(!e.to_string().contains('\n'));
+    }
+}
