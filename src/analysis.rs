@@ -235,15 +235,67 @@ impl Analysis {
     /// Our measurement as the capacitor bank check needs it; `None` without a defined angle.
     pub fn bank_side(&self) -> Option<BankSide> {
         let q = &self.quantities;
+        let (u_q_type_a_var, u_v1_type_a) = self.fundamental_type_a();
         Some(BankSide {
             p_w: q.power.active_w,
+            p1_w: q.power.fundamental_active_w,
             q_var: q.power.reactive_var,
-            u_q_var: self.uncertainty.power.reactive_var,
+            u_q_type_a_var,
             v1: q.voltage.fundamental_rms,
+            u_v1_type_a,
             frequency_hz: q.frequency_hz,
+            u_frequency_hz: self.uncertainty.frequency_hz / self.uncertainty.coverage_factor,
             angle_deg: q.phase_angle_dft_deg?,
+            instrument: self.settings.uncertainty,
             current_harmonics: q.harmonics.iter().map(|h| h.current_rms).collect(),
+            voltage_harmonics: q.harmonics.iter().map(|h| h.voltage_rms).collect(),
+            harmonic_angles_deg: q.harmonics.iter().map(|h| h.angle_deg).collect(),
+            warnings: self.warnings.clone(),
         })
+    }
+
+    /// Type A standard uncertainties of Q1 (var) and V1 (V), by the rule of the uncertainty
+    /// budget: the spread of the about-200 ms windows' values (`s/√M`) with at least
+    /// [`uncertainty::MIN_WINDOWS_FOR_SPREAD`] windows, else the larger of the fit noise
+    /// propagated (`√(σ_v²·I1² + σ_i²·V1²)/√N` for Q1, `σ_v/√N` for V1) and a rough spread.
+    fn fundamental_type_a(&self) -> (f64, f64) {
+        let est = &self.estimate;
+        let q = &self.quantities;
+        let turn = rustfft::num_complex::Complex64::from_polar(
+            1.0,
+            2.0 * std::f64::consts::PI * q.frequency_hz * self.settings.skew_s,
+        );
+        let per_window: Vec<(f64, f64)> = est
+            .windows
+            .iter()
+            .filter_map(|w| {
+                let v1 = *w.voltage.harmonics.first()?;
+                let i1 = *w.current.harmonics.first()? * turn;
+                Some(((v1 * i1.conj()).im, v1.norm()))
+            })
+            .collect();
+        let sd_mean = |x: &dyn Fn(&(f64, f64)) -> f64| {
+            let m = per_window.len() as f64;
+            if m < 2.0 {
+                return 0.0;
+            }
+            let mean = per_window.iter().map(x).sum::<f64>() / m;
+            let var = per_window
+                .iter()
+                .map(|w| (x(w) - mean).powi(2))
+                .sum::<f64>()
+                / (m - 1.0);
+            (var / m).sqrt()
+        };
+        let (spread_q, spread_v) = (sd_mean(&|w| w.0), sd_mean(&|w| w.1));
+        if per_window.len() >= uncertainty::MIN_WINDOWS_FOR_SPREAD {
+            return (spread_q, spread_v);
+        }
+        let n = (self.samples / est.decimation.max(1)).max(1) as f64;
+        let (sv, si) = (est.voltage.residual_rms, est.current.residual_rms);
+        let noise_q =
+            (sv * q.current.fundamental_rms).hypot(si * q.voltage.fundamental_rms) / n.sqrt();
+        (noise_q.max(spread_q), (sv / n.sqrt()).max(spread_v))
     }
 
     /// Compares the measured angle with what `circuit` predicts at the measured frequency and

@@ -427,26 +427,13 @@ fn an_unwritable_output_is_an_error() {
 
 #[test]
 fn bank_and_meter_checks_get_their_sections_and_cautions() {
-    use tracephase::check::bank::{BankSide, CapacitorStandard, Nameplate, check_bank};
+    use tracephase::check::bank::{CapacitorStandard, Nameplate, check_bank};
     use tracephase::check::meter::{AccuracyClass, PfSign, Reading, check_meter};
     use tracephase::report::html::{BankSection, Entry, HtmlDoc, MeterSection, write_html};
 
     let before = analyse("demo-plant-feeder-bank-off.csv");
     let after = analyse("demo-plant-feeder-bank-on.csv");
-    let side = |a: &Analysis| BankSide {
-        p_w: a.quantities.power.active_w,
-        q_var: a.quantities.power.reactive_var,
-        u_q_var: a.uncertainty.power.reactive_var,
-        v1: a.quantities.voltage.fundamental_rms,
-        frequency_hz: a.quantities.frequency_hz,
-        angle_deg: a.quantities.phase_angle_dft_deg.unwrap(),
-        current_harmonics: a
-            .quantities
-            .harmonics
-            .iter()
-            .map(|h| h.current_rms)
-            .collect(),
-    };
+    let side = |a: &Analysis| a.bank_side().unwrap();
     let plate = Nameplate {
         rated_kvar: 75.0,
         rated_voltage: 400.0,

@@ -107,11 +107,34 @@ fn table(
         num(r.band[1], 3),
         r.standard
     )?;
+    let b = &r.ratio_budget;
+    writeln!(
+        out,
+        "  budget       u_c = {} (k = {}: U = {}); {}",
+        num(b.ratio_combined_standard_uncertainty, 3),
+        b.coverage_factor,
+        num(b.ratio_expanded_uncertainty, 3),
+        b.correlation
+    )?;
+    for t in &b.terms {
+        writeln!(
+            out,
+            "               u = {:<9.2e} {}: {}",
+            t.ratio_standard_uncertainty, t.term, t.source
+        )?;
+    }
     writeln!(
         out,
         "  VERDICT      {} (guarded acceptance, ILAC-G8:09/2019: guard band = U, k = 2)",
         r.verdict.to_string().to_uppercase()
     )?;
+    for (k, why) in r.inconclusive_because.iter().enumerate() {
+        let head = if k == 0 { "because" } else { "" };
+        writeln!(
+            out,
+            "  {head:<13}{why}: the capture cannot support a pass or fail; capture it again"
+        )?;
+    }
     if let (Some(n), Some(text)) = (r.failed_steps, &r.failed_steps_arithmetic) {
         writeln!(out, "  failed steps {n}: {text}")?;
     }
@@ -169,5 +192,19 @@ fn table(
             changes.join(", ")
         }
     )?;
-    sign_off(out, "warnings", &r.warnings, "none", CAUTIONS)
+    if r.capture_warnings.is_empty() {
+        writeln!(out, "  captures     no warnings")?;
+    }
+    for (k, w) in r.capture_warnings.iter().enumerate() {
+        let head = if k == 0 { "captures" } else { "" };
+        writeln!(
+            out,
+            "  {head:<13}- {} ({}, {}): {}",
+            w.capture,
+            w.severity_word(),
+            w.code,
+            w.message
+        )?;
+    }
+    sign_off(out, "bank check", &r.warnings, "nothing further", CAUTIONS)
 }

@@ -884,6 +884,14 @@ fn bank_section(h: &mut String, b: &BankSection) -> std::fmt::Result {
         num(r.band[1], 3),
         escape(r.standard)
     )?;
+    for why in &r.inconclusive_because {
+        writeln!(
+            h,
+            "<p class=\"warn\">Inconclusive because {}: the capture cannot support a pass or \
+             fail; capture it again.</p>",
+            escape(why)
+        )?;
+    }
     writeln!(h, "<table>\n<tr><th>item</th><th>value</th></tr>")?;
     let steps: Vec<String> = p.steps_kvar.iter().map(|q| num(*q, 4)).collect();
     row(
@@ -913,6 +921,24 @@ fn bank_section(h: &mut String, b: &BankSection) -> std::fmt::Result {
         ),
     )?;
     row(h, "expected (arithmetic)", &r.expected_arithmetic)?;
+    let budget = &r.ratio_budget;
+    let terms: Vec<String> = budget
+        .terms
+        .iter()
+        .map(|t| format!("{} {:.2e}", t.term, t.ratio_standard_uncertainty))
+        .collect();
+    row(
+        h,
+        "ratio uncertainty budget",
+        &format!(
+            "u_c = {}, k = {}, U = {}: {}; {}",
+            num(budget.ratio_combined_standard_uncertainty, 3),
+            budget.coverage_factor,
+            num(budget.ratio_expanded_uncertainty, 3),
+            terms.join("; "),
+            budget.correlation
+        ),
+    )?;
     row(
         h,
         "PF before → after",

@@ -12,19 +12,25 @@
 //!   on one phase (line-to-neutral voltage, line current) is scaled by √3 in voltage and by 3 in
 //!   power;
 //! - acceptance band of delivered/rated: IEEE Std 18 100 % to 110 % (older editions 115 %), or
-//!   IEC 60831-1 −5 %/+10 % for units up to 100 kvar (both from memory), decided by the guarded
-//!   rule of [`super::decision`];
+//!   IEC 60831-1 −5 %/+10 % up to 100 kvar and −5 %/+5 % above (both from memory), decided by the
+//!   guarded rule of [`super::decision`] with the uncertainty of [`budget`] (the captures share
+//!   their probes); a capture whose warnings say it cannot support the figure (clipping, too few
+//!   cycles, no fundamental: [`Warning::undermines_verdict`]) makes the verdict `inconclusive`;
 //! - correction for a target PF: `Qc = P·(tan θ1 − tan θ2)` (handbook arithmetic);
 //! - parallel resonance order with the supply: `h = √(Ssc/Qc)` (a rule of thumb of the trade,
 //!   common practice), with `Ssc = S_transformer / z` when only a transformer is known.
 
+pub mod budget;
 mod nameplate;
 
+pub use budget::{BudgetTerm, RatioBudget};
 pub use nameplate::{
     CapacitorStandard, KeyNames, Nameplate, NameplateError, NameplateFile, Supply,
 };
 
 use super::decision::{Verdict, decide};
+use crate::quantity::uncertainty::UncertaintyInputs;
+use crate::warning::{Severity, Warning};
 use serde::Serialize;
 use std::fmt;
 
@@ -33,18 +39,56 @@ use std::fmt;
 pub struct BankSide {
     /// Active power P, W.
     pub p_w: f64,
+    /// Fundamental active power P1 = S1·cos θ1, W (how Q1 moves with a phase error: ∂Q1/∂θ).
+    pub p1_w: f64,
     /// Fundamental reactive power Q1, var (positive inductive).
     pub q_var: f64,
-    /// Expanded uncertainty of Q1, var.
-    pub u_q_var: f64,
+    /// Standard uncertainty of Q1 from the capture itself (Type A), var.
+    pub u_q_type_a_var: f64,
     /// Fundamental voltage V1, V.
     pub v1: f64,
+    /// Standard uncertainty of V1 from the capture itself (Type A), V.
+    pub u_v1_type_a: f64,
     /// Fundamental frequency, Hz.
     pub frequency_hz: f64,
+    /// Standard uncertainty of the frequency, Hz.
+    pub u_frequency_hz: f64,
     /// Fundamental angle θ1, degrees (positive: current lags).
     pub angle_deg: f64,
+    /// The probes' limits (shared by both captures of a bank check).
+    pub instrument: UncertaintyInputs,
     /// Current RMS per harmonic order (index h − 1), A.
     pub current_harmonics: Vec<f64>,
+    /// Voltage RMS per harmonic order (index h − 1), V.
+    pub voltage_harmonics: Vec<f64>,
+    /// Angle of the voltage minus the current per harmonic order (index h − 1), degrees.
+    pub harmonic_angles_deg: Vec<f64>,
+    /// The capture's warnings.
+    pub warnings: Vec<Warning>,
+}
+
+/// One of the analysed captures' warnings, as the bank check shows it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CaptureWarning {
+    /// "before" or "after".
+    pub capture: &'static str,
+    /// The warning's stable code.
+    pub code: &'static str,
+    /// warning, finding or note.
+    pub severity: Severity,
+    /// The warning in words.
+    pub message: String,
+}
+
+impl CaptureWarning {
+    /// The severity in words.
+    pub fn severity_word(&self) -> &'static str {
+        match self.severity {
+            Severity::Warning => "warning",
+            Severity::Finding => "finding",
+            Severity::Note => "note",
+        }
+    }
 }
 
 /// A harmonic current before and after switching.
@@ -115,14 +159,21 @@ pub struct BankReport {
     pub expected_arithmetic: String,
     /// delivered / expected.
     pub ratio: f64,
-    /// Expanded uncertainty of the ratio.
+    /// Expanded uncertainty of the ratio, from [`BankReport::ratio_budget`].
     pub ratio_uncertainty: f64,
+    /// How the ratio's uncertainty is made up (the captures share their probes).
+    pub ratio_budget: RatioBudget,
     /// Acceptance band of the ratio [low, high].
     pub band: [f64; 2],
     /// The standard behind the band.
     pub standard: &'static str,
     /// pass / fail / inconclusive.
     pub verdict: BankVerdict,
+    /// Why the verdict is `inconclusive` although the ratio and its uncertainty alone would pass
+    /// or fail it: a capture cannot support the figure. Empty otherwise.
+    pub inconclusive_because: Vec<String>,
+    /// Both captures' own warnings (clipping, few cycles...), findings and notes.
+    pub capture_warnings: Vec<CaptureWarning>,
     /// The most likely number of failed steps when the bank falls short.
     pub failed_steps: Option<usize>,
     /// How that number was found.
@@ -147,7 +198,7 @@ pub struct BankReport {
     pub resonance_near_harmonic: Option<usize>,
     /// Harmonic currents before and after.
     pub harmonic_changes: Vec<HarmonicChange>,
-    /// Warnings in words.
+    /// What the bank check itself found, in words.
     pub warnings: Vec<String>,
 }
 
@@ -162,7 +213,6 @@ const COMPARED_ORDERS: usize = 25;
 pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> BankReport {
     let scale = if plate.three_phase { 3.0 } else { 1.0 };
     let delivered = scale * (before.q_var - after.q_var) / 1000.0;
-    let u_delivered = scale * before.u_q_var.hypot(after.u_q_var) / 1000.0;
     let site_v = if plate.three_phase {
         3f64.sqrt() * after.v1
     } else {
@@ -176,10 +226,37 @@ pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ban
         plate.rated_kvar, site_v, plate.rated_voltage, f, plate.rated_frequency_hz, expected
     );
     let ratio = delivered / expected;
-    let u_ratio = u_delivered / expected;
-    let (low, high) = plate.standard.band();
+    let ratio_budget = budget::ratio_budget(before, after, scale, delivered, expected);
+    let u_ratio = ratio_budget.ratio_expanded_uncertainty;
+    let u_delivered = ratio_budget.delivered_expanded_uncertainty_kvar;
+    let (low, high) = plate.standard.band(plate.rated_kvar);
     let decision = decide(ratio, u_ratio, low, high);
-    let verdict = BankVerdict::from(decision.verdict);
+    let sides = [("before", before), ("after", after)];
+    let inconclusive_because: Vec<String> = sides
+        .iter()
+        .flat_map(|(name, side)| {
+            side.warnings.iter().filter_map(move |w| {
+                w.undermines_verdict()
+                    .map(|r| format!("{name} capture: {r}"))
+            })
+        })
+        .collect();
+    let verdict = if inconclusive_because.is_empty() {
+        BankVerdict::from(decision.verdict)
+    } else {
+        BankVerdict::Inconclusive
+    };
+    let capture_warnings = sides
+        .iter()
+        .flat_map(|(name, side)| {
+            side.warnings.iter().map(move |w| CaptureWarning {
+                capture: name,
+                code: w.code(),
+                severity: w.severity(),
+                message: w.to_string(),
+            })
+        })
+        .collect();
     let mut warnings = Vec::new();
 
     // Failed steps: the subset of steps whose loss best explains what is missing.
@@ -300,9 +377,12 @@ pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ban
         expected_arithmetic,
         ratio,
         ratio_uncertainty: u_ratio,
+        ratio_budget,
         band: [low, high],
-        standard: plate.standard.describe(),
+        standard: plate.standard.describe(plate.rated_kvar),
         verdict,
+        inconclusive_because,
+        capture_warnings,
         failed_steps,
         failed_steps_arithmetic,
         over_corrected,
@@ -347,12 +427,19 @@ mod tests {
     fn side(p: f64, q: f64, v1: f64, f: f64) -> BankSide {
         BankSide {
             p_w: p,
+            p1_w: p,
             q_var: q,
-            u_q_var: 0.002 * q.abs().max(1.0),
+            u_q_type_a_var: 0.001 * q.abs().max(1.0),
             v1,
+            u_v1_type_a: 0.0001 * v1,
             frequency_hz: f,
+            u_frequency_hz: 1e-4,
             angle_deg: q.atan2(p).to_degrees(),
+            instrument: UncertaintyInputs::default(),
             current_harmonics: vec![10.0, 0.1, 0.5, 0.0, 0.3, 0.0, 0.2],
+            voltage_harmonics: vec![v1, 0.0, 0.01 * v1, 0.0, 0.02 * v1, 0.0, 0.01 * v1],
+            harmonic_angles_deg: vec![0.0; 7],
+            warnings: Vec::new(),
         }
     }
 
@@ -475,5 +562,40 @@ mod tests {
         let r = check_bank(&before, &after, &p);
         assert!((r.delivered_kvar - 30.0).abs() < 1e-9);
         assert!((r.site_voltage - 230.0 * 3f64.sqrt()).abs() < 1e-9);
+    }
+
+    /// IEC 60831-1 (from memory): −5 %/+10 % up to 100 kvar, −5 %/+5 % above. The same 109 % is
+    /// too much for a 150 kvar bank and would be inconclusive under the small units' band.
+    #[test]
+    fn the_iec_band_narrows_above_100_kvar() {
+        let mut small = plate(75.0, 400.0, 3);
+        small.standard = CapacitorStandard::Iec60831;
+        let mut large = plate(150.0, 400.0, 3);
+        large.standard = CapacitorStandard::Iec60831;
+        let before = side(200_000.0, 200_000.0, 400.0, 50.0);
+        for (p, band, verdict) in [
+            (&small, (0.95, 1.10), BankVerdict::Inconclusive),
+            (&large, (0.95, 1.05), BankVerdict::Fail),
+        ] {
+            let after = side(
+                200_000.0,
+                200_000.0 - 1.09 * 1000.0 * p.rated_kvar,
+                400.0,
+                50.0,
+            );
+            let r = check_bank(&before, &after, p);
+            assert!((r.ratio - 1.09).abs() < 1e-9);
+            assert_eq!((r.band[0], r.band[1]), band);
+            assert_eq!(r.verdict, verdict, "{} kvar: {r:?}", p.rated_kvar);
+        }
+        assert!(
+            check_bank(
+                &before,
+                &side(200_000.0, 200_000.0 - 1.03 * 150_000.0, 400.0, 50.0),
+                &large
+            )
+            .standard
+            .contains("above 100 kvar")
+        );
     }
 }

@@ -11,7 +11,7 @@ pub enum CapacitorStandard {
     #[default]
     #[serde(rename = "ieee-18")]
     Ieee18,
-    /// IEC 60831-1: −5 % to +10 % for units up to 100 kvar (from memory).
+    /// IEC 60831-1: −5 % to +10 % up to 100 kvar, −5 % to +5 % above (from memory).
     #[serde(rename = "iec-60831")]
     Iec60831,
 }
@@ -29,25 +29,36 @@ impl CapacitorStandard {
         }
     }
 
-    /// Lower and upper limit of delivered/rated (at rated voltage and frequency).
-    pub fn band(self) -> (f64, f64) {
+    /// The size above which IEC 60831-1 narrows its band, kvar (from memory).
+    pub const IEC_SMALL_UNIT_KVAR: f64 = 100.0;
+
+    /// Lower and upper limit of delivered/rated (at rated voltage and frequency) for a bank rated
+    /// `rated_kvar`: IEEE Std 18 100 % to 110 %; IEC 60831-1 −5 % to +10 % up to 100 kvar and
+    /// −5 % to +5 % above (both from memory).
+    pub fn band(self, rated_kvar: f64) -> (f64, f64) {
         match self {
             CapacitorStandard::Ieee18 => (1.00, 1.10),
-            CapacitorStandard::Iec60831 => (0.95, 1.10),
+            CapacitorStandard::Iec60831 if rated_kvar <= Self::IEC_SMALL_UNIT_KVAR => (0.95, 1.10),
+            CapacitorStandard::Iec60831 => (0.95, 1.05),
         }
     }
 
-    /// The standard's name and band in words.
-    pub fn describe(self) -> &'static str {
+    /// The standard's name and band in words, for a bank rated `rated_kvar`.
+    pub fn describe(self, rated_kvar: f64) -> &'static str {
         match self {
             CapacitorStandard::Ieee18 => "IEEE Std 18: 100 % to 110 % of rated kvar",
-            CapacitorStandard::Iec60831 => "IEC 60831-1: -5 % to +10 % of rated kvar",
+            CapacitorStandard::Iec60831 if rated_kvar <= Self::IEC_SMALL_UNIT_KVAR => {
+                "IEC 60831-1: -5 % to +10 % of rated kvar (up to 100 kvar)"
+            }
+            CapacitorStandard::Iec60831 => {
+                "IEC 60831-1: -5 % to +5 % of rated kvar (above 100 kvar)"
+            }
         }
     }
 }
 
 /// What is known of the supply, for the resonance check.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Supply {
     /// Short-circuit power at the bank's bus, MVA.
     ShortCircuitMva(f64),
@@ -58,6 +69,27 @@ pub enum Supply {
         /// Short-circuit impedance, percent.
         z_percent: f64,
     },
+}
+
+/// Written with the keys a nameplate file uses (`supply_mva`, or `transformer_kva` and
+/// `transformer_z_percent`), so JSON output reads like the TOML it came from.
+impl Serialize for Supply {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        match *self {
+            Supply::ShortCircuitMva(mva) => {
+                let mut m = s.serialize_map(Some(1))?;
+                m.serialize_entry("supply_mva", &mva)?;
+                m.end()
+            }
+            Supply::Transformer { kva, z_percent } => {
+                let mut m = s.serialize_map(Some(2))?;
+                m.serialize_entry("transformer_kva", &kva)?;
+                m.serialize_entry("transformer_z_percent", &z_percent)?;
+                m.end()
+            }
+        }
+    }
 }
 
 impl Supply {
