@@ -579,9 +579,9 @@ where
 pub enum FormatArg {
     /// Readable summary with units.
     Table,
-    /// JSON Lines, one object per file.
+    /// JSON Lines: one object per capture (one in all for a model, a bank or a meter check).
     Json,
-    /// One row per file with a header.
+    /// A header, then one row per capture (one row for a model, a bank or a meter check).
     Csv,
 }
 
