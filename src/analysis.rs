@@ -313,8 +313,20 @@ impl Analysis {
             return None;
         };
         let (v1, i1) = q.fundamentals;
+        let uz = &self.uncertainty;
+        let m = expected::Measurement {
+            v1,
+            i1,
+            angle_deg: angle,
+            u_angle_deg: u,
+            // |Z| = V/I: the relative expanded uncertainties of the two RMS values combined
+            // (independent probes).
+            u_impedance_rel: (uz.voltage.rms / q.voltage.rms).hypot(uz.current.rms / q.current.rms),
+            v_scale: self.settings.v_scale,
+            i_scale: self.settings.i_scale,
+        };
         let e = expected::expectation(circuit, q.frequency_hz, mc);
-        let mut x = expected::compare_to(circuit, &e, v1, i1, angle, u);
+        let mut x = expected::compare_to(circuit, &e, &m);
         x.undermined_by(&self.verdict_doubts());
         self.expected = Some(x);
         Some(e)

@@ -1,11 +1,13 @@
 //! Expected vs measured on synthetic bench captures of a series RLC network whose truth is the
 //! textbook series impedance Z = R + j(ωL − 1/(ωC)), θ = atan(X/R) (positive: current lags).
 
+use assert_cmd::Command;
+use rustfft::num_complex::Complex64;
 use std::f64::consts::PI;
 use std::path::Path;
 use tracephase::check::circuit::Circuit;
 use tracephase::check::decision::Verdict;
-use tracephase::check::expected::{Expected, compare};
+use tracephase::check::expected::{Expected, Measurement, compare};
 use tracephase::check::tolerance::MonteCarloConfig;
 use tracephase::quantity::uncertainty::{UncertaintyInputs, uncertainty};
 use tracephase::synth::{Spec, Waveform, series_rlc_current, synthesize};
@@ -48,19 +50,23 @@ fn measure(c_actual: f64) -> Expected {
     let inputs = UncertaintyInputs::default();
     let u = uncertainty(&vs, &is, &est, &q, 0.0, &inputs);
     let (v1, i1) = q.fundamentals;
-    let mc = MonteCarloConfig {
-        draws: 20_000,
-        ..Default::default()
-    };
-    compare(
-        &model(),
-        q.frequency_hz,
+    let m = Measurement {
         v1,
         i1,
-        q.phase_angle_dft_deg.unwrap(),
-        u.phase_angle_deg.dft.unwrap(),
-        &mc,
-    )
+        angle_deg: q.phase_angle_dft_deg.unwrap(),
+        u_angle_deg: u.phase_angle_deg.dft.unwrap(),
+        u_impedance_rel: (u.voltage.rms / q.voltage.rms).hypot(u.current.rms / q.current.rms),
+        v_scale: 1.0,
+        i_scale: 1.0,
+    };
+    compare(&model(), q.frequency_hz, &m, &mc())
+}
+
+fn mc() -> MonteCarloConfig {
+    MonteCarloConfig {
+        draws: 20_000,
+        ..Default::default()
+    }
 }
 
 fn series_angle_at(c: f64, f: f64) -> f64 {
@@ -115,4 +121,169 @@ fn an_angle_on_the_band_edge_is_inconclusive() {
     let e = measure(c);
     assert_eq!(e.verdict, Verdict::Inconclusive, "{e:?}");
     assert!(e.margin_deg.abs() < e.measured_uncertainty_deg);
+}
+
+// ---------------------------------------------------------------------------------------------
+// |Z| as well as the angle.
+
+/// The tight model's nominal impedance at 50 Hz: Z = R + j(ωL − 1/(ωC)) (textbook).
+fn nominal_z() -> Complex64 {
+    let w = 2.0 * PI * F;
+    Complex64::new(R, w * L - 1.0 / (w * C))
+}
+
+/// A measurement at the model's nominal angle whose |Z| is `factor` times the nominal |Z|, with
+/// the default probes' relative U of |Z| (±1 % and ±2 % rectangular, k = 2: 2.58 %).
+fn scaled(factor: f64, v_scale: f64, i_scale: f64) -> Measurement {
+    let v1 = Complex64::new(120.0, 0.0);
+    let i1 = v1 / (nominal_z() * factor);
+    let rect = |pct: f64| pct / 100.0 / 3f64.sqrt();
+    Measurement {
+        v1,
+        i1,
+        angle_deg: nominal_z().arg().to_degrees(),
+        u_angle_deg: 0.6,
+        u_impedance_rel: 2.0 * rect(1.0).hypot(rect(2.0)),
+        v_scale,
+        i_scale,
+    }
+}
+
+#[test]
+fn the_impedance_band_holds_the_corners_of_the_tolerance_box() {
+    // R ±1 %, L ±2 %, C ±5 %: |Z| is monotonic in each part here (X > 0 throughout), so the
+    // extremes are corners: R, L high and C high (1/ωC smallest) give the largest |Z|.
+    let e = compare(&model(), F, &scaled(1.0, 1.0, 1.0), &mc());
+    let w = 2.0 * PI * F;
+    let z = |r: f64, l: f64, c: f64| r.hypot(w * l - 1.0 / (w * c));
+    let low = z(0.99 * R, 0.98 * L, 0.95 * C);
+    let high = z(1.01 * R, 1.02 * L, 1.05 * C);
+    assert!((e.impedance.band_ohm[0] / low - 1.0).abs() < 1e-9, "{e:?}");
+    assert!((e.impedance.band_ohm[1] / high - 1.0).abs() < 1e-9, "{e:?}");
+    assert_eq!(e.verdict, Verdict::Consistent, "{e:?}");
+    assert_eq!(e.impedance.verdict, Verdict::Consistent);
+    assert!(e.impedance.finding.is_none());
+}
+
+#[test]
+fn an_impedance_half_the_model_at_the_right_angle_is_outside() {
+    // Half the |Z| at the nominal angle: every part halved in impedance, not a scale of ours.
+    let e = compare(&model(), F, &scaled(0.5, 1.0, 1.0), &mc());
+    assert_eq!(e.angle_verdict, Verdict::Consistent, "{e:?}");
+    assert_eq!(e.impedance.verdict, Verdict::Outside);
+    assert_eq!(e.verdict, Verdict::Outside);
+    assert_eq!(e.impedance.scale_factor, None);
+    let why = e.reason.as_deref().unwrap();
+    assert!(why.contains("|Z| is 0.5000x the model"), "{why}");
+    assert!(why.contains("does not match the model"), "{why}");
+    assert!(e.failed());
+}
+
+#[test]
+fn an_impedance_off_by_the_current_scale_in_use_names_that_scale() {
+    // A 20:1 current ratio (a 100/5 A CT) applied twice: |Z| reads 20 times the model.
+    let e = compare(&model(), F, &scaled(20.0, 1.0, 20.0), &mc());
+    assert_eq!(e.verdict, Verdict::Inconclusive, "{e:?}");
+    assert_eq!(e.impedance.scale_factor, Some(20.0));
+    let why = e.reason.as_deref().unwrap();
+    assert!(why.contains("the current scale in use (20.00)"), "{why}");
+    assert!(!e.failed());
+}
+
+#[test]
+fn an_impedance_straddling_its_band_leaves_the_angle_verdict() {
+    // |Z| at the band's top edge: |Z| ± U straddles the limit; the angle decides.
+    let top = compare(&model(), F, &scaled(1.0, 1.0, 1.0), &mc())
+        .impedance
+        .band_ohm[1];
+    let e = compare(
+        &model(),
+        F,
+        &scaled(top / nominal_z().norm(), 1.0, 1.0),
+        &mc(),
+    );
+    assert_eq!(e.impedance.verdict, Verdict::Inconclusive, "{e:?}");
+    assert_eq!(e.verdict, Verdict::Consistent);
+    assert_eq!(e.reason, None);
+}
+
+/// The case the issue reported, as a technician met it: an R-L load modelled at 41.8 Ω, a
+/// capture whose current reads a tenth of the truth (a clamp on its 10 A range read as 1 A), so
+/// V1/I1 = 417.9 Ω at the right angle. Invented bench data.
+#[test]
+fn a_tenfold_impedance_is_a_scale_finding_not_consistent() {
+    let dir = tempfile::TempDir::new().unwrap();
+    // R = 33 Ω ±5 %, L = 81.7 mH ±10 %: |Z| = √(33² + (2π·50·0.0817)²) = 41.807 Ω at 50 Hz
+    // (textbook series impedance).
+    let model = dir.path().join("bench-load.toml");
+    std::fs::write(
+        &model,
+        "name = \"bench R-L load\"\nfrequency_hz = 50\nnetwork = \"R1 + L1\"\n\
+         [parts.R1]\nvalue = \"33 ohm\"\ntolerance = \"±5%\"\n\
+         [parts.L1]\nvalue = \"81.7 mH\"\ntolerance = \"±10%\"\n",
+    )
+    .unwrap();
+    let w = 2.0 * PI * F;
+    let z_model = Complex64::new(33.0, w * 0.0817);
+    assert!((z_model.norm() - 41.807).abs() < 1e-3);
+    let theta = z_model.arg().to_degrees();
+    let i_rms = 230.0 / 417.9;
+    let spec = tracephase::synth::Spec::clean(
+        10_000.0,
+        F,
+        4_000,
+        Waveform::sine(230.0, 0.0),
+        Waveform::sine(i_rms, -theta),
+    );
+    let (v, i) = synthesize(&spec);
+    let mut text = String::from("t,v,i\n");
+    for (k, (a, b)) in v.iter().zip(&i).enumerate() {
+        text.push_str(&format!("{:.7},{a:.6},{b:.6}\n", k as f64 / 10_000.0));
+    }
+    let capture = dir.path().join("bench-load.csv");
+    std::fs::write(&capture, text).unwrap();
+
+    let run = |format: &str| {
+        Command::cargo_bin("tracephase")
+            .unwrap()
+            .arg("analyze")
+            .arg(&capture)
+            .arg("--expect")
+            .arg(&model)
+            .args(["--draws", "2000", "--format", format])
+            .output()
+            .unwrap()
+    };
+    let out = run("json");
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap_or_else(|_| {
+        panic!("{}", String::from_utf8_lossy(&out.stderr));
+    });
+    let x = &json["expected"];
+    assert_eq!(x["angle_verdict"], "consistent", "{x}");
+    assert_eq!(x["verdict"], "inconclusive", "{x}");
+    let z = &x["impedance"];
+    assert!(
+        (z["measured_ohm"].as_f64().unwrap() - 417.9).abs() < 0.1,
+        "{z}"
+    );
+    assert_eq!(z["verdict"], "outside");
+    assert_eq!(z["scale_factor"].as_f64(), Some(10.0));
+    let why = x["reason"].as_str().unwrap();
+    assert!(why.starts_with("|Z| is 9.996x the model"), "{why}");
+    assert!(
+        why.contains("a factor of 10 is the mark of a scale error"),
+        "{why}"
+    );
+    assert!(
+        why.contains("is the current or voltage scale right?"),
+        "{why}"
+    );
+
+    let table = String::from_utf8(run("table").stdout).unwrap();
+    assert!(table.contains("verdict      INCONCLUSIVE"), "{table}");
+    assert!(
+        table.contains("a factor of 10 is the mark of a scale error"),
+        "{table}"
+    );
+    assert!(!table.contains("CONSISTENT"), "{table}");
 }

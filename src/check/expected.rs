@@ -3,7 +3,13 @@
 //!
 //! - The band is the worst case over the tolerance box ([`super::tolerance::worst_case`]); the
 //!   Monte Carlo percentiles are reported beside it.
-//! - The verdict follows [`super::decision`].
+//! - The verdict follows [`super::decision`], on the angle and on |Z|. The angle decides; |Z|
+//!   is a guard: when the measured |Z| lies beyond the model's worst-case |Z| band even after
+//!   widening by its own expanded uncertainty (the probes' ratio accuracy and the noise), the
+//!   verdict cannot be `consistent`. A factor that a wrong scale explains (a power of ten, √3,
+//!   or a probe ratio in use, applied twice or not at all) makes it `inconclusive` with the
+//!   question to ask; any other factor makes it `outside`. |Z| straddling its band changes
+//!   nothing: the angle, which no probe ratio touches, carries the verdict there.
 //! - The explanation: the measured impedance Z = V1/I1 as series R and X, the equivalent L or C,
 //!   and for each part alone the value that reproduces the measured angle with the others at
 //!   nominal ([`super::tolerance::part_value_for_angle`]), marked when that value lies outside the
@@ -13,7 +19,8 @@
 use super::circuit::{Circuit, phase_deg};
 use super::decision::{Verdict, decide};
 use super::tolerance::{
-    Distribution, MonteCarloConfig, MonteCarloResult, monte_carlo, part_value_for_angle, worst_case,
+    Distribution, MonteCarloConfig, MonteCarloResult, monte_carlo, part_value_for_angle,
+    worst_case, worst_case_impedance,
 };
 use rustfft::num_complex::Complex64;
 use serde::Serialize;
@@ -40,6 +47,8 @@ pub struct Expectation {
     pub band_deg: [f64; 2],
     /// Part values (SI units, in file order) at the low and the high end of the band.
     pub band_values: [Vec<f64>; 2],
+    /// Worst-case band of |Z| over the tolerance box, ohms [low, high].
+    pub impedance_band_ohm: [f64; 2],
     /// The Monte Carlo spread of the angle.
     pub monte_carlo: MonteCarloSummary,
     /// Frequencies where the nominal network is purely resistive, Hz.
@@ -82,6 +91,7 @@ pub fn expectation(circuit: &Circuit, frequency_hz: f64, mc: &MonteCarloConfig) 
     let z = circuit.nominal_impedance(frequency_hz);
     let angle = phase_deg(z);
     let band = worst_case(circuit, frequency_hz);
+    let zband = worst_case_impedance(circuit, frequency_hz);
     let r: MonteCarloResult = monte_carlo(circuit, frequency_hz, mc);
     Expectation {
         model: circuit.name.clone(),
@@ -99,6 +109,7 @@ pub fn expectation(circuit: &Circuit, frequency_hz: f64, mc: &MonteCarloConfig) 
         },
         band_deg: [band.low_deg, band.high_deg],
         band_values: [band.low_values, band.high_values],
+        impedance_band_ohm: [zband.low_deg, zband.high_deg],
         monte_carlo: MonteCarloSummary {
             draws: r.draws,
             seed: mc.seed,
@@ -138,17 +149,61 @@ pub struct Expected {
     pub measured_phase_deg: f64,
     /// Its expanded uncertainty, degrees.
     pub measured_uncertainty_deg: f64,
-    /// `consistent`, `outside` or `inconclusive`.
+    /// `consistent`, `outside` or `inconclusive`: the angle's verdict, made `outside` or
+    /// `inconclusive` by a |Z| beyond its band (see [`ImpedanceCheck`]).
     pub verdict: Verdict,
+    /// The angle's own verdict.
+    pub angle_verdict: Verdict,
+    /// The measured |Z| against the model's |Z| band.
+    pub impedance: ImpedanceCheck,
     /// Degrees beyond the nearer band limit (negative: inside by that much).
     pub margin_deg: f64,
     /// The rule the verdict follows.
     pub decision_rule: &'static str,
-    /// Why the verdict is `inconclusive` whatever the margin, when the capture cannot support the
-    /// angle (clipping, too few cycles, no fundamental); `None` otherwise.
+    /// Why the verdict is not the angle's: a |Z| beyond its band, or a capture that cannot
+    /// support the angle (clipping, too few cycles, no fundamental); `None` otherwise.
     pub reason: Option<String>,
     /// What the measured impedance says.
     pub explanation: Explanation,
+}
+
+/// The measured |Z| = |V1/I1| against the model's worst-case |Z| band.
+#[derive(Debug, Clone, Serialize)]
+pub struct ImpedanceCheck {
+    /// Measured |Z|, ohms.
+    pub measured_ohm: f64,
+    /// Its expanded uncertainty (k = 2), ohms.
+    pub uncertainty_ohm: f64,
+    /// The model's worst-case |Z| band, ohms [low, high].
+    pub band_ohm: [f64; 2],
+    /// Measured |Z| over the model's nominal |Z|.
+    pub ratio_to_nominal: f64,
+    /// The decision rule applied to |Z| alone.
+    pub verdict: Verdict,
+    /// When |Z| is `outside`: a scale factor that would bring it back within reach of the band
+    /// (a power of ten, √3, or a probe ratio in use), the mark of a wrong scale.
+    pub scale_factor: Option<f64>,
+    /// The finding in words when |Z| is `outside`.
+    pub finding: Option<String>,
+}
+
+/// What was measured, as the comparison with a model needs it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Measurement {
+    /// RMS phasor of the fundamental voltage, volts.
+    pub v1: Complex64,
+    /// RMS phasor of the fundamental current, amperes.
+    pub i1: Complex64,
+    /// Measured phase angle (DFT), degrees.
+    pub angle_deg: f64,
+    /// Its expanded uncertainty, degrees.
+    pub u_angle_deg: f64,
+    /// Expanded uncertainty of |Z| relative to |Z| (the V and I relative uncertainties combined).
+    pub u_impedance_rel: f64,
+    /// The voltage scale in use (volts per unit of the file).
+    pub v_scale: f64,
+    /// The current scale in use (amperes per unit of the file).
+    pub i_scale: f64,
 }
 
 /// The measured impedance and the single-part changes that would explain it.
@@ -190,7 +245,8 @@ pub struct PartChange {
 /// The decision rule in words, for the report.
 pub const DECISION_RULE: &str = "guarded acceptance, guard band = U (k = 2), ILAC-G8:09/2019: \
 consistent when angle ± U lies inside the tolerance band, outside when it lies wholly beyond it, \
-otherwise inconclusive";
+otherwise inconclusive; |Z| ± U wholly beyond the |Z| band overrules consistent: outside, or \
+inconclusive when a scale error (a power of ten, √3, a ratio in use) explains the factor";
 
 fn tolerance_text(low: f64, high: f64) -> String {
     if (low + high).abs() < 1e-12 {
@@ -205,34 +261,40 @@ fn trim(x: f64) -> String {
     s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
-/// Compares a measured fundamental (RMS phasors of V1 and I1, the DFT angle and its expanded
-/// uncertainty) at `frequency_hz` with `circuit`.
+/// Compares a measurement with `circuit` at `frequency_hz`.
 pub fn compare(
     circuit: &Circuit,
     frequency_hz: f64,
-    v1: Complex64,
-    i1: Complex64,
-    angle_deg: f64,
-    u_angle_deg: f64,
+    m: &Measurement,
     mc: &MonteCarloConfig,
 ) -> Expected {
     let e = expectation(circuit, frequency_hz, mc);
-    compare_to(circuit, &e, v1, i1, angle_deg, u_angle_deg)
+    compare_to(circuit, &e, m)
 }
 
 /// [`compare`] against an expectation already worked out at the measured frequency, so that a
 /// report plotting its band and histogram does not draw the Monte Carlo a second time.
-pub fn compare_to(
-    circuit: &Circuit,
-    e: &Expectation,
-    v1: Complex64,
-    i1: Complex64,
-    angle_deg: f64,
-    u_angle_deg: f64,
-) -> Expected {
+pub fn compare_to(circuit: &Circuit, e: &Expectation, m: &Measurement) -> Expected {
     let frequency_hz = e.frequency_hz;
-    let d = decide(angle_deg, u_angle_deg, e.band_deg[0], e.band_deg[1]);
+    let (v1, i1, angle_deg) = (m.v1, m.i1, m.angle_deg);
+    let d = decide(angle_deg, m.u_angle_deg, e.band_deg[0], e.band_deg[1]);
     let z = v1 / i1;
+    let impedance = check_impedance(e, m);
+    // The angle decides; a |Z| wholly beyond its band overrules `consistent` (and a |Z| a wrong
+    // scale explains cannot make the verdict `outside`: the circuit may be fine).
+    let (verdict, reason) = match (d.verdict, impedance.verdict) {
+        (Verdict::Outside, _) | (_, Verdict::Consistent | Verdict::Inconclusive) => {
+            (d.verdict, None)
+        }
+        (_, Verdict::Outside) => (
+            if impedance.scale_factor.is_some() {
+                Verdict::Inconclusive
+            } else {
+                Verdict::Outside
+            },
+            impedance.finding.clone(),
+        ),
+    };
     let omega = 2.0 * PI * frequency_hz;
     let (equivalent, equivalent_value) = if z.im >= 0.0 {
         ("inductance", z.im / omega)
@@ -303,11 +365,13 @@ pub fn compare_to(
         nominal_impedance_ohm: e.nominal_impedance_ohm,
         band_deg: e.band_deg,
         measured_phase_deg: angle_deg,
-        measured_uncertainty_deg: u_angle_deg,
-        verdict: d.verdict,
+        measured_uncertainty_deg: m.u_angle_deg,
+        verdict,
+        angle_verdict: d.verdict,
+        impedance,
         margin_deg: d.margin,
         decision_rule: DECISION_RULE,
-        reason: None,
+        reason,
         explanation: Explanation {
             impedance_ohm: z.norm(),
             series_resistance_ohm: z.re,
@@ -332,9 +396,101 @@ impl Expected {
             return;
         }
         self.verdict = Verdict::Inconclusive;
-        self.reason = Some(format!(
+        let doubt = format!(
             "the capture cannot support the angle: {}",
             doubts.join("; ")
-        ));
+        );
+        self.reason = Some(match self.reason.take() {
+            Some(r) => format!("{doubt}; {r}"),
+            None => doubt,
+        });
     }
+}
+
+/// Powers of ten a wrong scale most often is off by (a 10:1 probe set as 1:1, a clamp's mV/A
+/// range, a shunt's mΩ read as Ω, kV or kA read as units): 10^-6 to 10^6 (common practice).
+const DECADES: i32 = 6;
+
+/// The measured |Z| against the model's |Z| band, with the scale factor that would explain a
+/// |Z| beyond it.
+fn check_impedance(e: &Expectation, m: &Measurement) -> ImpedanceCheck {
+    let z = (m.v1 / m.i1).norm();
+    let u = z * m.u_impedance_rel.abs();
+    let [low, high] = e.impedance_band_ohm;
+    let d = decide(z, u, low, high);
+    let ratio = z / e.nominal_impedance_ohm;
+    let mut check = ImpedanceCheck {
+        measured_ohm: z,
+        uncertainty_ohm: u,
+        band_ohm: [low, high],
+        ratio_to_nominal: ratio,
+        verdict: d.verdict,
+        scale_factor: None,
+        finding: None,
+    };
+    if d.verdict != Verdict::Outside || !ratio.is_finite() || ratio <= 0.0 {
+        return check;
+    }
+    // Candidate scale errors, simplest first: a factor c explains |Z| when |Z|/c ± U/c is no
+    // longer wholly outside the band.
+    let mut candidates: Vec<(f64, String)> = Vec::new();
+    for k in 1..=DECADES {
+        let c = 10f64.powi(k);
+        candidates.push((c, format!("a factor of {}", decade_text(k))));
+        candidates.push((1.0 / c, format!("a factor of 1/{}", decade_text(k))));
+    }
+    for (scale, which) in [(m.i_scale, "current"), (m.v_scale, "voltage")] {
+        let s = scale.abs();
+        if s.is_finite() && s > 0.0 && (s - 1.0).abs() > 1e-9 {
+            let text = format!(
+                "the {which} scale in use ({}): applied twice, or not needed?",
+                short(s)
+            );
+            candidates.push((s, text.clone()));
+            candidates.push((1.0 / s, text));
+        }
+    }
+    candidates.push((
+        3f64.sqrt(),
+        "√3, the ratio of line-to-line to line-to-neutral voltage".to_string(),
+    ));
+    candidates.push((
+        1.0 / 3f64.sqrt(),
+        "1/√3, the ratio of line-to-neutral to line-to-line voltage".to_string(),
+    ));
+    let explained = candidates
+        .into_iter()
+        .find(|(c, _)| decide(z / c, u / c, low, high).verdict != Verdict::Outside);
+    let head = format!(
+        "|Z| is {}x the model ({} Ω against {} to {} Ω; V1 {} V, I1 {} A)",
+        short(ratio),
+        short(z),
+        short(low),
+        short(high),
+        short(m.v1.norm()),
+        short(m.i1.norm()),
+    );
+    check.finding = Some(match &explained {
+        Some((c, why)) => {
+            check.scale_factor = Some(*c);
+            format!(
+                "{head}: {why} is the mark of a scale error: is the current or voltage scale right?"
+            )
+        }
+        None => format!("{head}: the circuit's impedance does not match the model"),
+    });
+    check
+}
+
+fn decade_text(k: i32) -> String {
+    format!("{}", 10u64.pow(k as u32))
+}
+
+/// A figure with four significant digits, no exponent for ordinary magnitudes.
+fn short(x: f64) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let digits = (3 - x.abs().log10().floor() as i32).clamp(0, 9) as usize;
+    format!("{x:.digits$}")
 }

@@ -16,6 +16,7 @@ use rand_chacha::ChaCha8Rng;
 use rand_distr::StandardNormal;
 
 use crate::check::circuit::{Circuit, phase_deg};
+use rustfft::num_complex::Complex64;
 
 /// The range of phase angles the tolerances allow, and the part values at each extreme.
 #[derive(Debug, Clone, PartialEq)]
@@ -51,6 +52,8 @@ const FINEST_STEP: f64 = 1e-12;
 struct ToleranceBox<'a> {
     circuit: &'a Circuit,
     frequency_hz: f64,
+    /// What is searched: a figure of the network's impedance (its angle, its magnitude).
+    objective: fn(Complex64) -> f64,
     free: Vec<usize>,
     lo: Vec<f64>,
     hi: Vec<f64>,
@@ -58,13 +61,14 @@ struct ToleranceBox<'a> {
 }
 
 impl<'a> ToleranceBox<'a> {
-    fn new(circuit: &'a Circuit, frequency_hz: f64) -> Self {
+    fn new(circuit: &'a Circuit, frequency_hz: f64, objective: fn(Complex64) -> f64) -> Self {
         let lo: Vec<f64> = circuit.parts.iter().map(|p| p.low_value()).collect();
         let hi: Vec<f64> = circuit.parts.iter().map(|p| p.high_value()).collect();
         let free = (0..lo.len()).filter(|&i| hi[i] > lo[i]).collect();
         ToleranceBox {
             circuit,
             frequency_hz,
+            objective,
             free,
             lo,
             hi,
@@ -78,9 +82,9 @@ impl<'a> ToleranceBox<'a> {
         }
     }
 
-    fn angle(&mut self, u: &[f64]) -> f64 {
+    fn value(&mut self, u: &[f64]) -> f64 {
         self.set(u);
-        phase_deg(self.circuit.impedance(&self.values, self.frequency_hz))
+        (self.objective)(self.circuit.impedance(&self.values, self.frequency_hz))
     }
 
     fn values_at(&mut self, u: &[f64]) -> Vec<f64> {
@@ -102,7 +106,7 @@ impl<'a> ToleranceBox<'a> {
                         continue;
                     }
                     u[k] = trial;
-                    let v = sign * self.angle(&u);
+                    let v = sign * self.value(&u);
                     if v > best {
                         best = v;
                         improved = true;
@@ -155,7 +159,18 @@ impl Leaders {
 /// near resonance. Like any search it cannot prove a global extreme in a box of many parts with
 /// several narrow peaks. Parts with zero tolerance stay at their nominal value.
 pub fn worst_case(circuit: &Circuit, frequency_hz: f64) -> Band {
-    let mut tb = ToleranceBox::new(circuit, frequency_hz);
+    search(circuit, frequency_hz, phase_deg)
+}
+
+/// The lowest and highest impedance magnitude |Z| in ohms at `frequency_hz` over the whole
+/// tolerance box, by the same search as [`worst_case`] (the `Band`'s `_deg` fields hold ohms).
+pub fn worst_case_impedance(circuit: &Circuit, frequency_hz: f64) -> Band {
+    search(circuit, frequency_hz, |z| z.norm())
+}
+
+/// The search behind [`worst_case`] and [`worst_case_impedance`], for any figure of Z.
+fn search(circuit: &Circuit, frequency_hz: f64, objective: fn(Complex64) -> f64) -> Band {
+    let mut tb = ToleranceBox::new(circuit, frequency_hz, objective);
     let d = tb.free.len();
     let mut low = Leaders {
         sign: -1.0,
@@ -166,7 +181,7 @@ pub fn worst_case(circuit: &Circuit, frequency_hz: f64) -> Band {
         points: Vec::new(),
     };
     let mut offer = |tb: &mut ToleranceBox<'_>, u: &[f64]| {
-        let a = tb.angle(u);
+        let a = tb.value(u);
         low.offer(a, u);
         high.offer(a, u);
     };

@@ -32,9 +32,11 @@ fn table(out: &mut dyn Write, e: &Expectation) -> io::Result<()> {
     )?;
     writeln!(
         out,
-        "  worst case   {}° to {}° over the whole tolerance box",
+        "  worst case   {}° to {}°, |Z| {} Ω to {} Ω over the whole tolerance box",
         num(e.band_deg[0], 4),
-        num(e.band_deg[1], 4)
+        num(e.band_deg[1], 4),
+        num(e.impedance_band_ohm[0], 4),
+        num(e.impedance_band_ohm[1], 4)
     )?;
     let m = &e.monte_carlo;
     let pct: Vec<String> = m

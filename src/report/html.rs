@@ -810,31 +810,29 @@ fn verdict_badge(v: &str) -> String {
 
 fn expected_block(h: &mut String, e: &Expected) -> std::fmt::Result {
     writeln!(h, "<h3>Expected vs measured</h3>\n<div class=\"verdict\">")?;
-    let where_ = if e.margin_deg > 0.0 {
-        format!("outside the band by {}°", num(e.margin_deg, 2))
-    } else {
-        format!("inside the band by {}°", num(-e.margin_deg, 2))
-    };
     writeln!(
         h,
-        "<p>{} the measured angle {} is {} of {}: nominal {}°, worst-case band {}° to {}°, \
-         Monte Carlo 95 % {}° to {}°.</p>",
+        "<p>{} against {}: nominal {}°, worst-case band {}° to {}°, Monte Carlo 95 % {}° to \
+         {}°; |Z| nominal {} Ω, worst-case band {} Ω to {} Ω. The {}.</p>",
         verdict_badge(e.verdict.as_str()),
-        escape(&pm(
-            Some(e.measured_phase_deg),
-            Some(e.measured_uncertainty_deg),
-            "°"
-        )),
-        escape(&where_),
         escape(e.model.as_deref().unwrap_or("the circuit model")),
         num(e.nominal_phase_deg, 4),
         num(e.band_deg[0], 4),
         num(e.band_deg[1], 4),
         num(e.monte_carlo_95_deg[0], 4),
         num(e.monte_carlo_95_deg[1], 4),
+        num(e.nominal_impedance_ohm, 4),
+        num(e.impedance.band_ohm[0], 4),
+        num(e.impedance.band_ohm[1], 4),
+        escape(&super::table::verdict_grounds(e)),
     )?;
     if let Some(r) = &e.reason {
-        writeln!(h, "<p>No verdict: {}.</p>", escape(r))?;
+        let lead = if e.verdict == crate::check::decision::Verdict::Outside {
+            "Finding"
+        } else {
+            "No verdict"
+        };
+        writeln!(h, "<p>{lead}: {}.</p>", escape(r))?;
     }
     let x = &e.explanation;
     writeln!(

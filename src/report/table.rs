@@ -2,6 +2,7 @@
 
 use super::Exporter;
 use crate::analysis::Analysis;
+use crate::check::decision::Verdict;
 use crate::check::expected::Expected;
 use crate::quantity::uncertainty::TraceUncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
@@ -280,6 +281,31 @@ pub fn impedance_text(e: &Expected) -> String {
     )
 }
 
+/// What the model verdict rests on, in words: `measured 31.80 ± 0.60° is inside the band by
+/// 1.20°; |Z| 58.83 ± 1.52 Ω is inside its band`; shared by the table and the HTML report.
+pub fn verdict_grounds(e: &Expected) -> String {
+    let where_ = if e.margin_deg > 0.0 {
+        format!("outside the band by {}°", num(e.margin_deg, 2))
+    } else {
+        format!("inside the band by {}°", num(-e.margin_deg, 2))
+    };
+    let z = &e.impedance;
+    let z_where = match z.verdict {
+        Verdict::Consistent => "inside its band",
+        Verdict::Outside => "outside its band",
+        Verdict::Inconclusive => "on its band's edge",
+    };
+    format!(
+        "measured {} is {where_}; |Z| {} is {z_where}",
+        pm(
+            Some(e.measured_phase_deg),
+            Some(e.measured_uncertainty_deg),
+            "°"
+        ),
+        pm(Some(z.measured_ohm), Some(z.uncertainty_ohm), " Ω"),
+    )
+}
+
 fn expected_block(out: &mut dyn Write, e: &Expected) -> io::Result<()> {
     writeln!(
         out,
@@ -292,20 +318,18 @@ fn expected_block(out: &mut dyn Write, e: &Expected) -> io::Result<()> {
         num(e.monte_carlo_95_deg[0], 4),
         num(e.monte_carlo_95_deg[1], 4),
     )?;
-    let where_ = if e.margin_deg > 0.0 {
-        format!("outside the band by {}°", num(e.margin_deg, 2))
-    } else {
-        format!("inside the band by {}°", num(-e.margin_deg, 2))
-    };
     writeln!(
         out,
-        "  verdict      {} (measured {} is {where_})",
+        "               |Z| nominal {} Ω, tolerance band {} Ω to {} Ω (worst case)",
+        num(e.nominal_impedance_ohm, 4),
+        num(e.impedance.band_ohm[0], 4),
+        num(e.impedance.band_ohm[1], 4),
+    )?;
+    writeln!(
+        out,
+        "  verdict      {} ({})",
         e.verdict.as_str().to_uppercase(),
-        pm(
-            Some(e.measured_phase_deg),
-            Some(e.measured_uncertainty_deg),
-            "°"
-        ),
+        verdict_grounds(e)
     )?;
     if let Some(r) = &e.reason {
         writeln!(out, "  reason       {r}")?;
