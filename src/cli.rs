@@ -242,16 +242,26 @@ pub struct MeterArgs {
     #[arg(long, value_name = "READING", allow_hyphen_values = true)]
     pub reading: String,
     /// Accuracy class: 1, 2 (IEC 62053-21), 0.2s, 0.5s (IEC 62053-22), ansi-0.1, ansi-0.2,
-    /// ansi-0.5 (ANSI C12.20), reactive-2, reactive-3 (IEC 62053-23).
+    /// ansi-0.5 (ANSI C12.20); for a meter of reactive energy only, a reactive class as for
+    /// --reactive-class.
     #[arg(long, value_name = "CLASS")]
     pub class: String,
+    /// The meter's reactive class, which Q is judged against (without it Q is not judged):
+    /// reactive-2, reactive-3 (IEC 62053-23), fundamental-0.5s, fundamental-1s, fundamental-1,
+    /// fundamental-2, fundamental-3 (IEC 62053-24, fundamental reactive energy).
+    #[arg(long, value_name = "CLASS")]
+    pub reactive_class: Option<String>,
+    /// How the meter is connected: direct (rated current Ib) or transformer (operated from CTs,
+    /// rated current In). Needed with --rated-current for classes made for both.
+    #[arg(long, value_name = "CONNECTION")]
+    pub connection: Option<String>,
     /// How the meter signs PF: power-flow (negative when exporting P), lead-negative (negative
     /// in the capacitive quadrants II and IV), lag-negative (negative in the inductive quadrants
     /// I and III), unsigned.
     #[arg(long, value_name = "CONVENTION", default_value = "power-flow")]
     pub pf_sign: String,
-    /// The meter's rated current, A (Ib, or In for a transformer-operated meter): the IEC
-    /// classes' wider limits at low current then apply.
+    /// The meter's rated current, A (Ib for a direct meter, In for a transformer-operated one,
+    /// test amperes for ANSI): the classes' low-current rows then apply.
     #[arg(long, value_name = "A")]
     pub rated_current: Option<f64>,
     /// Also write a self-contained HTML report here.

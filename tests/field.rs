@@ -220,7 +220,11 @@ fn the_demo_meter_reading_inside_class_1_passes() {
 fn the_rated_current_widens_or_lifts_the_limits() {
     let reading = "@fixtures/demo-workshop-compressor-meter.reading";
     fn with(rated: &'static str) -> Vec<&'static str> {
-        [&GOOD_PROBES[..], &["--rated-current", rated]].concat()
+        [
+            &GOOD_PROBES[..],
+            &["--rated-current", rated, "--connection", "direct"],
+        ]
+        .concat()
     }
     // 7.8 A of 100 A: inside 5-10 % of Ib, where class 1 allows ±1.5 % at unity PF (IEC 62053-21,
     // from memory); the PF of 0.967 is under the lower test point's 10 % of Ib: no limit, no verdict
@@ -238,6 +242,61 @@ fn the_rated_current_widens_or_lifts_the_limits() {
             .all(|c| c.verdict == "pass" || c.quantity == "q"),
         "{r:?}"
     );
+    // a transformer-operated class 1 meter (In) has its own rows (IEC 62053-21, from memory):
+    // at the lower test point ±1.5 % from 5 % to 10 % of In, so 7.8 % of In has a limit where
+    // the direct rows (from 10 % of Ib) have none
+    let (_, r) = meter(
+        reading,
+        &[
+            &GOOD_PROBES[..],
+            &["--rated-current", "100", "--connection", "transformer"],
+        ]
+        .concat(),
+    );
+    let p = r.checks.iter().find(|c| c.quantity == "p").unwrap();
+    assert_eq!((p.limit_percent, p.verdict.as_str()), (Some(1.5), "pass"));
+    // without the connection the rows cannot be chosen: refused, saying how to give it
+    let out = tracephase()
+        .args([
+            "meter",
+            "fixtures/demo-workshop-compressor-after-capacitor.csv",
+        ])
+        .args([
+            "--class",
+            "1",
+            "--reading",
+            "pf=0.97",
+            "--rated-current",
+            "5",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(
+        err.contains("--connection: IEC 62053-21 class 1 lists different low-current rows")
+            && err.lines().count() == 1,
+        "{err}"
+    );
+    // 0.2S meters are transformer-operated (IEC 62053-22, from memory)
+    let out = tracephase()
+        .args([
+            "meter",
+            "fixtures/demo-workshop-compressor-after-capacitor.csv",
+        ])
+        .args([
+            "--class",
+            "0.2s",
+            "--reading",
+            "pf=0.97",
+            "--connection",
+            "direct",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(err.contains("is not made for direct connection"), "{err}");
     let out = tracephase()
         .args([
             "meter",
@@ -479,7 +538,17 @@ fn a_clipped_current_trace_is_inconclusive_and_blames_no_ct_ratio() {
     let spec = sine_spec(Waveform::sine(50.0, -30.0));
     let top = 0.8 * 50.0 * 2f64.sqrt();
     let path = synthetic(dir.path(), "clipped.csv", &spec, &|x| x.clamp(-top, top));
-    let (code, r) = meter_on(&path, &["--class", "1", "--reading", &true_reading()]);
+    let (code, r) = meter_on(
+        &path,
+        &[
+            "--class",
+            "1",
+            "--reactive-class",
+            "reactive-2",
+            "--reading",
+            &true_reading(),
+        ],
+    );
     assert_eq!(code, 0, "{r}");
     for c in r["checks"].as_array().unwrap() {
         let note = c["note"].as_str().unwrap_or("");

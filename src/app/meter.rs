@@ -3,7 +3,7 @@
 
 use super::bank::analyse_file;
 use super::{ConfigError, Outcome, format, resolve_channels};
-use crate::check::meter::{self, AccuracyClass, Meter, MeterVerdict, PfSign, Reading};
+use crate::check::meter::{self, AccuracyClass, Connection, Meter, MeterVerdict, PfSign, Reading};
 use crate::cli::MeterArgs;
 use crate::report;
 use std::io::Write;
@@ -25,9 +25,34 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
                 "--rated-current must be a positive number of amperes, not {r}"
             )));
         }
-        Ok((reading, class, sign, load, settings, plot_options))
+        let reactive_class = a
+            .reactive_class
+            .as_deref()
+            .map(AccuracyClass::parse)
+            .transpose()
+            .map_err(|e| ConfigError(format!("--reactive-class: {e}")))?;
+        let connection = a
+            .connection
+            .as_deref()
+            .map(Connection::parse)
+            .transpose()
+            .map_err(|e| ConfigError(format!("--connection: {e}")))?;
+        let spec = Meter {
+            rated_current_a: a.rated_current,
+            connection,
+            reactive_class,
+            ..Meter::new(class, sign)
+        };
+        spec.validate().map_err(|e| {
+            let option = match e {
+                meter::MeterError::NotReactive { .. } => "--reactive-class",
+                _ => "--connection",
+            };
+            ConfigError(format!("{option}: {e}"))
+        })?;
+        Ok((reading, spec, load, settings, plot_options))
     })();
-    let (reading, class, sign, load, settings, plot_options) = match config {
+    let (reading, spec, load, settings, plot_options) = match config {
         Ok(c) => c,
         Err(e) => {
             let _ = writeln!(err, "error: {e}");
@@ -48,10 +73,6 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
             a.file.display()
         );
         return Outcome::InputErrors;
-    };
-    let spec = Meter {
-        rated_current_a: a.rated_current,
-        ..Meter::new(class, sign)
     };
     let r = meter::check(&reading, &m, &spec, &analysis.warnings);
     if report::meter::write(out, &r, &analysis, format(a.format)).is_err() {

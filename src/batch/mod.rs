@@ -44,6 +44,22 @@ pub struct MeterSpec {
     pub pf_sign: PfSign,
     /// The rated current, A, when known.
     pub rated_current: Option<f64>,
+    /// The connection, when known.
+    pub connection: Option<meter::Connection>,
+    /// The reactive class, when named.
+    pub reactive_class: Option<AccuracyClass>,
+}
+
+impl MeterSpec {
+    /// The meter this spec describes.
+    pub fn meter(&self) -> meter::Meter {
+        meter::Meter {
+            rated_current_a: self.rated_current,
+            connection: self.connection,
+            reactive_class: self.reactive_class,
+            ..meter::Meter::new(self.class, self.pf_sign)
+        }
+    }
 }
 
 /// A capacitor bank check: the capture is the bank switched in, `before` the one with it out.
@@ -281,9 +297,26 @@ fn resolve(
                 }
                 r => r,
             },
+            connection: l
+                .meter
+                .connection
+                .as_deref()
+                .map(meter::Connection::parse)
+                .transpose()
+                .map_err(|e| format!("meter connection: {e}"))?,
+            reactive_class: l
+                .meter
+                .reactive_class
+                .as_deref()
+                .map(AccuracyClass::parse)
+                .transpose()
+                .map_err(|e| format!("meter reactive_class: {e}"))?,
         }),
         _ => return Err("a meter needs both a reading and a class".into()),
     };
+    if let Some(spec) = &meter {
+        spec.meter().validate().map_err(|e| format!("meter: {e}"))?;
+    }
     let bank = if l.bank == Default::default() {
         None
     } else {
@@ -380,10 +413,7 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
     row.verdict_failed |= a.expected.as_ref().is_some_and(|e| e.failed());
     let mut result = serde_json::to_value(AnalysisRecord::from(&a)).unwrap_or(Value::Null);
     if let (Some(spec), Some(m)) = (&setup.meter, a.meter_measured()) {
-        let meter = meter::Meter {
-            rated_current_a: spec.rated_current,
-            ..meter::Meter::new(spec.class, spec.pf_sign)
-        };
+        let meter = spec.meter();
         let r = meter::check(&spec.reading, &m, &meter, &a.warnings);
         let failed: Vec<&str> = r
             .checks

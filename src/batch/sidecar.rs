@@ -29,6 +29,8 @@
 //! class = "1"
 //! pf_sign = "power-flow"
 //! rated_current = 5            # A (Ib, or In): low-current limits apply
+//! connection = "transformer"   # or "direct": which low-current rows
+//! reactive_class = "reactive-2" # Q is judged only against a reactive class
 //! [bank]                       # capacitor bank check: this capture has the bank switched in
 //! nameplate = "bank.toml"      # relative to this file; its keys may also be given here
 //! before = "feeder-bank-off.csv"   # the bank-out capture, beside the capture checked
@@ -150,6 +152,12 @@ pub struct MeterLayer {
     /// Rated current, A, as for `meter --rated-current`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub rated_current: Option<f64>,
+    /// Reactive class, as for `meter --reactive-class`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub reactive_class: Option<String>,
+    /// Connection, as for `meter --connection`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub connection: Option<String>,
 }
 
 impl MeterLayer {
@@ -186,7 +194,9 @@ impl Layer {
             reading,
             class,
             pf_sign,
-            rated_current
+            rated_current,
+            reactive_class,
+            connection
         );
         take!(self.bank, over.bank, nameplate, before);
         take!(

@@ -51,11 +51,11 @@ pub mod definitions;
 mod error;
 mod hints;
 mod input;
+mod limits;
 
 pub use error::MeterError;
-pub use input::{
-    AccuracyClass, CLASS_NAMES, LOW_POINT, PF_SIGNS, PfSign, Reading, UNITY_POINT, capacitive,
-};
+pub use input::{AccuracyClass, CLASS_NAMES, PF_SIGNS, PfSign, Reading, capacitive};
+pub use limits::{CONNECTIONS, Connection, LOW_POINT, LOWEST_POINT, Limit, UNITY_POINT};
 
 use super::decision::{Verdict, decide};
 use crate::warning::{Trace, Warning};
@@ -176,6 +176,10 @@ pub struct MeterCheck {
 pub struct MeterReport {
     /// The accuracy class with its standard.
     pub class: &'static str,
+    /// The reactive class Q was judged against, when one was named (or `class` is reactive).
+    pub reactive_class: Option<&'static str>,
+    /// The meter's connection (`direct` or `transformer`), when given.
+    pub connection: Option<&'static str>,
     /// The PF sign convention the meter was taken to use.
     pub pf_sign: &'static str,
     /// Our quadrant, 1 to 4 (four-quadrant metering diagram, load convention).
@@ -223,23 +227,75 @@ pub fn quadrant(p: f64, q: f64) -> (u8, &'static str) {
 /// What is known about the meter besides its reading.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Meter {
-    /// Its accuracy class.
+    /// Its accuracy class (an active class, or a reactive one for a meter of reactive energy
+    /// only).
     pub class: AccuracyClass,
     /// How it signs PF.
     pub pf_sign: PfSign,
-    /// Its rated current (Ib, or In for a transformer-operated meter), A, when known: the limits
-    /// then follow the measured current ([`AccuracyClass::at_current`]).
+    /// Its rated current (Ib for a direct-connected meter, In for a transformer-operated one,
+    /// test amperes for ANSI C12.20), A, when known: the limits then follow the measured current
+    /// ([`AccuracyClass::limit`]).
     pub rated_current_a: Option<f64>,
+    /// How it is connected, when known: the IEC classes list different low-current rows.
+    pub connection: Option<Connection>,
+    /// Its reactive class (IEC 62053-23 or -24), when named: Q is judged only against it (or
+    /// against `class` when that is reactive).
+    pub reactive_class: Option<AccuracyClass>,
 }
 
 impl Meter {
-    /// A meter of `class` signing PF by `pf_sign`, rated current unknown.
+    /// A meter of `class` signing PF by `pf_sign`, rated current, connection and reactive class
+    /// unknown.
     pub fn new(class: AccuracyClass, pf_sign: PfSign) -> Self {
         Meter {
             class,
             pf_sign,
             rated_current_a: None,
+            connection: None,
+            reactive_class: None,
         }
+    }
+
+    /// Refuses what cannot be true of a meter: a reactive class that is not reactive, a
+    /// connection a class is not made for, or a rated current without the connection where the
+    /// class's low-current rows depend on it.
+    pub fn validate(&self) -> Result<(), MeterError> {
+        if let Some(rc) = self.reactive_class
+            && !rc.is_reactive()
+        {
+            return Err(MeterError::NotReactive { class: rc.name() });
+        }
+        for c in [Some(self.class), self.reactive_class]
+            .into_iter()
+            .flatten()
+        {
+            let (direct, transformer) = c.connections();
+            let fits = if direct {
+                "direct-connected"
+            } else {
+                "transformer-operated"
+            };
+            match self.connection {
+                Some(Connection::Direct) if !direct => {}
+                Some(Connection::Transformer) if !transformer => {}
+                None if self.rated_current_a.is_some() && c.needs_connection() => {
+                    return Err(MeterError::NeedsConnection { class: c.name() });
+                }
+                _ => continue,
+            }
+            return Err(MeterError::WrongConnection {
+                class: c.name(),
+                connection: self.connection.map_or("", Connection::as_str),
+                fits,
+            });
+        }
+        Ok(())
+    }
+
+    /// The class Q is judged against: the named reactive class, or `class` when it is reactive.
+    pub fn q_class(&self) -> Option<AccuracyClass> {
+        self.reactive_class
+            .or_else(|| self.class.is_reactive().then_some(self.class))
     }
 }
 
@@ -290,15 +346,26 @@ pub fn check(
         class,
         pf_sign,
         rated_current_a,
+        connection,
+        reactive_class: _,
     } = *meter;
     let m = measured;
     let ratio = rated_current_a.filter(|r| *r > 0.0).map(|r| m.i_rms / r);
-    // A limit at the measured current: NaN where none applies, with the reason as a note.
-    let at = |base: f64, x: f64, scale: f64| {
-        let (l, note) = class.at_current(base, x, ratio, scale);
-        (l.unwrap_or(f64::NAN), note)
+    let cap = capacitive(m.p_w, m.q_var);
+    // the limit of the active class at `x` (a |PF|), or why there is none
+    let active = |x: f64, what: &str| -> (f64, Option<String>) {
+        if class.is_reactive() {
+            return (
+                f64::NAN,
+                Some(format!(
+                    "not judged: {} is a reactive class and sets no limit for {what}",
+                    class.name()
+                )),
+            );
+        }
+        let l = class.limit(x, cap && x < UNITY_POINT, ratio, connection);
+        (l.percent, l.note)
     };
-    let reactive_scale = if class.is_reactive() { 1.0 } else { 2.0 };
     let pf_abs = m.pf.abs();
     let sin_phi = if m.angle_deg.is_finite() {
         m.angle_deg.to_radians().sin().abs()
@@ -306,13 +373,13 @@ pub fn check(
         (m.q_var / m.s_va).abs()
     };
     let mut checks = Vec::new();
-    let active = at(class.active_limit_percent(pf_abs), pf_abs, 1.0);
     if let Some(x) = reading.pf {
+        let limit = active(pf_abs, "power factor");
         let mut wrong_sign = false;
         let mut each: Vec<MeterCheck> = definitions::candidates("pf", m)
             .into_iter()
             .map(|d| {
-                let (mut c, wrong) = check_pf(x, d.value, d.u, m, class, pf_sign, active.clone());
+                let (mut c, wrong) = check_pf(x, d.value, d.u, m, pf_sign, limit.clone());
                 wrong_sign |= wrong;
                 c.definition = d.name.to_string();
                 c
@@ -348,29 +415,38 @@ pub fn check(
         choose(each)
     };
     if let Some(x) = reading.p_w {
-        checks.push(judge("p", x, &active, class.active_note(pf_abs)));
+        checks.push(judge("p", x, &active(pf_abs, "active power"), None));
     }
     if let Some(x) = reading.q_var {
-        let limit = at(
-            class.reactive_limit_percent(sin_phi),
-            sin_phi,
-            reactive_scale,
-        );
-        checks.push(judge("q", x, &limit, class.reactive_note(sin_phi)));
+        let limit = match meter.q_class() {
+            Some(rc) => {
+                let l = rc.limit(sin_phi, cap, ratio, connection);
+                (l.percent, l.note)
+            }
+            None => (
+                f64::NAN,
+                Some(format!(
+                    "not judged: {} is an active-energy class and sets no limit for reactive \
+                     power; name the meter's reactive class (IEC 62053-23 or -24) to judge Q",
+                    class.name()
+                )),
+            ),
+        };
+        checks.push(judge("q", x, &limit, None));
     }
     if let Some(x) = reading.s_va {
-        checks.push(judge("s", x, &active, class.active_note(pf_abs)));
+        checks.push(judge("s", x, &active(pf_abs, "apparent power"), None));
     }
     let unity_note = || {
-        class.active_note(1.0).or_else(|| {
-            Some(format!(
+        (!class.is_reactive()).then(|| {
+            format!(
                 "{} sets no limit for voltage or current; its active limit at unity PF is used \
                  (our rule)",
                 class.name()
-            ))
+            )
         })
     };
-    let unity = at(class.active_limit_percent(1.0), 1.0, 1.0);
+    let unity = active(1.0, "voltage or current");
     if let Some(x) = reading.v {
         checks.push(judge("v", x, &unity, unity_note()));
     }
@@ -418,6 +494,8 @@ pub fn check(
     let (quadrant, text) = quadrant(m.p_w, m.q_var);
     MeterReport {
         class: class.name(),
+        reactive_class: meter.q_class().map(|c| c.name()),
+        connection: connection.map(Connection::as_str),
         pf_sign: pf_sign.as_str(),
         quadrant,
         quadrant_text: text.to_string(),
@@ -609,9 +687,8 @@ fn check_pf(
     value: f64,
     u: f64,
     m: &Measured,
-    class: AccuracyClass,
     sign: PfSign,
-    (limit, current_note): (f64, Option<String>),
+    (limit, limit_note): (f64, Option<String>),
 ) -> (MeterCheck, bool) {
     let pf_abs = value.abs();
     let p_unsure = m.p_w.abs() <= m.u_p_w.abs();
@@ -621,8 +698,7 @@ fn check_pf(
         PfSign::LeadNegative | PfSign::LagNegative => p_unsure || q_unsure,
         PfSign::Unsigned => false,
     };
-    let mut notes: Vec<String> = class.active_note(pf_abs).into_iter().collect();
-    notes.extend(current_note);
+    let mut notes: Vec<String> = limit_note.into_iter().collect();
     let ours = if uncertain_sign {
         notes.push(format!(
             "our {} is within its uncertainty of zero, so the PF sign cannot be told: sizes \
@@ -732,7 +808,11 @@ mod tests {
         // 30° lagging: P = 11 500·cos 30° = 9 959.3 W, Q = 5 750 var, PF 0.866
         let m = measured(30.0);
         let r = Reading::parse("pf=0.868,p=9.99kW,q=5.78kvar,s=11.55kVA,v=231V,i=50.2A").unwrap();
-        let rep = check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow);
+        let meter = Meter {
+            reactive_class: Some(AccuracyClass::Reactive2),
+            ..Meter::new(AccuracyClass::Iec1, PfSign::PowerFlow)
+        };
+        let rep = check(&r, &m, &meter, &[]);
         assert_eq!(rep.checks.len(), 6);
         for c in &rep.checks {
             assert_eq!(c.verdict, MeterVerdict::Pass, "{c:?}");
@@ -740,15 +820,9 @@ mod tests {
         let p = find(&rep, "p");
         assert!((p.error_percent - 100.0 * (9990.0 - 9959.3) / 9959.3).abs() < 0.01);
         assert_eq!(p.limit_percent, 1.0);
-        // Q on a class 1 meter: twice the active limit (our rule)
+        // Q against the named reactive class: IEC 62053-23 class 2 at sin φ 0.5 (from memory)
         assert_eq!(find(&rep, "q").limit_percent, 2.0);
-        assert!(
-            find(&rep, "q")
-                .note
-                .as_deref()
-                .unwrap()
-                .contains("our rule")
-        );
+        assert_eq!(rep.reactive_class, Some("IEC 62053-23 class 2"));
         assert!(rep.wiring_hints.is_empty(), "{:?}", rep.wiring_hints);
         assert_eq!(rep.quadrant, 1);
         assert_eq!(
@@ -758,9 +832,10 @@ mod tests {
         assert_eq!(rep.class, "IEC 62053-21 class 1");
     }
 
-    /// IEC 62053-21 class 1 (from memory): ±1.0 % at PF 1 from 0.1 Ib, ±1.5 % from 0.05 Ib to
-    /// 0.1 Ib, nothing below 0.05 Ib; at PF 0.5 inductive ±1.0 % from 0.2 Ib, ±1.5 % from 0.1 Ib.
-    /// The capture's 50 A against a rated current of 700 A is 7.1 % of Ib.
+    /// IEC 62053-21 class 1, direct-connected (from memory): ±1.0 % at PF 1 from 0.1 Ib,
+    /// ±1.5 % from 0.05 Ib to 0.1 Ib, nothing below 0.05 Ib; at PF 0.5 inductive ±1.0 % from
+    /// 0.2 Ib, ±1.5 % from 0.1 Ib. The capture's 50 A against a rated current of 700 A is 7.1 %
+    /// of Ib.
     #[test]
     fn low_current_limits_follow_the_rated_current() {
         let m = measured(0.0);
@@ -768,12 +843,14 @@ mod tests {
             p_w: Some(1.012 * m.p_w),
             ..Reading::default()
         };
-        let at = |rated: Option<f64>| {
-            let meter = Meter {
-                rated_current_a: rated,
-                ..Meter::new(AccuracyClass::Iec1, PfSign::PowerFlow)
-            };
-            check(&r, &m, &meter, &[]).checks[0].clone()
+        let rated = |class, a: Option<f64>, connection| Meter {
+            rated_current_a: a,
+            connection,
+            ..Meter::new(class, PfSign::PowerFlow)
+        };
+        let direct = Some(Connection::Direct);
+        let at = |a: Option<f64>| {
+            check(&r, &m, &rated(AccuracyClass::Iec1, a, direct), &[]).checks[0].clone()
         };
         // at full current a 1.2 % error fails the 1 % limit
         let full = at(Some(100.0));
@@ -786,29 +863,142 @@ mod tests {
         let low = at(Some(700.0));
         assert_eq!((low.limit_percent, low.verdict), (1.5, MeterVerdict::Pass));
         assert!(
-            low.note.as_deref().unwrap().contains("7 % of rated"),
+            low.note.as_deref().unwrap().contains("7.14 % of Ib"),
             "{low:?}"
         );
         // below 5 % of Ib no limit applies: no verdict either way
         let below = at(Some(2000.0));
         assert!(below.limit_percent.is_nan());
         assert_eq!(below.verdict, MeterVerdict::Inconclusive);
-        assert!(below.note.as_deref().unwrap().contains("no limit applies"));
+        assert!(below.note.as_deref().unwrap().contains("not specified"));
         // at PF 0.5 the low-current range runs from 0.1 Ib to 0.2 Ib: 50 A of 300 A is 16.7 %
         let m60 = measured(60.0);
         let r60 = Reading {
             p_w: Some(1.012 * m60.p_w),
             ..Reading::default()
         };
-        let rated = |class, a| Meter {
-            rated_current_a: Some(a),
-            ..Meter::new(class, PfSign::PowerFlow)
-        };
-        let c = &check(&r60, &m60, &rated(AccuracyClass::Iec1, 300.0), &[]).checks[0];
+        let c = &check(
+            &r60,
+            &m60,
+            &rated(AccuracyClass::Iec1, Some(300.0), direct),
+            &[],
+        )
+        .checks[0];
         assert_eq!((c.limit_percent, c.verdict), (1.5, MeterVerdict::Pass));
         // IEC 62053-22 class 0.2S (from memory): ±0.4 % at PF 1 from 0.01 In to 0.05 In
-        let c = &check(&r, &m, &rated(AccuracyClass::Iec02S, 2000.0), &[]).checks[0];
+        let c = &check(
+            &r,
+            &m,
+            &rated(AccuracyClass::Iec02S, Some(2000.0), None),
+            &[],
+        )
+        .checks[0];
         assert_eq!(c.limit_percent, 0.4);
+        // a transformer-operated class 1 meter at 2.5 % of In: ±1.5 % (IEC 62053-21, from
+        // memory); the direct rows (from 5 % of Ib) specify nothing there
+        let transformer = Some(Connection::Transformer);
+        let c = &check(
+            &r,
+            &m,
+            &rated(AccuracyClass::Iec1, Some(2000.0), transformer),
+            &[],
+        )
+        .checks[0];
+        assert_eq!((c.limit_percent, c.verdict), (1.5, MeterVerdict::Pass));
+    }
+
+    /// Q is judged only against a reactive class the meter is named to have: an active class
+    /// (IEC 62053-21) sets no limit for reactive energy. Today's rule of twice the active limit
+    /// is gone.
+    #[test]
+    fn q_on_an_active_class_is_not_judged_without_a_reactive_class() {
+        let m = measured(30.0);
+        let r = Reading {
+            q_var: Some(1.05 * m.q_var),
+            ..Reading::default()
+        };
+        let c = &check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow).checks[0];
+        assert!(c.limit_percent.is_nan());
+        assert_eq!(c.verdict, MeterVerdict::Inconclusive);
+        assert!(c.note.as_deref().unwrap().contains("not judged"), "{c:?}");
+        // named: IEC 62053-23 class 2 at sin φ 0.5 is ±2.0 % (from memory), 5 % fails
+        let meter = Meter {
+            reactive_class: Some(AccuracyClass::Reactive2),
+            ..Meter::new(AccuracyClass::Iec1, PfSign::PowerFlow)
+        };
+        let c = &check(&r, &m, &meter, &[]).checks[0];
+        assert_eq!((c.limit_percent, c.verdict), (2.0, MeterVerdict::Fail));
+        // IEC 62053-24 class 0.5S (from memory): ±0.6 % at sin φ 0.5
+        let meter = Meter {
+            reactive_class: Some(AccuracyClass::Fundamental05S),
+            ..meter
+        };
+        assert_eq!(check(&r, &m, &meter, &[]).checks[0].limit_percent, 0.6);
+        // a reactive-only meter sets no limit for P
+        let r = Reading {
+            p_w: Some(m.p_w),
+            ..Reading::default()
+        };
+        let c = &check_meter(&r, &m, AccuracyClass::Reactive2, PfSign::PowerFlow).checks[0];
+        assert!(c.limit_percent.is_nan(), "{c:?}");
+    }
+
+    /// A capacitive load at PF 0.6: IEC 62053-21 lists PF 0.8 capacitive and nothing below
+    /// (from memory), so no verdict; the same PF inductive takes the PF 0.5 row.
+    #[test]
+    fn a_capacitive_pf_under_0_8_gets_no_active_limit() {
+        let angle = 0.6f64.acos().to_degrees();
+        for (a, limit) in [(-angle, f64::NAN), (angle, 1.0)] {
+            let m = measured(a);
+            let r = Reading {
+                p_w: Some(1.03 * m.p_w),
+                ..Reading::default()
+            };
+            let c = &check_meter(&r, &m, AccuracyClass::Iec1, PfSign::PowerFlow).checks[0];
+            if limit.is_nan() {
+                assert!(c.limit_percent.is_nan(), "{c:?}");
+                assert_eq!(c.verdict, MeterVerdict::Inconclusive);
+            } else {
+                assert_eq!((c.limit_percent, c.verdict), (limit, MeterVerdict::Fail));
+            }
+        }
+    }
+
+    /// What cannot be true of a meter is refused: 0.2S is transformer-operated only
+    /// (IEC 62053-22, from memory); class 1 with a rated current needs the connection.
+    #[test]
+    fn impossible_meters_are_refused() {
+        let base = Meter::new(AccuracyClass::Iec02S, PfSign::PowerFlow);
+        let direct = Meter {
+            connection: Some(Connection::Direct),
+            ..base
+        };
+        assert!(matches!(
+            direct.validate(),
+            Err(MeterError::WrongConnection { .. })
+        ));
+        let unsure = Meter {
+            rated_current_a: Some(5.0),
+            ..Meter::new(AccuracyClass::Iec1, PfSign::PowerFlow)
+        };
+        let e = unsure.validate().unwrap_err().to_string();
+        assert!(e.contains("give the meter's connection"), "{e}");
+        let not_reactive = Meter {
+            reactive_class: Some(AccuracyClass::Iec1),
+            ..base
+        };
+        assert!(matches!(
+            not_reactive.validate(),
+            Err(MeterError::NotReactive { .. })
+        ));
+        assert!(
+            Meter {
+                rated_current_a: Some(5.0),
+                ..base
+            }
+            .validate()
+            .is_ok()
+        );
     }
 
     #[test]

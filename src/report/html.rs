@@ -992,10 +992,16 @@ fn meter_section(h: &mut String, m: &MeterSection) -> std::fmt::Result {
     let r = m.report;
     writeln!(
         h,
-        "<section id=\"meter\">\n<h2>Meter check</h2>\n<p>Against {}: class {}, PF sign {}, {}.\
-         </p>",
+        "<section id=\"meter\">\n<h2>Meter check</h2>\n<p>Against {}: class {}{}{}, PF sign {}, \
+         {}.</p>",
         escape(&m.analysis.path.display().to_string()),
         escape(r.class),
+        r.reactive_class
+            .map(|c| format!(", Q against {}", escape(c)))
+            .unwrap_or_default(),
+        r.connection
+            .map(|c| format!(", {} connection", escape(c)))
+            .unwrap_or_default(),
         escape(r.pf_sign),
         escape(&r.quadrant_text)
     )?;

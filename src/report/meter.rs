@@ -93,6 +93,12 @@ pub(crate) fn error_text(error_percent: f64) -> String {
 fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
     writeln!(out, "meter check: {}", a.path.display())?;
     writeln!(out, "  class        {}", r.class)?;
+    if let Some(rc) = r.reactive_class {
+        writeln!(out, "  Q class      {rc}")?;
+    }
+    if let Some(c) = r.connection {
+        writeln!(out, "  connection   {c}")?;
+    }
     writeln!(out, "  PF sign      {}", r.pf_sign)?;
     writeln!(out, "  load         {}", r.quadrant_text)?;
     writeln!(

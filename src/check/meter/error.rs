@@ -112,4 +112,36 @@ pub enum MeterError {
         /// The name as typed.
         text: String,
     },
+    /// A meter connection we do not know.
+    #[error("unknown meter connection '{text}', expected direct or transformer")]
+    UnknownConnection {
+        /// The name as typed.
+        text: String,
+    },
+    /// A class that is not reactive named as the meter's reactive class.
+    #[error(
+        "{class} is not a reactive class, expected one of: reactive-2, reactive-3 (IEC 62053-23), fundamental-0.5s, fundamental-1s, fundamental-1, fundamental-2, fundamental-3 (IEC 62053-24)"
+    )]
+    NotReactive {
+        /// The class's name.
+        class: &'static str,
+    },
+    /// A rated current for a class whose low-current rows depend on the connection, without it.
+    #[error(
+        "{class} lists different low-current rows for direct-connected (Ib) and transformer-operated (In) meters: give the meter's connection (direct or transformer) with its rated current"
+    )]
+    NeedsConnection {
+        /// The class's name.
+        class: &'static str,
+    },
+    /// A connection the class is not made for.
+    #[error("{class} is not made for {connection} connection (it is for {fits} meters)")]
+    WrongConnection {
+        /// The class's name.
+        class: &'static str,
+        /// The connection given.
+        connection: &'static str,
+        /// The connection the class is for.
+        fits: &'static str,
+    },
 }

@@ -110,21 +110,21 @@ pub(super) fn fits_turn(
     };
     let mut any = false;
     if let Some(x) = r.p_w {
-        let tol = or_widest(class.active_limit_percent(pf)) / 100.0 * s + m.u_p_w.abs();
+        let tol = or_widest(active_tolerance(class, pf)) / 100.0 * s + m.u_p_w.abs();
         if !((x - p).abs() <= tol) {
             return false;
         }
         any = true;
     }
     if let Some(x) = r.q_var {
-        let tol = or_widest(class.reactive_limit_percent(sin_phi)) / 100.0 * s + m.u_q_var.abs();
+        let tol = or_widest(reactive_tolerance(class, sin_phi)) / 100.0 * s + m.u_q_var.abs();
         if !((x - q).abs() <= tol) {
             return false;
         }
         any = true;
     }
     if let Some(x) = r.pf {
-        let tol = or_widest(class.active_limit_percent(pf)) / 100.0 + m.u_pf.abs();
+        let tol = or_widest(active_tolerance(class, pf)) / 100.0 + m.u_pf.abs();
         if !((x - sign.apply(pf, p, q)).abs() <= tol) {
             return false;
         }
@@ -166,7 +166,7 @@ fn scale_hints(
         .chain(kv.map(|k| k.1))
         .chain(ki.map(|k| k.1))
         .fold(0.0, f64::max);
-    let tol = (2.0 * class.active_limit_percent(1.0) / 100.0 + 2.0 * u_max).max(RATIO_FLOOR);
+    let tol = (2.0 * active_tolerance(class, 1.0) / 100.0 + 2.0 * u_max).max(RATIO_FLOOR);
     let close = |a: f64, b: f64| (a / b - 1.0).abs() <= tol;
     let root3 = 3f64.sqrt();
 
@@ -257,6 +257,22 @@ fn scale_hints(
         ));
     }
     hints
+}
+
+/// The class's full-current limit at an inductive |PF|, as a pattern tolerance (NaN where none is
+/// listed; a reactive class's own figure stands in, as a tolerance only).
+fn active_tolerance(class: AccuracyClass, pf: f64) -> f64 {
+    class.pattern_limit(pf)
+}
+
+/// A reactive tolerance for patterns: a reactive class's own limit at |sin φ|, twice an active
+/// class's limit at the same point (a tolerance, never a verdict's limit).
+fn reactive_tolerance(class: AccuracyClass, sin_phi: f64) -> f64 {
+    if class.is_reactive() {
+        class.pattern_limit(sin_phi)
+    } else {
+        2.0 * class.pattern_limit(sin_phi)
+    }
 }
 
 #[cfg(test)]

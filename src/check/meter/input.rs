@@ -172,11 +172,8 @@ fn parse_value(
 /// A meter's accuracy class, with the standard it is defined in.
 ///
 /// Limits are percent errors of the energy (and so of the power) at reference conditions, at the
-/// test points the standard lists: PF 1 and PF 0.5 inductive / 0.8 capacitive for the active
-/// classes, sin φ 1 and 0.5 for the reactive ones. Figures are from memory
-/// (IEC 62053-21/-22/-23, ANSI C12.20); see [`AccuracyClass::active_limit_percent`] for how a PF
-/// between or below the test points is treated. With the meter's rated current known, the wider
-/// limits the IEC classes allow at low current apply ([`AccuracyClass::at_current`]).
+/// test points and currents the standard lists (the rows in `limits.rs`, each with its source;
+/// all from memory): see [`AccuracyClass::limit`].
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub enum AccuracyClass {
     /// IEC 62053-21 class 1 (active energy). Accepted name `1`.
@@ -197,10 +194,20 @@ pub enum AccuracyClass {
     Reactive2,
     /// IEC 62053-23 class 3 (reactive energy). Accepted name `reactive-3`.
     Reactive3,
+    /// IEC 62053-24 class 0.5S (fundamental reactive energy). Accepted name `fundamental-0.5s`.
+    Fundamental05S,
+    /// IEC 62053-24 class 1S (fundamental reactive energy). Accepted name `fundamental-1s`.
+    Fundamental1S,
+    /// IEC 62053-24 class 1 (fundamental reactive energy). Accepted name `fundamental-1`.
+    Fundamental1,
+    /// IEC 62053-24 class 2 (fundamental reactive energy). Accepted name `fundamental-2`.
+    Fundamental2,
+    /// IEC 62053-24 class 3 (fundamental reactive energy). Accepted name `fundamental-3`.
+    Fundamental3,
 }
 
 /// The names [`AccuracyClass::parse`] accepts (in any case), in the order of the variants.
-pub const CLASS_NAMES: [&str; 9] = [
+pub const CLASS_NAMES: [&str; 14] = [
     "1",
     "2",
     "0.2s",
@@ -210,20 +217,15 @@ pub const CLASS_NAMES: [&str; 9] = [
     "ansi-0.5",
     "reactive-2",
     "reactive-3",
+    "fundamental-0.5s",
+    "fundamental-1s",
+    "fundamental-1",
+    "fundamental-2",
+    "fundamental-3",
 ];
 
-/// A |PF| (or |sin φ|) at or above this counts as the unity test point: it shows as 1.00 on a
-/// two-decimal display (our rule).
-pub const UNITY_POINT: f64 = 0.995;
-/// The lower test point: PF 0.5 inductive (0.8 capacitive), or sin φ 0.5 (IEC 62053-21/-22/-23,
-/// from memory).
-pub const LOW_POINT: f64 = 0.5;
-/// The lowest test point: PF 0.25 inductive, or sin φ 0.25 (IEC 62053-21/-22/-23, from memory);
-/// below it a class specifies no limit.
-pub const LOWEST_POINT: f64 = 0.25;
-
 impl AccuracyClass {
-    const ALL: [AccuracyClass; 9] = [
+    pub(super) const ALL: [AccuracyClass; 14] = [
         AccuracyClass::Iec1,
         AccuracyClass::Iec2,
         AccuracyClass::Iec02S,
@@ -233,6 +235,11 @@ impl AccuracyClass {
         AccuracyClass::Ansi05,
         AccuracyClass::Reactive2,
         AccuracyClass::Reactive3,
+        AccuracyClass::Fundamental05S,
+        AccuracyClass::Fundamental1S,
+        AccuracyClass::Fundamental1,
+        AccuracyClass::Fundamental2,
+        AccuracyClass::Fundamental3,
     ];
 
     /// Reads one of [`CLASS_NAMES`], ignoring case and surrounding spaces (`0.2S` = `0.2s`).
@@ -259,189 +266,27 @@ impl AccuracyClass {
             AccuracyClass::Ansi05 => "ANSI C12.20 class 0.5",
             AccuracyClass::Reactive2 => "IEC 62053-23 class 2",
             AccuracyClass::Reactive3 => "IEC 62053-23 class 3",
+            AccuracyClass::Fundamental05S => "IEC 62053-24 class 0.5S",
+            AccuracyClass::Fundamental1S => "IEC 62053-24 class 1S",
+            AccuracyClass::Fundamental1 => "IEC 62053-24 class 1",
+            AccuracyClass::Fundamental2 => "IEC 62053-24 class 2",
+            AccuracyClass::Fundamental3 => "IEC 62053-24 class 3",
         }
     }
 
-    /// True for the reactive-energy classes (IEC 62053-23).
+    /// True for the reactive-energy classes (IEC 62053-23 and the fundamental reactive ones of
+    /// IEC 62053-24).
     pub fn is_reactive(&self) -> bool {
-        matches!(self, AccuracyClass::Reactive2 | AccuracyClass::Reactive3)
-    }
-
-    /// The limits the standard lists, ± %: at the unity point, at the lower point and, where
-    /// listed, at the [`LOWEST_POINT`] (PF 0.25 inductive or sin φ 0.25). Active classes: PF 1,
-    /// PF 0.5 inductive / 0.8 capacitive, PF 0.25 inductive; reactive classes: sin φ 1, 0.5 and
-    /// 0.25. All from memory (IEC 62053-21/-22/-23; the PF 0.25 points are those the standards
-    /// list for tests on the user's request). ANSI C12.20 is listed here at unity PF only (its
-    /// PF-dependent and light-load points are not known to this check, from memory or otherwise):
-    /// at any other PF no limit is specified by this check.
-    fn listed(&self) -> (f64, Option<f64>, Option<f64>) {
-        match self {
-            AccuracyClass::Iec1 => (1.0, Some(1.0), Some(3.5)), // IEC 62053-21, from memory
-            // IEC 62053-21 class 2 lists no PF 0.25 point (from memory)
-            AccuracyClass::Iec2 => (2.0, Some(2.0), None),
-            AccuracyClass::Iec02S => (0.2, Some(0.3), Some(0.5)), // IEC 62053-22, from memory
-            AccuracyClass::Iec05S => (0.5, Some(0.6), Some(1.0)), // IEC 62053-22, from memory
-            AccuracyClass::Ansi01 => (0.1, None, None),           // ANSI C12.20, from memory
-            AccuracyClass::Ansi02 => (0.2, None, None),           // ANSI C12.20, from memory
-            AccuracyClass::Ansi05 => (0.5, None, None),           // ANSI C12.20, from memory
-            AccuracyClass::Reactive2 => (2.0, Some(2.0), Some(2.5)), // IEC 62053-23, from memory
-            AccuracyClass::Reactive3 => (3.0, Some(3.0), Some(4.0)), // IEC 62053-23, from memory
-        }
-    }
-
-    /// The listed limit at `x` (a |PF| or |sin φ|): the limit of the nearest test point at or
-    /// below `x`, where anything from [`UNITY_POINT`] up counts as unity. Below the lowest point
-    /// the class lists (or `x` not a number) the class specifies nothing: NaN.
-    fn at_point(&self, x: f64) -> f64 {
-        let (unity, low, lowest) = self.listed();
-        // a hair below a test point (sin 30° in floating point) is at it
-        let x = x.abs() + 1e-9;
-        let pick = if x >= UNITY_POINT {
-            Some(unity)
-        } else if x >= LOW_POINT {
-            low
-        } else if x >= LOWEST_POINT {
-            lowest
-        } else {
-            None
-        };
-        pick.unwrap_or(f64::NAN)
-    }
-
-    /// The widest limit the class lists at any test point, ± %: a tolerance for recognising
-    /// wiring patterns where no limit is specified, never a verdict's limit.
-    pub(super) fn widest_listed(&self) -> f64 {
-        let (unity, low, lowest) = self.listed();
-        [low, lowest].into_iter().flatten().fold(unity, f64::max)
-    }
-
-    /// The active-power limit, ± % of reading, at the measured |PF|.
-    ///
-    /// The limit of the nearest test point at or below |PF|: |PF| ≥ [`UNITY_POINT`] gets the PF 1
-    /// limit, 0.5 ≤ |PF| < 0.995 the PF 0.5 inductive / 0.8 capacitive limit (the standards give
-    /// one figure for both), 0.25 ≤ |PF| < 0.5 the PF 0.25 inductive limit where the class lists
-    /// one, and below that NaN: not specified. A reactive class makes no claim on active power;
-    /// its reactive figure at the same point is used (our rule).
-    pub fn active_limit_percent(&self, pf: f64) -> f64 {
-        self.at_point(pf)
-    }
-
-    /// The reactive-power limit, ± % of reading, at the measured |sin φ|.
-    ///
-    /// Reactive classes: the limit of the nearest test point at or below, as for
-    /// [`Self::active_limit_percent`] (sin φ 1, 0.5 and 0.25, IEC 62053-23, from memory). Active
-    /// classes list no reactive limit; twice their active limit at the same point is used (our
-    /// rule: an active class 1 meter commonly comes with reactive class 2, common practice).
-    pub fn reactive_limit_percent(&self, sin_phi: f64) -> f64 {
-        if self.is_reactive() {
-            self.at_point(sin_phi)
-        } else {
-            2.0 * self.at_point(sin_phi)
-        }
-    }
-
-    /// Why a limit was chosen where the class lists none for active quantities at `pf`, if so.
-    pub(super) fn active_note(&self, pf: f64) -> Option<String> {
-        if self.is_reactive() {
-            return Some(format!(
-                "{} sets no active limit; its reactive limit is used (our rule)",
-                self.name()
-            ));
-        }
-        let pf = pf.abs();
-        if self.active_limit_percent(pf).is_nan() {
-            Some(format!(
-                "not specified: {} lists no limit at PF {pf:.2} known to this check (none below \
-                 its lowest test point)",
-                self.name()
-            ))
-        } else {
-            None
-        }
-    }
-
-    /// The IEC classes' low-current ranges, as multiples of the rated current (Ib for the
-    /// direct-connected classes of IEC 62053-21 and -23, In for the transformer-operated ones of
-    /// IEC 62053-22): for the unity point and the lower point, the lowest current the class lists
-    /// a limit for, the current from which the full-current limit holds, and the limit between
-    /// the two, ± %. All from memory. ANSI C12.20's light-load points are not listed here.
-    fn low_current(&self) -> Option<[(f64, f64, f64); 2]> {
-        match self {
-            AccuracyClass::Iec1 => Some([(0.05, 0.1, 1.5), (0.1, 0.2, 1.5)]), // IEC 62053-21
-            AccuracyClass::Iec2 => Some([(0.05, 0.1, 2.5), (0.1, 0.2, 2.5)]), // IEC 62053-21
-            AccuracyClass::Iec02S => Some([(0.01, 0.05, 0.4), (0.02, 0.1, 0.5)]), // IEC 62053-22
-            AccuracyClass::Iec05S => Some([(0.01, 0.05, 1.0), (0.02, 0.1, 1.0)]), // IEC 62053-22
-            AccuracyClass::Reactive2 => Some([(0.05, 0.1, 2.5), (0.1, 0.2, 2.5)]), // IEC 62053-23
-            AccuracyClass::Reactive3 => Some([(0.05, 0.1, 4.0), (0.1, 0.2, 4.0)]), // IEC 62053-23
-            AccuracyClass::Ansi01 | AccuracyClass::Ansi02 | AccuracyClass::Ansi05 => None,
-        }
-    }
-
-    /// `limit` (the full-current limit at point `x`, a |PF| or |sin φ| as the class's own test
-    /// points go) at a current of `ratio` times the rated current: widened in the low-current
-    /// range, `None` below the lowest current the class lists (no limit applies there), with a
-    /// note saying which. `scale` multiplies the class's own figures (2 where an active class
-    /// stands in for a reactive limit, our rule). Unchanged without a ratio or for a class with no
-    /// low-current ranges listed here.
-    pub fn at_current(
-        &self,
-        limit: f64,
-        x: f64,
-        ratio: Option<f64>,
-        scale: f64,
-    ) -> (Option<f64>, Option<String>) {
-        let (Some(r), Some(ranges)) = (ratio.filter(|r| r.is_finite()), self.low_current()) else {
-            return (Some(limit), None);
-        };
-        let (lowest, full, wide) = ranges[usize::from(x.abs() < UNITY_POINT)];
-        let at = if x.abs() < UNITY_POINT {
-            "the lower test point"
-        } else {
-            "the unity test point"
-        };
-        let pct = |v: f64| format!("{:.0} %", 100.0 * v);
-        if r < lowest {
-            (
-                None,
-                Some(format!(
-                    "the current is {} of rated, below the {} {} lists at {at}: no limit applies",
-                    pct(r),
-                    pct(lowest),
-                    self.name()
-                )),
-            )
-        } else if r < full {
-            let widened = (wide * scale).max(limit);
-            (
-                Some(widened),
-                Some(format!(
-                    "the current is {} of rated: {} allows ±{widened} % from {} to {} at {at}",
-                    pct(r),
-                    self.name(),
-                    pct(lowest),
-                    pct(full)
-                )),
-            )
-        } else {
-            (Some(limit), None)
-        }
-    }
-
-    /// Why a limit was chosen where the class lists none for reactive power at `sin_phi`.
-    pub(super) fn reactive_note(&self, sin_phi: f64) -> Option<String> {
-        if !self.is_reactive() {
-            return Some(format!(
-                "{} sets no reactive limit; twice its active limit is used (our rule)",
-                self.name()
-            ));
-        }
-        let s = sin_phi.abs();
-        self.reactive_limit_percent(s).is_nan().then(|| {
-            format!(
-                "not specified: {} lists no limit below sin φ {LOWEST_POINT}",
-                self.name()
-            )
-        })
+        matches!(
+            self,
+            AccuracyClass::Reactive2
+                | AccuracyClass::Reactive3
+                | AccuracyClass::Fundamental05S
+                | AccuracyClass::Fundamental1S
+                | AccuracyClass::Fundamental1
+                | AccuracyClass::Fundamental2
+                | AccuracyClass::Fundamental3
+        )
     }
 }
 
@@ -619,7 +464,8 @@ mod tests {
         assert_eq!(
             e,
             "unknown accuracy class '0.3', expected one of: 1, 2, 0.2s, 0.5s, ansi-0.1, \
-             ansi-0.2, ansi-0.5, reactive-2, reactive-3"
+             ansi-0.2, ansi-0.5, reactive-2, reactive-3, fundamental-0.5s, fundamental-1s, \
+             fundamental-1, fundamental-2, fundamental-3"
         );
     }
 
@@ -636,71 +482,6 @@ mod tests {
             PfSign::parse("iec").unwrap_err().to_string(),
             "unknown power factor sign convention 'iec', expected power-flow, lead-negative, \
              lag-negative or unsigned"
-        );
-    }
-
-    /// Active energy % error limits at PF 1 and PF 0.5 inductive: IEC 62053-21 (class 1, 2),
-    /// IEC 62053-22 (0.2S, 0.5S), ANSI C12.20 at unity PF (0.1, 0.2, 0.5); reactive at sin φ 1 and
-    /// 0.5: IEC 62053-23 (class 2, 3). All from memory.
-    #[test]
-    fn class_limits_at_pf_1_and_0_5_match_the_standards() {
-        let table = [
-            ("1", 1.0, 1.0),
-            ("2", 2.0, 2.0),
-            ("0.2s", 0.2, 0.3),
-            ("0.5s", 0.5, 0.6),
-        ];
-        for (name, at_1, at_half) in table {
-            let c = AccuracyClass::parse(name).unwrap();
-            assert_eq!(c.active_limit_percent(1.0), at_1, "{name} at PF 1");
-            assert_eq!(c.active_limit_percent(0.5), at_half, "{name} at PF 0.5");
-            assert_eq!(c.active_limit_percent(-0.5), at_half, "{name} at PF -0.5");
-        }
-        // ANSI C12.20 at unity PF (from memory); its other points are not known here
-        for (name, at_1) in [("ansi-0.1", 0.1), ("ansi-0.2", 0.2), ("ansi-0.5", 0.5)] {
-            let c = AccuracyClass::parse(name).unwrap();
-            assert_eq!(c.active_limit_percent(1.0), at_1, "{name} at PF 1");
-            assert!(c.active_limit_percent(0.5).is_nan(), "{name} at PF 0.5");
-        }
-        // PF 0.25 inductive: class 1 ±3.5 %, 0.2S ±0.5 %, 0.5S ±1.0 %; sin φ 0.25: reactive
-        // classes 2 and 3 ±2.5 % and ±4.0 % (IEC 62053-21/-22/-23, from memory)
-        for (name, at_quarter) in [("1", 3.5), ("0.2s", 0.5), ("0.5s", 1.0)] {
-            let c = AccuracyClass::parse(name).unwrap();
-            assert_eq!(c.active_limit_percent(0.3), at_quarter, "{name} at PF 0.3");
-            assert!(c.active_limit_percent(0.2).is_nan(), "{name} at PF 0.2");
-        }
-        for (name, at_quarter) in [("reactive-2", 2.5), ("reactive-3", 4.0)] {
-            let c = AccuracyClass::parse(name).unwrap();
-            assert_eq!(c.reactive_limit_percent(0.25), at_quarter, "{name}");
-            assert!(c.reactive_limit_percent(0.2).is_nan(), "{name}");
-        }
-        for (name, limit) in [("reactive-2", 2.0), ("reactive-3", 3.0)] {
-            let c = AccuracyClass::parse(name).unwrap();
-            assert_eq!(c.reactive_limit_percent(1.0), limit);
-            assert_eq!(c.reactive_limit_percent(0.5), limit);
-        }
-    }
-
-    #[test]
-    fn limits_between_and_below_the_test_points_follow_the_documented_rule() {
-        let c = AccuracyClass::Iec02S;
-        // PF 0.997 shows as 1.00: unity limit; PF 0.9 takes the lower point at or below it
-        assert_eq!(c.active_limit_percent(0.997), 0.2);
-        assert_eq!(c.active_limit_percent(0.9), 0.3);
-        // between 0.25 and 0.5 the PF 0.25 point; below it nothing is specified, never the
-        // widest listed limit
-        assert_eq!(c.active_limit_percent(0.4), 0.5);
-        assert!(c.active_limit_percent(0.2).is_nan());
-        assert!(c.active_note(0.2).unwrap().starts_with("not specified"));
-        assert_eq!(c.active_note(0.9), None);
-        // an active class: twice its active limit for reactive power (our rule)
-        assert_eq!(c.reactive_limit_percent(1.0), 0.4);
-        assert_eq!(AccuracyClass::Iec1.reactive_limit_percent(0.6), 2.0);
-        assert!(
-            AccuracyClass::Ansi02
-                .active_note(0.8)
-                .unwrap()
-                .starts_with("not specified")
         );
     }
 }
