@@ -289,3 +289,182 @@ fn bank_ratio_uncertainty_treats_the_shared_probes_as_correlated() {
         "the old budget was inconclusive"
     );
 }
+
+/// The parts of the bank JSON the harmonic diagnosis and the nameplate need.
+#[derive(Debug, Deserialize)]
+struct HarmonicJson {
+    delivered_kvar: f64,
+    site_voltage: f64,
+    resonance_order: Option<f64>,
+    harmonic_changes: Vec<Change>,
+    warnings: Vec<String>,
+    nameplate: NameplateJson,
+}
+
+#[derive(Debug, Deserialize)]
+struct Change {
+    order: usize,
+    before_a: f64,
+    after_a: f64,
+    grows: bool,
+    voltage_before_percent: f64,
+    voltage_after_percent: f64,
+    predicted_amplification: Option<f64>,
+    capacitor_draw_a: f64,
+    resonance: bool,
+    diagnosis: String,
+}
+
+#[derive(Debug, Deserialize)]
+struct NameplateJson {
+    supply: Option<SupplyJson>,
+}
+
+/// The supply as the nameplate TOML spells it (snake_case keys, not internal type names).
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SupplyJson {
+    transformer_kva: Option<f64>,
+    transformer_z_percent: Option<f64>,
+    supply_mva: Option<f64>,
+}
+
+fn harmonic_json(before: &Path, after: &Path, plate: &[&str]) -> HarmonicJson {
+    let out = tracephase()
+        .arg("bank")
+        .arg("--before")
+        .arg(before)
+        .arg("--after")
+        .arg(after)
+        .args(plate)
+        .args(["--format", "json"])
+        .output()
+        .unwrap();
+    serde_json::from_slice(&out.stdout).unwrap_or_else(|e| {
+        panic!(
+            "{e}: {}{}",
+            String::from_utf8_lossy(&out.stdout),
+            String::from_utf8_lossy(&out.stderr)
+        )
+    })
+}
+
+/// The demo plant (issue 11, item 6): I5 grows from 8.3 A to 14.1 A when the bank switches in
+/// while V5 stays at 2.2 % and the resonance order is h_r = √(Ssc/Qc) = 17.7 (common practice):
+/// the predicted amplification 1/(1 − (5/17.7)²) = 1.09 (textbook voltage divider of the
+/// supply's and the bank's reactances) does not make a resonance; the capacitor's own draw
+/// I5 = 5·V5·ωC (Q = V²·ωC, textbook) explains the growth. The nameplate's supply comes back with
+/// the TOML's keys (item 10).
+#[test]
+fn the_demo_banks_growing_fifth_is_the_capacitors_own_draw_not_resonance() {
+    let r = harmonic_json(
+        Path::new("fixtures/demo-plant-feeder-bank-off.csv"),
+        Path::new("fixtures/demo-plant-feeder-bank-on.csv"),
+        &["--nameplate", "fixtures/demo-plant-bank-nameplate.toml"],
+    );
+    let supply = r
+        .nameplate
+        .supply
+        .expect("the demo nameplate names its transformer");
+    assert_eq!(supply.transformer_kva, Some(630.0));
+    assert_eq!(supply.transformer_z_percent, Some(4.0));
+    assert_eq!(supply.supply_mva, None);
+    let hr = r.resonance_order.unwrap();
+    // Ssc = 630 kVA / 4 % = 15.75 MVA over the 50 kvar delivered
+    assert!((hr - (15_750.0 / r.delivered_kvar).sqrt()).abs() < 1e-9);
+    assert!((hr - 17.7).abs() < 0.1, "{hr}");
+    let h5 = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
+    assert!(
+        (h5.before_a - 8.3).abs() < 0.05 && (h5.after_a - 14.1).abs() < 0.05,
+        "{h5:?}"
+    );
+    assert!(h5.grows);
+    assert!((h5.voltage_before_percent - 2.2).abs() < 0.02, "{h5:?}");
+    assert!((h5.voltage_after_percent - 2.2).abs() < 0.02, "{h5:?}");
+    let amp = 1.0 / (1.0 - (5.0 / hr).powi(2));
+    assert!((h5.predicted_amplification.unwrap() - amp).abs() < 1e-9);
+    assert!((amp - 1.09).abs() < 0.01, "{amp}");
+    // ωC per phase from the delivered kvar at the phase voltage (one phase of three)
+    let v_phase = r.site_voltage / 3f64.sqrt();
+    let omega_c = r.delivered_kvar * 1000.0 / 3.0 / (v_phase * v_phase);
+    let draw = 5.0 * h5.voltage_after_percent / 100.0 * v_phase * omega_c;
+    assert!(
+        (h5.capacitor_draw_a - draw).abs() < 0.01 * draw,
+        "{h5:?} vs {draw}"
+    );
+    assert!(h5.after_a <= h5.before_a * amp + draw);
+    assert!(!h5.resonance);
+    assert_eq!(h5.diagnosis, "capacitor-draw");
+    assert!(
+        r.harmonic_changes.iter().all(|c| !c.resonance),
+        "{:?}",
+        r.harmonic_changes
+    );
+    assert!(
+        r.warnings.iter().all(|w| !w.contains("resonan")),
+        "{:?}",
+        r.warnings
+    );
+}
+
+/// A real resonance: a 14 kvar, 230 V bank on a weak supply (Ssc = 28·Qc, so h_r = √28 = 5.29,
+/// common practice) amplifies the background 5th from 1 % to 3 % of V1, as the divider
+/// 1/(1 − (5/5.29)²) ≈ 9 allows (textbook). The voltage harmonic grew where the prediction is an
+/// amplification: flagged, and the warning says so. With the supply data left out the same
+/// captures are flagged too (no prediction can explain a voltage harmonic that triples).
+#[test]
+fn a_voltage_harmonic_amplified_near_the_resonance_order_is_flagged() {
+    let dir = TempDir::new().unwrap();
+    let (v_rms, p, q_before) = (230.0, 20_000.0, 15_000.0);
+    let qc = 14_000.0;
+    let omega_c = qc / (v_rms * v_rms);
+    let (v5_before, v5_after) = (0.01 * v_rms, 0.03 * v_rms);
+    let i5_load = 2.0;
+    let v_before = Waveform::sine(v_rms, 0.0).with(5, v5_before, 0.0);
+    let v_after = Waveform::sine(v_rms, 0.0).with(5, v5_after, 0.0);
+    let i_before = load(v_rms, p, q_before).with(5, i5_load, -150.0);
+    // the bank's 5th leads its voltage by 90°: 5·V5·ωC
+    let i_after = load(v_rms, p, q_before - qc).with(5, 5.0 * v5_after * omega_c, 90.0);
+    let (bv, bi) = synthesize(&spec(v_before, i_before, Some(70.0), 21));
+    let (av, ai) = synthesize(&spec(v_after, i_after, Some(70.0), 22));
+    let before = write_capture(dir.path(), "weak-supply-bank-out.csv", &bv, &bi);
+    let after = write_capture(dir.path(), "weak-supply-bank-in.csv", &av, &ai);
+    let ssc_mva = 28.0 * qc / 1e6;
+    let ssc = format!("{ssc_mva}");
+    let mut plate = vec![
+        "--rated-kvar",
+        "14",
+        "--rated-voltage",
+        "230",
+        "--rated-frequency",
+        "50",
+    ];
+    let without = harmonic_json(&before, &after, &plate);
+    plate.extend(["--supply-mva", &ssc]);
+    let r = harmonic_json(&before, &after, &plate);
+    let hr = r.resonance_order.unwrap();
+    assert!((hr - (ssc_mva * 1000.0 / r.delivered_kvar).sqrt()).abs() < 1e-9);
+    assert!((hr - 28f64.sqrt()).abs() < 0.05, "{hr}");
+    let h5 = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
+    assert!((h5.voltage_before_percent - 1.0).abs() < 0.02, "{h5:?}");
+    assert!((h5.voltage_after_percent - 3.0).abs() < 0.02, "{h5:?}");
+    assert!(h5.predicted_amplification.unwrap() > 5.0, "{h5:?}");
+    assert!(h5.resonance, "{h5:?}");
+    assert_eq!(h5.diagnosis, "resonance");
+    assert!(
+        r.warnings
+            .iter()
+            .any(|w| w.starts_with("harmonic 5 voltage grew") && w.contains("resonate")),
+        "{:?}",
+        r.warnings
+    );
+    let h5 = without
+        .harmonic_changes
+        .iter()
+        .find(|c| c.order == 5)
+        .unwrap();
+    assert!(
+        h5.resonance && h5.predicted_amplification.is_none(),
+        "{h5:?}"
+    );
+}

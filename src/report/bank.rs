@@ -175,11 +175,19 @@ fn table(
         .take(8)
         .map(|c| {
             format!(
-                "h{} {} → {} A ({:+.0} %)",
+                "h{} {} → {} A ({:+.0} %; V{} {} → {} %; own draw {} A{}: {})",
                 c.order,
                 num(c.before_a, 3),
                 num(c.after_a, 3),
-                c.change_percent
+                c.change_percent,
+                c.order,
+                num(c.voltage_before_percent, 3),
+                num(c.voltage_after_percent, 3),
+                num(c.capacitor_draw_a, 3),
+                c.predicted_amplification
+                    .map(|a| format!(", predicted ×{}", num(a, 3)))
+                    .unwrap_or_default(),
+                c.diagnosis
             )
         })
         .collect();

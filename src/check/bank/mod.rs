@@ -91,7 +91,7 @@ impl CaptureWarning {
     }
 }
 
-/// A harmonic current before and after switching.
+/// A harmonic before and after switching, with what the bank itself predicts for it.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct HarmonicChange {
     /// Order.
@@ -104,8 +104,25 @@ pub struct HarmonicChange {
     pub change_percent: f64,
     /// Above 1 % of the fundamental before or after.
     pub significant: bool,
-    /// Grew by more than 20 % and is above 1 % of the fundamental: a resonance symptom.
+    /// Grew by more than 20 % and is above 1 % of the fundamental.
     pub grows: bool,
+    /// Voltage harmonic before, percent of that capture's V1.
+    pub voltage_before_percent: f64,
+    /// Voltage harmonic after, percent of that capture's V1.
+    pub voltage_after_percent: f64,
+    /// The voltage amplification the bank predicts at this order, 1/|1 − (h/h_r)²| with the
+    /// resonance order h_r; `None` without supply data.
+    pub predicted_amplification: Option<f64>,
+    /// The bank's own draw at this order, I_h = h·V_h·ωC from the after-capture's voltage
+    /// harmonic and the bank's capacitance per captured phase, A.
+    pub capacitor_draw_a: f64,
+    /// The voltage harmonic grew beyond what the prediction explains, or grew where the
+    /// prediction itself is an amplification: resonance between the bank and the supply.
+    pub resonance: bool,
+    /// In one word: `steady`, `capacitor-draw` (a current growth the bank's own draw and the
+    /// predicted amplification explain), `resonance`, or `unexplained` (a current growth
+    /// neither explains while the voltage harmonic stayed: did the load change?).
+    pub diagnosis: &'static str,
 }
 
 /// pass / fail / inconclusive, from the guarded decision rule.
@@ -204,8 +221,16 @@ pub struct BankReport {
 
 /// A harmonic counts as present above this share of the fundamental current.
 const PRESENT_SHARE: f64 = 0.01;
-/// A harmonic current that grows by more than this share after switching is a resonance symptom.
+/// A harmonic that grows by more than this share after switching has grown (our rule: beyond
+/// the drift of a background distortion between two captures minutes apart).
 const GROWTH: f64 = 0.20;
+/// A voltage harmonic counts as present above this share of V1 (our rule; the compatibility
+/// levels of public networks are a few percent, IEC 61000-2-2, from memory).
+const VOLTAGE_PRESENT_SHARE: f64 = 0.005;
+/// A grown current counts as explained when it is at most this many times the bank's draw plus
+/// the amplified current before (our rule: the two add as phasors, so their sum bounds the
+/// growth, and 20 % covers the drift of the load between captures).
+const EXPLAINED_MARGIN: f64 = 1.2;
 /// Orders compared before and after.
 const COMPARED_ORDERS: usize = 25;
 
@@ -316,39 +341,50 @@ pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ban
     let nearest_steps = nearest_subset(&site_steps, kvar_for_target_pf);
     let nearest_steps_kvar = nearest_steps.iter().map(|&k| site_steps[k - 1]).sum();
 
-    // Harmonic currents before and after switching.
-    let i1_after = after.current_harmonics.first().copied().unwrap_or(0.0);
-    let orders = COMPARED_ORDERS
-        .min(before.current_harmonics.len())
-        .min(after.current_harmonics.len());
-    let harmonic_changes: Vec<HarmonicChange> = (2..=orders)
-        .map(|h| {
-            let (b, a) = (
-                before.current_harmonics[h - 1],
-                after.current_harmonics[h - 1],
-            );
-            let change = if b > 0.0 { 100.0 * (a / b - 1.0) } else { 0.0 };
-            HarmonicChange {
-                order: h,
-                before_a: b,
-                after_a: a,
-                change_percent: change,
-                significant: a.max(b) > PRESENT_SHARE * i1_after,
-                grows: a > (1.0 + GROWTH) * b && a > PRESENT_SHARE * i1_after,
-            }
-        })
-        .collect();
-    for c in harmonic_changes.iter().filter(|c| c.grows) {
-        warnings.push(format!(
-            "harmonic {} current grew from {:.3} A to {:.3} A ({:+.0} %) when the bank switched \
-             in: a sign of resonance between the bank and the supply",
-            c.order, c.before_a, c.after_a, c.change_percent
-        ));
-    }
-
     // Parallel resonance order h = √(Ssc/Qc) (common practice).
     let qc = if delivered > 0.0 { delivered } else { expected };
     let resonance_order = plate.supply.map(|s| (s.short_circuit_kva() / qc).sqrt());
+    // The bank's capacitance per captured phase, as ωC = Q1/V1² (textbook: Q = V²·ωC).
+    let q_phase_var = 1000.0 * qc / scale;
+    let omega_c = if after.v1 > 0.0 {
+        q_phase_var / (after.v1 * after.v1)
+    } else {
+        0.0
+    };
+    let harmonic_changes = harmonic_changes(before, after, resonance_order, omega_c);
+    for c in harmonic_changes
+        .iter()
+        .filter(|c| c.diagnosis == "unexplained")
+    {
+        warnings.push(format!(
+            "harmonic {} current grew from {:.3} A to {:.3} A when the bank switched in, more \
+             than the bank's own draw ({:.3} A) explains while the voltage harmonic stayed at \
+             {:.2} % of V1: did the load change between the captures?",
+            c.order, c.before_a, c.after_a, c.capacitor_draw_a, c.voltage_after_percent
+        ));
+    }
+    for c in harmonic_changes.iter().filter(|c| c.resonance) {
+        let prediction = match (c.predicted_amplification, resonance_order) {
+            (Some(a), Some(h)) if a >= 1.0 + GROWTH => format!(
+                "as the resonance order {h:.2} predicts ({a:.2}×): the bank and the supply \
+                 resonate near this order"
+            ),
+            (Some(a), Some(h)) => format!(
+                "beyond the {a:.2}× predicted from the resonance order {h:.2}: a resonance the \
+                 supply data do not explain (another bank, a cable's capacitance?)"
+            ),
+            _ => "with no supply data the amplification cannot be predicted; a voltage \
+                  harmonic that grows with the bank points to resonance between the bank and \
+                  the supply"
+                .to_string(),
+        };
+        warnings.push(format!(
+            "harmonic {} voltage grew from {:.2} % to {:.2} % of V1 when the bank switched in \
+             (current {:.3} A → {:.3} A), {prediction}; consider a detuned (reactor) bank",
+            c.order, c.voltage_before_percent, c.voltage_after_percent, c.before_a, c.after_a
+        ));
+    }
+
     let present = |h: usize| {
         let share = |side: &BankSide| {
             let i1 = side.current_harmonics.first().copied().unwrap_or(0.0);
@@ -397,6 +433,83 @@ pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ban
         harmonic_changes,
         warnings,
     }
+}
+
+/// Each order's harmonics before and after switching, diagnosed.
+///
+/// A harmonic current that grows when a bank switches in is mostly the capacitor drawing
+/// `I_h = h·V_h·ωC` from the background voltage distortion (textbook: the capacitor's admittance
+/// grows with h). A parallel resonance with the supply inductance shows in the voltage: with a
+/// harmonic current source or a distorted supply behind its inductance, the voltage at the bank
+/// goes as `1/(1 − (h/h_r)²)` (textbook: the divider of the supply's `jhX_s` and the bank's
+/// `−jX_c/h`, with `h_r² = X_c/X_s = Ssc/Qc`). So resonance is flagged only where the voltage
+/// harmonic grows by more than [`GROWTH`] beyond that prediction, or grows where the prediction
+/// is itself an amplification of more than [`GROWTH`]; without supply data, where it grows by
+/// more than [`GROWTH`].
+fn harmonic_changes(
+    before: &BankSide,
+    after: &BankSide,
+    resonance_order: Option<f64>,
+    omega_c: f64,
+) -> Vec<HarmonicChange> {
+    let i1_after = after.current_harmonics.first().copied().unwrap_or(0.0);
+    let orders = COMPARED_ORDERS
+        .min(before.current_harmonics.len())
+        .min(after.current_harmonics.len());
+    let v_share = |side: &BankSide, h: usize| {
+        let v1 = side.voltage_harmonics.first().copied().unwrap_or(side.v1);
+        let vh = side.voltage_harmonics.get(h - 1).copied().unwrap_or(0.0);
+        if v1 > 0.0 { vh / v1 } else { 0.0 }
+    };
+    (2..=orders)
+        .map(|h| {
+            let (b, a) = (
+                before.current_harmonics[h - 1],
+                after.current_harmonics[h - 1],
+            );
+            let change = if b > 0.0 { 100.0 * (a / b - 1.0) } else { 0.0 };
+            let significant = a.max(b) > PRESENT_SHARE * i1_after;
+            let grows = a > (1.0 + GROWTH) * b && a > PRESENT_SHARE * i1_after;
+            let (vb, va) = (v_share(before, h), v_share(after, h));
+            let amplification = resonance_order.map(|hr| {
+                let x = h as f64 / hr;
+                1.0 / (1.0 - x * x).abs()
+            });
+            let v_after = after.voltage_harmonics.get(h - 1).copied().unwrap_or(0.0);
+            let draw = h as f64 * v_after * omega_c;
+            let v_growth = if vb > 0.0 { va / vb } else { f64::INFINITY };
+            let v_grew = va > VOLTAGE_PRESENT_SHARE && v_growth > 1.0 + GROWTH;
+            let resonance = v_grew
+                && match amplification {
+                    Some(amp) => v_growth > amp.max(1.0) * (1.0 + GROWTH) || amp >= 1.0 + GROWTH,
+                    None => true,
+                };
+            let explained = a <= EXPLAINED_MARGIN * (amplification.unwrap_or(1.0) * b + draw);
+            let diagnosis = if resonance {
+                "resonance"
+            } else if !grows {
+                "steady"
+            } else if explained {
+                "capacitor-draw"
+            } else {
+                "unexplained"
+            };
+            HarmonicChange {
+                order: h,
+                before_a: b,
+                after_a: a,
+                change_percent: change,
+                significant,
+                grows,
+                voltage_before_percent: 100.0 * vb,
+                voltage_after_percent: 100.0 * va,
+                predicted_amplification: amplification,
+                capacitor_draw_a: draw,
+                resonance,
+                diagnosis,
+            }
+        })
+        .collect()
 }
 
 /// The steps (1-based numbers) whose kvar add up nearest to `target`; the fewest steps on a tie.
@@ -541,15 +654,56 @@ mod tests {
         assert_eq!(r.resonance_near_harmonic, Some(7));
     }
 
+    /// A 5th harmonic current that grows when the bank switches in while V5 stays at 2 % of V1
+    /// is the bank's own draw, I5 = 5·V5·ωC with ωC = Q/V² (textbook): 5·8 V·30 kvar/400² =
+    /// 7.5 A bounds a growth from 0.3 A to 1.2 A. One that grows beyond that with V5 steady is
+    /// unexplained (the load changed?). Neither is a resonance.
     #[test]
-    fn a_harmonic_that_grows_after_switching_is_flagged() {
+    fn a_current_harmonic_that_grows_with_a_steady_voltage_is_not_resonance() {
         let before = side(30_000.0, 25_000.0, 400.0, 50.0);
         let mut after = side(30_000.0, -5_000.0, 400.0, 50.0);
         after.current_harmonics[4] = 1.2; // 5th from 0.3 A to 1.2 A
         let r = check_bank(&before, &after, &plate(30.0, 400.0, 3));
         let c = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
         assert!(c.grows && (c.change_percent - 300.0).abs() < 1e-9);
-        assert!(r.warnings.iter().any(|w| w.contains("harmonic 5")));
+        let draw = 5.0 * 0.02 * 400.0 * 30_000.0 / (400.0 * 400.0);
+        assert!((c.capacitor_draw_a - draw).abs() < 1e-9, "{c:?}");
+        assert!(!c.resonance);
+        assert_eq!(c.diagnosis, "capacitor-draw");
+        assert!(!r.warnings.iter().any(|w| w.contains("harmonic 5")));
+        after.current_harmonics[4] = 12.0;
+        let r = check_bank(&before, &after, &plate(30.0, 400.0, 3));
+        let c = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
+        assert_eq!(c.diagnosis, "unexplained");
+        assert!(r.warnings.iter().any(|w| w.contains("did the load change")));
+    }
+
+    /// The prediction 1/(1 − (h/h_r)²) (textbook): with h_r = 8.165 (Ssc 20 MVA, Qc 300 kvar)
+    /// the 5th is predicted to grow 1.60×. V5 from 2 % to 3 % (1.5×) is that predicted
+    /// amplification: flagged; V5 to 2.2 % (1.1×) has not grown: not flagged.
+    #[test]
+    fn a_voltage_harmonic_that_grows_near_the_resonance_order_is_flagged() {
+        let before = side(200_000.0, 400_000.0, 400.0, 50.0);
+        let mut p = plate(300.0, 400.0, 3);
+        p.supply = Some(Supply::ShortCircuitMva(20.0));
+        for (v5, flagged) in [(0.03, true), (0.022, false)] {
+            let mut after = side(200_000.0, 100_000.0, 400.0, 50.0);
+            after.voltage_harmonics[4] = v5 * 400.0;
+            let r = check_bank(&before, &after, &p);
+            let c = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
+            let amp = 1.0 / (1.0 - (5.0f64 / 8.165).powi(2));
+            assert!(
+                (c.predicted_amplification.unwrap() - amp).abs() < 1e-3,
+                "{c:?}"
+            );
+            assert_eq!(c.resonance, flagged, "{c:?}");
+            assert_eq!(
+                r.warnings
+                    .iter()
+                    .any(|w| w.contains("harmonic 5 voltage grew")),
+                flagged
+            );
+        }
     }
 
     #[test]
