@@ -1,13 +1,16 @@
 //! The analysis pipeline for one capture: condition -> estimate -> quantities.
 
-use crate::capture::{Capture, SourceFormat, UsedChannels};
+use crate::capture::{Capture, Phase, Place, SourceFormat, System, UsedChannels};
 use crate::check::bank::BankSide;
 use crate::check::circuit::Circuit;
 use crate::check::expected::{self, Expectation, Expected};
 use crate::check::meter::Measured;
 use crate::check::tolerance::MonteCarloConfig;
+use crate::check::wiring;
 use crate::condition;
 use crate::estimate::{self, Estimate, EstimateError};
+use crate::quantity::power::RmsParts;
+use crate::quantity::three_phase::{PhaseFigures, ThreePhase, ThreePhaseInput, Wiring};
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
 use crate::quantity::{self, Quantities, QuantitySettings};
 use crate::warning::{Severity, Status, Trace, Warning};
@@ -51,6 +54,11 @@ impl Default for Settings {
 }
 
 /// Everything known about one analysed capture.
+///
+/// A capture has one [`PhaseAnalysis`] per phase: one for a single-phase capture, three for a
+/// three-phase one, whose system-wide figures are in [`Analysis::three_phase`]. An `Analysis`
+/// reads as its first phase (it dereferences to `phases[0]`), so `analysis.quantities` is the
+/// single-phase figures; code that handles three phases walks [`Analysis::phases`].
 #[derive(Debug, Clone)]
 pub struct Analysis {
     /// The file.
@@ -61,23 +69,58 @@ pub struct Analysis {
     pub sample_rate_hz: f64,
     /// Samples per trace.
     pub samples: usize,
-    /// The voltage, current and time channels used: name, column, unit, how chosen.
-    pub channels: UsedChannels,
+    /// The connection.
+    pub system: System,
     /// Settings used.
     pub settings: Settings,
+    /// Each phase's figures, in phase order a, b, c (one for a single-phase capture).
+    pub phases: Vec<PhaseAnalysis>,
+    /// Totals, IEEE 1459 effective and sequence quantities and wiring hints of a three-phase
+    /// capture.
+    pub three_phase: Option<ThreePhaseAnalysis>,
+    /// Everything observed, from loading on: warnings, findings and notes
+    /// ([`Warning::severity`] tells them apart; [`Analysis::listed`] picks one kind). On a
+    /// three-phase capture, what belongs to one phase says which ([`Warning::OnPhase`]).
+    pub warnings: Vec<Warning>,
+    /// Comparison with a circuit model, when one was given.
+    pub expected: Option<Expected>,
+}
+
+/// One phase of an analysed capture (the one phase of a single-phase capture).
+#[derive(Debug, Clone)]
+pub struct PhaseAnalysis {
+    /// The phase (`A` for a single-phase capture).
+    pub phase: Phase,
+    /// The voltage, current and time channels used: name, column, unit, how chosen.
+    pub channels: UsedChannels,
     /// Estimator outputs.
     pub estimate: Estimate,
     /// Computed quantities.
     pub quantities: Quantities,
     /// Their expanded uncertainties (k = 2).
     pub uncertainty: Uncertainty,
-    /// Everything observed, from loading on: warnings, findings and notes
-    /// ([`Warning::severity`] tells them apart; [`Analysis::listed`] picks one kind).
-    pub warnings: Vec<Warning>,
-    /// Comparison with a circuit model, when one was given.
-    pub expected: Option<Expected>,
     /// The first cycles of both traces, for plots.
     pub preview: Preview,
+}
+
+/// What a three-phase capture gives beyond its phases.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ThreePhaseAnalysis {
+    /// Totals, effective values, sequence components, rotation.
+    pub figures: ThreePhase,
+    /// How our own channels seem to be connected, in plain words (empty when nothing is odd).
+    pub wiring_hints: Vec<String>,
+    /// For a 3-wire capture: the per-phase figures refer to the artificial star point.
+    pub artificial_star: bool,
+}
+
+impl std::ops::Deref for Analysis {
+    type Target = PhaseAnalysis;
+
+    /// The first phase: the single-phase figures of a single-phase capture.
+    fn deref(&self) -> &PhaseAnalysis {
+        &self.phases[0]
+    }
 }
 
 /// The first few cycles of both traces (scaled), thinned to at most [`PREVIEW_POINTS`] points,
@@ -159,24 +202,113 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         ..*settings
     };
     condition::scale(&mut capture, settings.v_scale, settings.i_scale);
-    let (v, i) = (&capture.voltage.samples, &capture.current.samples);
-    let (estimate, quantities) =
-        analyze_traces(v, i, capture.sample_rate_hz, settings).map_err(|source| AnalysisError {
-            path: capture.path.clone(),
-            source,
-        })?;
+    let fail = |source| AnalysisError {
+        path: capture.path.clone(),
+        source,
+    };
     let mut warnings = std::mem::take(&mut capture.warnings);
-    let (clip_v, clip_i) = rayon::join(|| condition::clipping(v), || condition::clipping(i));
-    for (y, t, clip) in [(v, Trace::Voltage, clip_v), (i, Trace::Current, clip_i)] {
+    let many = capture.system.is_three_phase();
+    let rate = capture.sample_rate_hz;
+    let samples = condition::per_phase(&capture);
+    // the first phase finds the frequency; the others are fitted at it, so every phasor refers
+    // to the same instant and the same frequency
+    let mut estimates = Vec::with_capacity(samples.len());
+    for ps in &samples {
+        let known = estimates
+            .first()
+            .map(|(e, _): &(Estimate, Quantities)| e.frequency_hz);
+        let est = estimate::estimate_at(&ps.voltage, &ps.current, rate, settings.harmonics, known)
+            .map_err(|e| fail(e))?;
+        let q = quantity::quantities(
+            &ps.voltage,
+            &ps.current,
+            rate,
+            &est,
+            &QuantitySettings {
+                skew_s: settings.skew_s,
+                harmonics: settings.harmonics,
+            },
+        );
+        estimates.push((est, q));
+    }
+    // clipping and resolution: once per trace as loaded
+    let traces: Vec<(&crate::capture::Trace, Trace)> = capture
+        .voltages
+        .iter()
+        .map(|t| (t, Trace::Voltage))
+        .chain(capture.currents.iter().map(|t| (t, Trace::Current)))
+        .collect();
+    let checks: Vec<(Option<f64>, Option<usize>)> = traces
+        .iter()
+        .map(|(t, _)| {
+            (
+                condition::clipping(&t.samples),
+                condition::few_levels(&t.samples),
+            )
+        })
+        .collect();
+    for ((t, kind), (clip, levels)) in traces.iter().zip(checks) {
+        let on = |w: Warning| match (many, t.place) {
+            (true, Place::Phase(p)) => Warning::OnPhase {
+                phase: phase_letter(p),
+                warning: Box::new(w),
+            },
+            (true, Place::Line(a, b)) => Warning::OnPhase {
+                phase: line_letters(a, b),
+                warning: Box::new(w),
+            },
+            _ => w,
+        };
         if let Some(percent) = clip {
-            warnings.push(Warning::Clipping { trace: t, percent });
+            warnings.push(on(Warning::Clipping {
+                trace: *kind,
+                percent,
+            }));
         }
-        if let Some(levels) = condition::few_levels(y) {
-            warnings.push(Warning::LowResolution { trace: t, levels });
+        if let Some(levels) = levels {
+            warnings.push(on(Warning::LowResolution {
+                trace: *kind,
+                levels,
+            }));
         }
     }
-    warnings.extend(quantities.warnings.iter().cloned());
-    if let Some(pf) = quantities.true_pf
+    let mut phases = Vec::with_capacity(samples.len());
+    for (ps, (estimate, quantities)) in samples.iter().zip(estimates) {
+        for w in &quantities.warnings {
+            warnings.push(if many {
+                Warning::OnPhase {
+                    phase: phase_letter(ps.phase),
+                    warning: Box::new(w.clone()),
+                }
+            } else {
+                w.clone()
+            });
+        }
+        let uncertainty = uncertainty::uncertainty(
+            &ps.voltage,
+            &ps.current,
+            &estimate,
+            &quantities,
+            settings.skew_s,
+            &settings.uncertainty,
+        );
+        let preview = Preview::new(&ps.voltage, &ps.current, rate, quantities.frequency_hz);
+        phases.push(PhaseAnalysis {
+            phase: ps.phase,
+            channels: phase_channels(&capture, ps),
+            estimate,
+            quantities,
+            uncertainty,
+            preview,
+        });
+    }
+    let three_phase = many.then(|| three_phase_of(&capture, &samples, &phases));
+    // the PF finding: of the system when there is one, else of the phase
+    let pf = match &three_phase {
+        Some(t) => t.figures.effective.pf,
+        None => phases[0].quantities.true_pf,
+    };
+    if let Some(pf) = pf
         && pf.abs() < settings.pf_threshold
     {
         warnings.push(Warning::PfBelowThreshold {
@@ -184,30 +316,156 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             threshold: settings.pf_threshold,
         });
     }
-    let uncertainty = uncertainty::uncertainty(
-        v,
-        i,
-        &estimate,
-        &quantities,
-        settings.skew_s,
-        &settings.uncertainty,
-    );
-    let preview = Preview::new(v, i, capture.sample_rate_hz, quantities.frequency_hz);
-    let channels = capture.used_channels();
+    drop(samples);
     Ok(Analysis {
-        preview,
-        uncertainty,
         samples: capture.len(),
         path: capture.path,
         format: capture.format,
         sample_rate_hz: capture.sample_rate_hz,
-        channels,
+        system: capture.system,
         settings: *settings,
-        estimate,
-        quantities,
+        phases,
+        three_phase,
         warnings,
         expected: None,
     })
+}
+
+/// `a`, `b`, `c` (`n` for the neutral).
+pub fn phase_letter(p: Phase) -> &'static str {
+    match p {
+        Phase::A => "a",
+        Phase::B => "b",
+        Phase::C => "c",
+        Phase::N => "n",
+    }
+}
+
+fn line_letters(a: Phase, b: Phase) -> &'static str {
+    match (a, b) {
+        (Phase::A, Phase::B) => "ab",
+        (Phase::B, Phase::A) => "ba",
+        (Phase::B, Phase::C) => "bc",
+        (Phase::C, Phase::B) => "cb",
+        (Phase::C, Phase::A) => "ca",
+        (Phase::A, Phase::C) => "ac",
+        _ => "?",
+    }
+}
+
+/// The channels one phase's figures come from; a 3-wire phase's voltage is derived from the
+/// line-to-line channels and says so.
+fn phase_channels(capture: &Capture, ps: &condition::PhaseSamples<'_>) -> UsedChannels {
+    let voltage = if capture.system == System::ThreeWire {
+        let first = &capture.voltages[0].channel;
+        let from: Vec<String> = capture
+            .voltages
+            .iter()
+            .map(|t| format!("'{}'", t.channel.name))
+            .collect();
+        let mut c = first.clone();
+        c.name = format!(
+            "{} to the artificial star point, from {}",
+            phase_letter(ps.phase),
+            from.join(" and ")
+        );
+        c
+    } else {
+        capture.voltages[ps.voltage_trace].channel.clone()
+    };
+    let (current, current_by) = match ps.current_trace {
+        Some(k) => (
+            capture.currents[k].channel.clone(),
+            capture.currents[k].chosen_by,
+        ),
+        None => {
+            let from: Vec<String> = capture
+                .currents
+                .iter()
+                .map(|t| format!("'{}'", t.channel.name))
+                .collect();
+            let mut c = capture.currents[0].channel.clone();
+            c.name = format!(
+                "{}: minus the sum of {}",
+                phase_letter(ps.phase),
+                from.join(" and ")
+            );
+            (c, capture.currents[0].chosen_by)
+        }
+    };
+    UsedChannels {
+        voltage,
+        voltage_by: capture.voltages[ps.voltage_trace.min(capture.voltages.len() - 1)].chosen_by,
+        current,
+        current_by,
+        time: capture.time.clone(),
+    }
+}
+
+/// The system-wide figures of a three-phase capture from its phases.
+fn three_phase_of(
+    capture: &Capture,
+    samples: &[condition::PhaseSamples<'_>],
+    phases: &[PhaseAnalysis],
+) -> ThreePhaseAnalysis {
+    let wiring = if capture.system == System::ThreeWire {
+        Wiring::ThreeWire
+    } else {
+        Wiring::FourWire
+    };
+    let figure = |p: &PhaseAnalysis| {
+        let (v1, i1) = p.quantities.fundamentals;
+        PhaseFigures {
+            voltage: v1,
+            current: i1,
+            voltage_rms: p.quantities.voltage.rms,
+            current_rms: p.quantities.current.rms,
+            active_w: p.quantities.power.active_w,
+        }
+    };
+    let figures3 = [figure(&phases[0]), figure(&phases[1]), figure(&phases[2])];
+    // line-to-line true RMS from the samples, over the same whole cycles as the phases' RMS
+    let per_cycle = capture.sample_rate_hz / phases[0].quantities.frequency_hz;
+    let span = condition::whole_cycles(capture.len(), per_cycle).1.max(1);
+    let rms_diff = |x: &[f64], y: &[f64]| {
+        (x[..span]
+            .iter()
+            .zip(&y[..span])
+            .map(|(a, b)| (a - b) * (a - b))
+            .sum::<f64>()
+            / span as f64)
+            .sqrt()
+    };
+    let (va, vb, vc) = (
+        &samples[0].voltage,
+        &samples[1].voltage,
+        &samples[2].voltage,
+    );
+    let line_rms = [rms_diff(va, vb), rms_diff(vb, vc), rms_diff(vc, va)];
+    let neutral = capture.neutral.as_ref().map(|n| {
+        let rms = (n.samples[..span].iter().map(|x| x * x).sum::<f64>() / span as f64).sqrt();
+        // the fundamental of the measured neutral: the phasor sum of the line currents'
+        // fundamentals (Kirchhoff), as the record has no separate fit of it
+        let sum = figures3[0].current + figures3[1].current + figures3[2].current;
+        RmsParts {
+            total: rms,
+            fundamental: sum.norm(),
+        }
+    });
+    let figures = ThreePhase::new(&ThreePhaseInput {
+        wiring,
+        phases: figures3,
+        line_rms,
+        neutral,
+    });
+    let v = figures3.map(|f| f.voltage);
+    let i = figures3.map(|f| f.current);
+    let names = [0, 1, 2].map(|k| phases[k].channels.current.name.clone());
+    ThreePhaseAnalysis {
+        figures,
+        wiring_hints: wiring::diagnose(&v, &i, &names),
+        artificial_star: capture.system == System::ThreeWire,
+    }
 }
 
 impl Analysis {

@@ -1,6 +1,7 @@
 //! What the user typed: clap types only. [`crate::app`] turns them into resolved settings; the
 //! rest of the library never sees clap.
 
+use crate::capture::System;
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
 
@@ -470,21 +471,40 @@ pub enum DistributionArg {
     Normal,
 }
 
+fn parse_system(text: &str) -> Result<System, String> {
+    System::parse(text)
+        .ok_or_else(|| format!("'{text}' is not a system: use single, 4-wire or 3-wire"))
+}
+
 /// How to read the traces: which channels, their scales and timing.
 #[derive(Debug, Args, Clone)]
 #[command(next_help_heading = "Channels, scales and timing")]
 pub struct ChannelArgs {
     /// Voltage channel: header name, or number counting the file's columns from 1 with the time
-    /// column included (WAV: channel number) [default: the one channel in volts or named like a
-    /// voltage (V, U, Va, V_L1, UL1, Voltage...); with only two data channels and nothing to tell
-    /// them apart, the first; otherwise the file is refused with a list of its channels].
-    #[arg(long, value_name = "COL")]
+    /// column included (WAV: channel number); three-phase: a list in phase order, `Va,Vb,Vc`
+    /// (to neutral) or two line-to-line voltages `Vab,Vcb` (3-wire) [default: the one channel
+    /// in volts or named like a voltage (V, U, Va, V_L1, UL1, Voltage...), or a complete phase
+    /// set (Va Vb Vc with Ia Ib Ic; Vab Vcb with Ia Ic); with only two data channels and
+    /// nothing to tell them apart, the first; otherwise the file is refused with a list of its
+    /// channels].
+    #[arg(long, value_name = "COL[,COL,COL]")]
     pub voltage: Option<String>,
     /// Current channel: header name, or number counting the file's columns from 1 with the time
-    /// column included (WAV: channel number) [default: the one channel in amperes or named like a
-    /// current (I, Ia, I_L1, IL, Iload, Current...); with only two data channels, the second].
-    #[arg(long, value_name = "COL")]
+    /// column included (WAV: channel number); three-phase: a list in phase order, `Ia,Ib,Ic`
+    /// (3-wire: `Ia,Ic`) [default: the one channel in amperes or named like a current (I, Ia,
+    /// I_L1, IL, Iload, Current...); with only two data channels, the second].
+    #[arg(long, value_name = "COL[,COL,COL]")]
     pub current: Option<String>,
+    /// The measured neutral current of a 4-wire capture [default: the one channel named In, I0
+    /// or IN; without one, the phasor sum of the line currents].
+    #[arg(long, value_name = "COL")]
+    pub neutral: Option<String>,
+    /// How the circuit is connected: single (one voltage, one current), 4-wire (three phases
+    /// and neutral: voltages to neutral) or 3-wire (no neutral: line-to-line voltages, a
+    /// two-element connection) [default: what the channels' names say; lists of three mean
+    /// 4-wire, of two 3-wire].
+    #[arg(long, value_name = "SYSTEM", value_parser = parse_system)]
+    pub system: Option<System>,
     /// Use --voltage and --current even where the header's unit or name says the channel is the
     /// other quantity (a mislabelled export); the output then carries a warning.
     #[arg(long)]

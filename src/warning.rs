@@ -32,6 +32,13 @@ impl fmt::Display for Trace {
 /// Something doubtful about a capture or its results, with advice.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Warning {
+    /// Something found on one phase of a three-phase capture.
+    OnPhase {
+        /// The phase: `a`, `b` or `c`.
+        phase: &'static str,
+        /// What was found there.
+        warning: Box<Warning>,
+    },
     /// The sample interval of the time column varies by more than 1 %.
     TimeJitter {
         /// Largest deviation of one interval from the mean interval, in percent.
@@ -212,6 +219,7 @@ impl Warning {
     /// not in the harmonic model (a spike, a DC step, an interharmonic) moves the crossings.
     pub fn severity(&self) -> Severity {
         match self {
+            Warning::OnPhase { warning, .. } => warning.severity(),
             Warning::PfBelowThreshold { .. } => Severity::Finding,
             Warning::HarmonicsCapped { .. }
             | Warning::ChannelAssumed { .. }
@@ -235,6 +243,9 @@ impl Warning {
     /// fundamental). A verdict that meets one is `inconclusive` with this reason.
     pub fn undermines_verdict(&self) -> Option<String> {
         match self {
+            Warning::OnPhase { phase, warning } => warning
+                .undermines_verdict()
+                .map(|why| format!("phase {phase}: {why}")),
             Warning::Clipping { trace, percent } => Some(format!(
                 "the {trace} trace is clipped ({percent:.1} % of samples on flat tops)"
             )),
@@ -251,6 +262,7 @@ impl Warning {
     /// A short stable code for machines (CSV and JSON consumers filter on it).
     pub fn code(&self) -> &'static str {
         match self {
+            Warning::OnPhase { warning, .. } => warning.code(),
             Warning::TimeJitter { .. } => "time-jitter",
             Warning::RateMismatch { .. } => "rate-mismatch",
             Warning::Clipping { .. } => "clipping",
@@ -273,6 +285,7 @@ impl Warning {
 impl fmt::Display for Warning {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
+            Warning::OnPhase { phase, warning } => write!(f, "phase {phase}: {warning}"),
             Warning::TimeJitter { percent } => write!(
                 f,
                 "sample interval varies by up to {percent:.1} %: the time column is uneven, \

@@ -108,6 +108,8 @@ pub fn resolve_channels(
         LoadOptions {
             voltage: c.voltage.as_deref().map(ChannelSel::parse),
             current: c.current.as_deref().map(ChannelSel::parse),
+            neutral: c.neutral.as_deref().map(ChannelSel::parse),
+            system: c.system,
             rate_hz: c.rate,
             force_channels: c.force_channels,
             secondary_values: c.secondary,

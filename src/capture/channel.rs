@@ -12,11 +12,6 @@
 //! file whose channels cannot be told apart is refused with a list of them and the options to
 //! use. The role model (quantity + phase) is the one a three-phase reading extends.
 
-use super::ChannelSel;
-use super::error::{Ambiguity, LoadErrorKind, WrongRole};
-use crate::warning::{Trace, Warning};
-use std::fmt;
-
 /// What a channel measures.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -32,7 +27,8 @@ pub enum Role {
 }
 
 impl Role {
-    fn as_str(self) -> &'static str {
+    /// The role in words.
+    pub fn as_str(self) -> &'static str {
         match self {
             Role::Time => "time",
             Role::Voltage => "voltage",
@@ -83,6 +79,8 @@ pub struct Channel {
     pub role: Role,
     /// The phase the name gives, if any.
     pub phase: Option<Phase>,
+    /// The two phases a line-to-line voltage's name gives (`Vab` is a to b: `Va − Vb`), if any.
+    pub line: Option<(Phase, Phase)>,
     /// What the cells hold, as far as the first rows show.
     pub content: Content,
 }
@@ -116,14 +114,15 @@ impl Channel {
             (None, None, None) => Role::Unknown,
         };
         // A phase is kept only when the name agrees with the unit's quantity.
-        let phase = by_name.filter(|(r, _)| *r == role).and_then(|(_, p)| p);
+        let tag = by_name.filter(|(r, _)| *r == role).and_then(|(_, p)| p);
         Channel {
             name: name.to_string(),
             column,
             unit,
             unknown_unit,
             role,
-            phase,
+            phase: tag.and_then(Tag::phase),
+            line: tag.and_then(Tag::line),
             content,
         }
     }
@@ -137,6 +136,7 @@ impl Channel {
             unknown_unit: None,
             role: Role::Unknown,
             phase: None,
+            line: None,
             content,
         }
     }
@@ -291,8 +291,41 @@ const CURRENT_WORDS: &[&str] = &[
     "irms",
 ];
 
-/// What a (squashed) name says: `Va` -> voltage of phase a, `IL` -> a current, `time` -> time.
-fn word_role(s: &str) -> Option<(Role, Option<Phase>)> {
+/// What a name says beyond the quantity: one phase, or the two ends of a line-to-line voltage.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Tag {
+    Phase(Phase),
+    Line(Phase, Phase),
+}
+
+impl Tag {
+    fn phase(self) -> Option<Phase> {
+        match self {
+            Tag::Phase(p) => Some(p),
+            Tag::Line(..) => None,
+        }
+    }
+    fn line(self) -> Option<(Phase, Phase)> {
+        match self {
+            Tag::Line(a, b) => Some((a, b)),
+            Tag::Phase(_) => None,
+        }
+    }
+}
+
+/// A phase's letter or number: `a`/`1`/`l1`/`r` are phase a...
+fn phase_word(s: &str) -> Option<Phase> {
+    Some(match s {
+        "a" | "1" | "l1" | "r" => Phase::A,
+        "b" | "2" | "l2" => Phase::B,
+        "c" | "3" | "l3" => Phase::C,
+        _ => return None,
+    })
+}
+
+/// What a (squashed) name says: `Va` -> voltage of phase a, `IL` -> a current, `time` -> time,
+/// `Vcb` -> the voltage from c to b.
+fn word_role(s: &str) -> Option<(Role, Option<Tag>)> {
     if TIME_WORDS.contains(&s) || s.starts_with("time") {
         return Some((Role::Time, None));
     }
@@ -307,31 +340,41 @@ fn word_role(s: &str) -> Option<(Role, Option<Phase>)> {
         Some(b'i') => (Role::Current, &s[1..]),
         _ => return None,
     };
-    let phase = match rest {
+    let tag = match rest {
         "" | "l" | "load" | "line" | "in" | "out" | "ac" | "supply" | "mains" | "ln" => None,
-        "a" | "1" | "l1" | "an" | "1n" | "l1n" | "r" => Some(Phase::A),
-        "b" | "2" | "l2" | "bn" | "2n" | "l2n" => Some(Phase::B),
-        "c" | "3" | "l3" | "cn" | "3n" | "l3n" => Some(Phase::C),
-        "n" | "0" | "nn" => Some(Phase::N),
-        // line-to-line voltages: a voltage of no single phase
-        "ab" | "bc" | "ca" | "ba" | "cb" | "12" | "23" | "31" | "21" | "32" | "13" | "l1l2"
-        | "l2l3" | "l3l1"
-            if role == Role::Voltage =>
-        {
-            None
+        "an" | "1n" | "l1n" => Some(Tag::Phase(Phase::A)),
+        "bn" | "2n" | "l2n" => Some(Tag::Phase(Phase::B)),
+        "cn" | "3n" | "l3n" => Some(Tag::Phase(Phase::C)),
+        "n" | "0" | "nn" => Some(Tag::Phase(Phase::N)),
+        _ => {
+            if let Some(p) = phase_word(rest) {
+                Some(Tag::Phase(p))
+            } else if role == Role::Voltage {
+                // line-to-line voltages: `ab`, `12`, `l1l2`, `cb` (c to b)
+                let split = [(1, 1), (2, 2)].into_iter().find_map(|(x, y)| {
+                    (rest.len() == x + y)
+                        .then(|| Some((phase_word(&rest[..x])?, phase_word(&rest[x..])?)))
+                        .flatten()
+                });
+                match split {
+                    Some((a, b)) if a != b => Some(Tag::Line(a, b)),
+                    _ => return None,
+                }
+            } else {
+                return None;
+            }
         }
-        _ => return None,
     };
-    Some((role, phase))
+    Some((role, tag))
 }
 
 /// What a header name (without its unit) says about the channel: the whole name first
 /// (`V_L1`), else its words (`CH3 Ia`, `PANEL Va`) when those that mean something agree.
-fn name_role(base: &str) -> Option<(Role, Option<Phase>)> {
+fn name_role(base: &str) -> Option<(Role, Option<Tag>)> {
     if let Some(r) = word_role(&squash(base)) {
         return Some(r);
     }
-    let mut found: Option<(Role, Option<Phase>)> = None;
+    let mut found: Option<(Role, Option<Tag>)> = None;
     for word in base
         .split(|c: char| !c.is_alphanumeric())
         .filter(|w| !w.is_empty())
@@ -355,314 +398,12 @@ fn name_role(base: &str) -> Option<(Role, Option<Phase>)> {
     found
 }
 
-/// How a channel came to be chosen; shown in every output.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
-pub enum ChosenBy {
-    /// `--voltage` / `--current`.
-    #[serde(rename = "option")]
-    Option,
-    /// Its unit.
-    #[serde(rename = "unit")]
-    Unit,
-    /// Its name.
-    #[serde(rename = "name")]
-    Name,
-    /// Its phase matches the other channel's (`Va` with `Ia`).
-    #[serde(rename = "phase")]
-    Phase,
-    /// The file has exactly two data channels and nothing tells them apart: first voltage,
-    /// second current.
-    #[serde(rename = "column order")]
-    Order,
-}
-
-impl ChosenBy {
-    /// The words used in the table and report.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            ChosenBy::Option => "option",
-            ChosenBy::Unit => "unit",
-            ChosenBy::Name => "name",
-            ChosenBy::Phase => "phase",
-            ChosenBy::Order => "column order",
-        }
-    }
-}
-
-impl fmt::Display for ChosenBy {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(self.as_str())
-    }
-}
-
-/// The two channels a single-phase analysis uses (0-based indices into the channel list), how
-/// each was chosen, and the notes the choice leaves.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Picked {
-    /// Index of the voltage channel.
-    pub voltage: usize,
-    /// Index of the current channel.
-    pub current: usize,
-    /// How the voltage was chosen.
-    pub voltage_by: ChosenBy,
-    /// How the current was chosen.
-    pub current_by: ChosenBy,
-    /// Notes and warnings about the choice (channels assumed, forced, columns left out).
-    pub warnings: Vec<Warning>,
-}
-
-fn by_of(c: &Channel) -> ChosenBy {
-    if c.unit.is_some() {
-        ChosenBy::Unit
-    } else {
-        ChosenBy::Name
-    }
-}
-
-fn listing(channels: &[&Channel]) -> String {
-    channels
-        .iter()
-        .map(|c| c.describe())
-        .collect::<Vec<_>>()
-        .join(", ")
-}
-
-/// Chooses the voltage and current channels among `channels` (every column of the file, the time
-/// column included, as [`Channel::from_header`] read them).
-///
-/// Explicit choices are found by 1-based column or name and checked: the time column is never a
-/// channel, and a channel whose unit or name says the other quantity is refused unless `force`.
-/// Otherwise the channel's role decides; several candidates are told apart by phase (`Va` goes
-/// with `Ia`); a file of exactly two data channels that nothing tells apart is read first =
-/// voltage, second = current, with a note. Anything else is refused, listing the channels.
-pub(crate) fn pick_channels(
-    channels: &[Channel],
-    voltage: Option<&ChannelSel>,
-    current: Option<&ChannelSel>,
-    force: bool,
-) -> Result<Picked, LoadErrorKind> {
-    let data: Vec<usize> = (0..channels.len())
-        .filter(|&k| channels[k].role != Role::Time && channels[k].content == Content::Numbers)
-        .collect();
-    let mut warnings = Vec::new();
-    let v_sel = voltage
-        .map(|s| find(channels, s, Trace::Voltage, force, &mut warnings))
-        .transpose()?;
-    let i_sel = current
-        .map(|s| find(channels, s, Trace::Current, force, &mut warnings))
-        .transpose()?;
-    let hint = |v: Option<usize>, i: Option<usize>| {
-        let num = |k: Option<usize>, fallback: &str| {
-            k.map_or(fallback.to_string(), |k| channels[k].column.to_string())
-        };
-        let counts = if channels.iter().any(|c| c.role == Role::Time) {
-            "numbers count the file's columns, the time column too"
-        } else {
-            "numbers count the file's columns or WAV channels from 1"
-        };
-        format!(
-            "--voltage {} --current {} ({counts})",
-            num(v, "N"),
-            num(i, "N")
-        )
-    };
-    let with_role = |role: Role, not: Option<usize>| -> Vec<usize> {
-        data.iter()
-            .copied()
-            .filter(|&k| channels[k].role == role && Some(k) != not)
-            .collect()
-    };
-    // Candidates by role, each alone or told apart by phase.
-    let mut v = v_sel.map(|k| (k, ChosenBy::Option));
-    let mut i = i_sel.map(|k| (k, ChosenBy::Option));
-    let vs = with_role(Role::Voltage, i.map(|x| x.0));
-    let is = with_role(Role::Current, v.map(|x| x.0));
-    if v.is_none() && vs.len() == 1 {
-        v = Some((vs[0], by_of(&channels[vs[0]])));
-    }
-    if i.is_none() && is.len() == 1 {
-        i = Some((is[0], by_of(&channels[is[0]])));
-    }
-    let same_phase = |cands: &[usize], other: Option<(usize, ChosenBy)>| -> Option<usize> {
-        let p = channels[other?.0].phase?;
-        let m: Vec<usize> = cands
-            .iter()
-            .copied()
-            .filter(|&k| channels[k].phase == Some(p))
-            .collect();
-        (m.len() == 1).then(|| m[0])
-    };
-    if v.is_none() && vs.len() > 1 {
-        v = same_phase(&vs, i).map(|k| (k, ChosenBy::Phase));
-    }
-    if i.is_none() && is.len() > 1 {
-        i = same_phase(&is, v).map(|k| (k, ChosenBy::Phase));
-    }
-    // Several of a kind and nothing to choose by: refuse, listing them.
-    for (what, got, cands) in [("voltage", v, &vs), ("current", i, &is)] {
-        if got.is_none() && cands.len() > 1 {
-            let list: Vec<&Channel> = cands.iter().map(|&k| &channels[k]).collect();
-            return Err(LoadErrorKind::Ambiguous(Box::new(Ambiguity {
-                what,
-                why: format!("{} channels are {what}s", cands.len()),
-                channels: listing(&list),
-                hint: hint(
-                    v.map(|x| x.0).or((what == "voltage").then_some(cands[0])),
-                    i.map(|x| x.0).or((what == "current").then_some(cands[0])),
-                ),
-            })));
-        }
-    }
-    // What is left: data channels nothing says anything about.
-    let unknown: Vec<usize> = data
-        .iter()
-        .copied()
-        .filter(|&k| channels[k].role == Role::Unknown && channels[k].unknown_unit.is_none())
-        .filter(|&k| Some(k) != v.map(|x| x.0) && Some(k) != i.map(|x| x.0))
-        .collect();
-    // A file of exactly two data channels, the missing ones among them and unnamed: take them
-    // in column order, with a note.
-    if data.len() == 2 && (v.is_none() || i.is_none()) {
-        let mut rest = unknown.iter().copied();
-        let mut assumed = Vec::new();
-        for (slot, trace) in [(&mut v, Trace::Voltage), (&mut i, Trace::Current)] {
-            if slot.is_none()
-                && let Some(k) = rest.next()
-            {
-                *slot = Some((k, ChosenBy::Order));
-                let c = &channels[k];
-                assumed.push(format!("'{}' (column {}) as the {trace}", c.name, c.column));
-            }
-        }
-        if !assumed.is_empty() {
-            warnings.push(Warning::ChannelAssumed { channels: assumed });
-        }
-    }
-    let (Some((vk, vby)), Some((ik, iby))) = (v, i) else {
-        let what = match (v, i) {
-            (None, None) => "voltage and the current",
-            (None, Some(_)) => "voltage",
-            _ => "current",
-        };
-        if data.len() < 2 {
-            return Err(LoadErrorKind::OneChannel);
-        }
-        let list: Vec<&Channel> = data.iter().map(|&k| &channels[k]).collect();
-        return Err(LoadErrorKind::Ambiguous(Box::new(Ambiguity {
-            what,
-            why: "no name or unit says which channel it is".into(),
-            channels: listing(&list),
-            hint: hint(v.map(|x| x.0), i.map(|x| x.0)),
-        })));
-    };
-    if vk == ik {
-        return Err(LoadErrorKind::SameChannel {
-            index: channels[vk].column,
-        });
-    }
-    // Every other column is left out, with a note naming them (the time column is not).
-    let time = channels.iter().position(|c| c.role == Role::Time);
-    let left: Vec<String> = (0..channels.len())
-        .filter(|&k| k != vk && k != ik && Some(k) != time)
-        .map(|k| {
-            let c = &channels[k];
-            match c.content {
-                Content::Numbers => format!("'{}' (column {})", c.name, c.column),
-                Content::Blank => format!("'{}' (column {}, blank)", c.name, c.column),
-                Content::Text => format!("'{}' (column {}, not numbers)", c.name, c.column),
-            }
-        })
-        .collect();
-    if !left.is_empty() {
-        warnings.push(Warning::ColumnsIgnored { columns: left });
-    }
-    Ok(Picked {
-        voltage: vk,
-        current: ik,
-        voltage_by: vby,
-        current_by: iby,
-        warnings,
-    })
-}
-
-/// Finds an explicitly chosen channel and checks it may serve as `trace`.
-fn find(
-    channels: &[Channel],
-    sel: &ChannelSel,
-    trace: Trace,
-    force: bool,
-    warnings: &mut Vec<Warning>,
-) -> Result<usize, LoadErrorKind> {
-    let what = match trace {
-        Trace::Voltage => "voltage",
-        Trace::Current => "current",
-    };
-    let names = || channels.iter().map(|c| c.name.clone()).collect::<Vec<_>>();
-    let k = match sel {
-        ChannelSel::Index(n) => {
-            if *n == 0 || *n > channels.len() {
-                return Err(LoadErrorKind::NoSuchChannel {
-                    what,
-                    sel: sel.clone(),
-                    available: names(),
-                });
-            }
-            n - 1
-        }
-        ChannelSel::Name(want) => {
-            let w = want.to_lowercase();
-            let wb = super::base_name(want);
-            channels
-                .iter()
-                .position(|c| c.name.to_lowercase() == w)
-                .or_else(|| {
-                    channels
-                        .iter()
-                        .position(|c| super::base_name(&c.name) == wb)
-                })
-                .ok_or_else(|| LoadErrorKind::NoSuchChannel {
-                    what,
-                    sel: sel.clone(),
-                    available: names(),
-                })?
-        }
-    };
-    let c = &channels[k];
-    if c.role == Role::Time {
-        return Err(LoadErrorKind::TimeColumnSelected {
-            what,
-            index: c.column,
-        });
-    }
-    let other = match trace {
-        Trace::Voltage => Role::Current,
-        Trace::Current => Role::Voltage,
-    };
-    if c.role == other {
-        let by = match &c.unit {
-            Some(u) => format!("its unit ({})", u.symbol),
-            None => "its name".to_string(),
-        };
-        if !force {
-            return Err(LoadErrorKind::WrongRole(Box::new(WrongRole {
-                what,
-                channel: c.describe(),
-                is: other.as_str(),
-                by,
-            })));
-        }
-        warnings.push(Warning::ChannelForced {
-            trace,
-            channel: format!("'{}' (column {})", c.name, c.column),
-            is: format!("a {} by {by}", other.as_str()),
-        });
-    }
-    Ok(k)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::capture::pick::{ChosenBy, pick_channels};
+    use crate::capture::{ChannelSel, LoadErrorKind};
+    use crate::warning::Warning;
 
     fn header(names: &[&str]) -> Vec<Channel> {
         names

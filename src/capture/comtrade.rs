@@ -15,7 +15,7 @@
 
 use super::channel::{Channel, Content, Phase, Role, parse_unit};
 use super::error::LoadErrorKind;
-use super::{Capture, LoadError, LoadOptions, SourceFormat, Trace};
+use super::{Capture, CaptureHead, LoadError, LoadOptions, SourceFormat};
 use crate::warning::Warning;
 use std::fs::File;
 use std::io::{BufRead, BufReader, Read};
@@ -581,15 +581,10 @@ pub(crate) fn load(cfg_path: &Path, opts: &LoadOptions) -> Result<Capture, LoadE
         .enumerate()
         .map(|(k, c)| channel_of(k, c))
         .collect();
-    let chosen = super::pick_channels(
-        &channels,
-        opts.voltage.as_ref(),
-        opts.current.as_ref(),
-        opts.force_channels,
-    )
-    .map_err(|kind| LoadError::new(cfg_path, None, kind))?;
-    let (vi, ii) = (chosen.voltage, chosen.current);
-    let (mut columns, stamps) = read_dat(&dat, &cfg, &[vi, ii])?;
+    let set = super::pick_set(&channels, super::selection(opts))
+        .map_err(|kind| LoadError::new(cfg_path, None, kind))?;
+    let wanted = set.wanted();
+    let (columns, stamps) = read_dat(&dat, &cfg, &wanted)?;
     let (file_rate, mut warnings) = record_rate(&cfg, &stamps)
         .map_err(|m| LoadError::new(cfg_path, None, LoadErrorKind::BadRecord(m)))?;
     let sample_rate_hz = match opts.rate_hz {
@@ -604,25 +599,22 @@ pub(crate) fn load(cfg_path: &Path, opts: &LoadOptions) -> Result<Capture, LoadE
         }
         None => file_rate,
     };
-    warnings.extend(chosen.warnings);
-    let current = columns.pop().unwrap_or_default();
-    let voltage = columns.pop().unwrap_or_default();
-    let trace = |k: usize, chosen_by, raw: Vec<f64>| {
-        let c = &cfg.analog[k];
-        Trace {
-            channel: channels[k].clone(),
-            chosen_by,
-            samples: raw
-                .into_iter()
+    let columns: Vec<Vec<f64>> = columns
+        .into_iter()
+        .zip(&wanted)
+        .map(|(raw, &k)| {
+            let c = &cfg.analog[k];
+            raw.into_iter()
                 .map(|x| c.value(x, opts.secondary_values))
-                .collect(),
-            full_scale: None,
-        }
-    };
+                .collect()
+        })
+        .collect();
     // a channel's skew is when its sample was taken after the time stamp, so it holds the signal
     // from later, not a delay: the current lags the voltage by their skews' difference negated
+    // (the first phase's pair; recorders give every channel of a phase set the same skew)
+    let (vi, ii) = (set.voltages[0].index, set.currents[0].index);
     let skew_s = cfg.analog[vi].skew_s - cfg.analog[ii].skew_s;
-    Ok(Capture {
+    let head = CaptureHead {
         path: cfg_path.to_path_buf(),
         format: SourceFormat::Comtrade {
             revision: cfg.revision,
@@ -631,12 +623,11 @@ pub(crate) fn load(cfg_path: &Path, opts: &LoadOptions) -> Result<Capture, LoadE
             digital: cfg.digital.len(),
         },
         sample_rate_hz,
-        voltage: trace(vi, chosen.voltage_by, voltage),
-        current: trace(ii, chosen.current_by, current),
-        time: None,
         skew_s,
+        time: None,
         warnings,
-    })
+    };
+    Ok(Capture::assemble(head, &channels, &set, columns, None))
 }
 
 #[cfg(test)]

@@ -11,7 +11,7 @@
 //! after parsing: nothing is added per cell.
 
 use super::channel::{Channel, Content, PLAIN_TIME_WORDS, Role, SECONDS_WORDS};
-use super::{Capture, LoadError, LoadErrorKind, LoadOptions, SourceFormat, Trace, pick_channels};
+use super::{Capture, CaptureHead, LoadError, LoadErrorKind, LoadOptions, SourceFormat, pick_set};
 use crate::warning::Warning;
 use std::fs::File;
 use std::io::{BufReader, Read, Seek, SeekFrom};
@@ -413,6 +413,10 @@ impl Tuning {
 /// Most threads one file is parsed with.
 const MAX_PARTS: usize = 8;
 
+/// Most data columns one capture reads (an 8-channel scope with a spare, or a power analyser's
+/// Va Vb Vc Ia Ib Ic In).
+pub(crate) const MAX_COLUMNS: usize = 16;
+
 /// Which columns a row must have and where their values go.
 #[derive(Debug, Clone)]
 struct RowSpec {
@@ -421,46 +425,57 @@ struct RowSpec {
     /// Fields a row needs (up to the last used column).
     need: usize,
     time_col: Option<usize>,
-    vc: usize,
-    ic: usize,
-    /// For each of the first `need` columns: `Some(k)` when it is the k-th distinct column used
-    /// (k < 3), `None` when skipped.
+    /// The data columns wanted, in the order the caller wants them.
+    cols: Vec<usize>,
+    /// For each of the first `need` columns: `Some(k)` when it is the k-th distinct column used,
+    /// `None` when skipped.
     plan: Vec<Option<u8>>,
-    /// Which of the used columns holds time, voltage and current (time: 0 when there is none).
-    pick: [u8; 3],
+    /// Which of the used columns holds time (when there is one).
+    pick_time: Option<u8>,
+    /// Which of the used columns holds each wanted data column.
+    pick: Vec<u8>,
 }
 
-/// The two channels and the time-column check, as read from the data region.
+/// The wanted channels and the time-column check, as read from the data region.
 #[derive(Debug, PartialEq)]
 struct Columns {
-    v: Vec<f64>,
-    i: Vec<f64>,
+    /// One column of samples per wanted channel, in the order asked for.
+    data: Vec<Vec<f64>>,
     time: TimeCheck,
 }
 
-/// What a row must hold, given the layout and the chosen voltage and current columns.
-fn row_spec(layout: &Layout, vc: usize, ic: usize) -> RowSpec {
-    let need = vc.max(ic).max(layout.time_col.unwrap_or(0)) + 1;
-    let mut used: Vec<usize> = [layout.time_col, Some(vc), Some(ic)]
-        .into_iter()
-        .flatten()
-        .collect();
+impl Columns {
+    fn rows(&self) -> usize {
+        self.data.first().map_or(0, Vec::len)
+    }
+}
+
+/// What a row must hold, given the layout and the wanted data columns (0-based, at most
+/// [`MAX_COLUMNS`]).
+fn row_spec(layout: &Layout, cols: &[usize]) -> RowSpec {
+    let need = cols
+        .iter()
+        .copied()
+        .chain(layout.time_col)
+        .max()
+        .unwrap_or(0)
+        + 1;
+    let mut used: Vec<usize> = cols.iter().copied().chain(layout.time_col).collect();
     used.sort_unstable();
     used.dedup();
     let plan = (0..need)
         .map(|c| used.iter().position(|&u| u == c).map(|k| k as u8))
         .collect();
     let ordinal = |c: usize| used.iter().position(|&u| u == c).unwrap_or(0) as u8;
-    let pick = [layout.time_col.map_or(0, ordinal), ordinal(vc), ordinal(ic)];
     RowSpec {
         delimiter: layout.delimiter,
         decimal_comma: layout.decimal_comma,
         need,
         time_col: layout.time_col,
-        vc,
-        ic,
+        cols: cols.to_vec(),
         plan,
-        pick,
+        pick_time: layout.time_col.map(ordinal),
+        pick: cols.iter().map(|&c| ordinal(c)).collect(),
     }
 }
 
@@ -492,15 +507,19 @@ pub(crate) fn load_with(
     let layout = sniff(&sample[bom..], at_eof).map_err(|k| err(None, k))?;
     drop(sample);
 
-    let picked = pick_channels(
-        &layout.channels,
-        opts.voltage.as_ref(),
-        opts.current.as_ref(),
-        opts.force_channels,
-    )
-    .map_err(|k| err(layout.header_line, k))?;
-    let (vc, ic) = (picked.voltage, picked.current);
-    let spec = row_spec(&layout, vc, ic);
+    let set = pick_set(&layout.channels, super::selection(opts))
+        .map_err(|k| err(layout.header_line, k))?;
+    let wanted = set.wanted();
+    if wanted.len() > MAX_COLUMNS {
+        return Err(err(
+            layout.header_line,
+            LoadErrorKind::BadChannelSet(format!(
+                "{} channels chosen; at most {MAX_COLUMNS} are read",
+                wanted.len()
+            )),
+        ));
+    }
+    let spec = row_spec(&layout, &wanted);
     let data_start = bom as u64 + layout.data_offset;
 
     // The fast reader takes every well-formed file; anything it does not vouch for (a quote, a
@@ -512,12 +531,12 @@ pub(crate) fn load_with(
         Some(cols) => cols,
         None => read_with_csv(file, path, data_start, file_len, &spec, &layout)?,
     };
-    let Columns { v, i, time } = cols;
-    if v.len() < 2 {
-        return Err(err(None, LoadErrorKind::TooShort(v.len())));
+    if cols.rows() < 2 {
+        return Err(err(None, LoadErrorKind::TooShort(cols.rows())));
     }
+    let Columns { data, time } = cols;
 
-    let mut warnings = picked.warnings;
+    let mut warnings = Vec::new();
     let time_channel = layout.time_col.map(|tc| layout.channels[tc].clone());
     let file_rate = if let Some(tc) = &time_channel {
         // Interval jitter is judged beyond the timestamps' own resolution: two roundings to
@@ -561,29 +580,18 @@ pub(crate) fn load_with(
     if !(sample_rate_hz.is_finite() && sample_rate_hz > 0.0) {
         return Err(err(None, LoadErrorKind::BadRate(sample_rate_hz)));
     }
-    Ok(Capture {
+    let head = CaptureHead {
         path: path.to_path_buf(),
         format: SourceFormat::Csv {
             delimiter: layout.delimiter,
             decimal_comma: layout.decimal_comma,
         },
         sample_rate_hz,
-        voltage: Trace {
-            channel: layout.channels[vc].clone(),
-            chosen_by: picked.voltage_by,
-            samples: v,
-            full_scale: None,
-        },
-        current: Trace {
-            channel: layout.channels[ic].clone(),
-            chosen_by: picked.current_by,
-            samples: i,
-            full_scale: None,
-        },
-        time: time_channel,
         skew_s: 0.0,
+        time: time_channel,
         warnings,
-    })
+    };
+    Ok(Capture::assemble(head, &layout.channels, &set, data, None))
 }
 
 /// Rows expected in `bytes` of data, with a little margin, to pre-size the columns.
@@ -612,8 +620,11 @@ fn read_with_csv(
         .from_reader(BufReader::with_capacity(256 * 1024, file));
 
     let est_rows = estimated_rows(file_len, layout);
-    let mut v = Vec::with_capacity(est_rows);
-    let mut i = Vec::with_capacity(est_rows);
+    let mut data: Vec<Vec<f64>> = spec
+        .cols
+        .iter()
+        .map(|_| Vec::with_capacity(est_rows))
+        .collect();
     let need = spec.need;
     let mut time = TimeCheck::default();
     let mut rec = ::csv::ByteRecord::new();
@@ -666,10 +677,11 @@ fn read_with_csv(
             let t = cell(tc)?;
             time.push(t).map_err(|k| err(line_of(&rec), k))?;
         }
-        v.push(cell(spec.vc)?);
-        i.push(cell(spec.ic)?);
+        for (col, &c) in data.iter_mut().zip(&spec.cols) {
+            col.push(cell(c)?);
+        }
     }
-    Ok(Columns { v, i, time })
+    Ok(Columns { data, time })
 }
 
 /// Streaming check of a time column: strictly increasing, with its interval spread.
@@ -967,9 +979,8 @@ mod tests {
             0
         };
         let layout = sniff(&sample[bom..], sample.len() as u64 >= len).unwrap();
-        let p = pick_channels(&layout.channels, None, None, false).unwrap();
-        let (vc, ic) = (p.voltage, p.current);
-        let spec = row_spec(&layout, vc, ic);
+        let set = pick_set(&layout.channels, Default::default()).unwrap();
+        let spec = row_spec(&layout, &set.wanted());
         let start = bom as u64 + layout.data_offset;
         let fast = fast::read(&mut file, path, start, len, &spec, &layout, tuning);
         let reference = read_with_csv(File::open(path).unwrap(), path, start, len, &spec, &layout);
@@ -1016,7 +1027,7 @@ mod tests {
                 for (parts, block) in TUNINGS {
                     let (fast, reference) = both_readers(f.path(), tiny(parts, block));
                     let reference = reference.unwrap();
-                    assert_eq!(reference.v.len(), 500);
+                    assert_eq!(reference.rows(), 500);
                     assert_eq!(
                         fast.as_ref(),
                         Some(&reference),
@@ -1044,7 +1055,7 @@ mod tests {
         for (parts, block) in TUNINGS {
             let (fast, reference) = both_readers(f.path(), tiny(parts, block));
             let reference = reference.unwrap();
-            assert_eq!((reference.v[3], reference.i[3]), (6.25, 3.5));
+            assert_eq!((reference.data[0][3], reference.data[1][3]), (6.25, 3.5));
             assert_eq!(
                 fast.as_ref(),
                 Some(&reference),
@@ -1071,10 +1082,10 @@ mod tests {
                 "{parts} parts: the fast reader must give up on quotes"
             );
             let reference = reference.unwrap();
-            assert_eq!(reference.v[150], 300.0);
+            assert_eq!(reference.data[0][150], 300.0);
             let c = load_with(f.path(), &LoadOptions::default(), tiny(parts, block)).unwrap();
-            assert_eq!(c.voltage.samples, reference.v);
-            assert_eq!(c.current.samples, reference.i);
+            assert_eq!(c.voltage().samples, reference.data[0]);
+            assert_eq!(c.current().samples, reference.data[1]);
             assert_eq!(c.sample_rate_hz, 1.0);
         }
     }
@@ -1092,7 +1103,7 @@ mod tests {
         for (parts, block) in TUNINGS {
             let (fast, reference) = both_readers(f.path(), tiny(parts, block));
             assert!(fast.is_none(), "{parts} parts, block {block}");
-            assert_eq!(reference.unwrap().v.len(), 100);
+            assert_eq!(reference.unwrap().rows(), 100);
         }
     }
 
@@ -1216,8 +1227,13 @@ mod tests {
         for (parts, block) in [(1, 4096), (2, 4096), (3, 999), (5, 1 << 16)] {
             let (fast, reference) = both_readers(f.path(), tiny(parts, block));
             let reference = reference.unwrap();
-            assert_eq!(reference.v.len(), k);
-            assert!(reference.v.iter().enumerate().all(|(n, &x)| x == n as f64));
+            assert_eq!(reference.rows(), k);
+            assert!(
+                reference.data[0]
+                    .iter()
+                    .enumerate()
+                    .all(|(n, &x)| x == n as f64)
+            );
             assert_eq!(
                 fast.as_ref(),
                 Some(&reference),

@@ -93,8 +93,12 @@ pub enum LoadErrorKind {
     /// A channel chosen as one quantity is the other by its unit or name.
     #[error("{0}")]
     WrongRole(Box<WrongRole>),
-    /// Voltage and current point at the same channel.
-    #[error("voltage and current are both channel {index}")]
+    /// The channel options do not describe a capture (a list for a single-phase capture, a
+    /// neutral for a 3-wire one).
+    #[error("{0}")]
+    BadChannelSet(String),
+    /// Two roles point at the same channel.
+    #[error("column {index} is chosen twice (as a voltage and a current, or twice in a list)")]
     SameChannel {
         /// The 1-based channel.
         index: usize,

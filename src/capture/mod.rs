@@ -12,32 +12,58 @@ mod channel;
 mod comtrade;
 mod csv;
 mod error;
+mod pick;
 mod wav;
 
-pub(crate) use channel::pick_channels;
-pub use channel::{Channel, ChosenBy, Content, Phase, Role, Unit, parse_unit, split_header};
+pub use channel::{Channel, Content, Phase, Role, Unit, parse_unit, split_header};
 pub use error::{Ambiguity, LoadError, LoadErrorKind, WrongRole};
+pub(crate) use pick::{ChannelSet, pick_set};
+pub use pick::{Choice, ChosenBy, Place, Selection, System};
 
 use crate::warning::Warning;
 use std::fmt;
 use std::io::Read;
 use std::path::{Path, PathBuf};
 
-/// How a channel is chosen: by 1-based index or by (case-insensitive) name.
+/// How a channel is chosen: by 1-based index or by (case-insensitive) name; a comma-separated
+/// list chooses the channels of three phases in phase order.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum ChannelSel {
     /// 1-based column of the file (the time column counts) or WAV channel number.
     Index(usize),
     /// A header name; units in brackets are ignored ("Voltage (V)" matches "voltage").
     Name(String),
+    /// Several channels, in phase order a, b, c (`Va,Vb,Vc`, `2,3,4`, `Vab,Vcb`).
+    List(Vec<ChannelSel>),
 }
 
 impl ChannelSel {
-    /// Reads what was typed: a whole number is an index, anything else a name.
+    /// Reads what was typed: a whole number is an index, anything else a name; commas separate
+    /// the channels of a list (names may hold spaces: `LINE UA,LINE UB,LINE UC`).
     pub fn parse(text: &str) -> Self {
-        match text.trim().parse::<usize>() {
+        let one = |t: &str| match t.trim().parse::<usize>() {
             Ok(n) => ChannelSel::Index(n),
-            Err(_) => ChannelSel::Name(text.trim().to_string()),
+            Err(_) => ChannelSel::Name(t.trim().to_string()),
+        };
+        if text.contains(',') {
+            let items: Vec<ChannelSel> = text
+                .split(',')
+                .filter(|t| !t.trim().is_empty())
+                .map(one)
+                .collect();
+            if items.len() > 1 {
+                return ChannelSel::List(items);
+            }
+            return items.into_iter().next().unwrap_or_else(|| one(text));
+        }
+        one(text)
+    }
+
+    /// The channels chosen: the list's items, or this one.
+    pub fn items(&self) -> &[ChannelSel] {
+        match self {
+            ChannelSel::List(items) => items,
+            one => std::slice::from_ref(one),
         }
     }
 }
@@ -47,6 +73,10 @@ impl fmt::Display for ChannelSel {
         match self {
             ChannelSel::Index(n) => write!(f, "{n}"),
             ChannelSel::Name(s) => write!(f, "'{s}'"),
+            ChannelSel::List(items) => {
+                let parts: Vec<String> = items.iter().map(|s| s.to_string()).collect();
+                f.write_str(&parts.join(","))
+            }
         }
     }
 }
@@ -59,6 +89,11 @@ pub struct LoadOptions {
     pub voltage: Option<ChannelSel>,
     /// The current channel; default: the one channel in amperes or named like a current.
     pub current: Option<ChannelSel>,
+    /// The neutral current of a 4-wire capture; default: the one channel named `In`/`I0`.
+    pub neutral: Option<ChannelSel>,
+    /// The connection; default: what the channels' names say (a complete phase set is
+    /// three-phase), else single-phase.
+    pub system: Option<System>,
     /// Sample rate in Hz, for files without a time base (or to override it).
     pub rate_hz: Option<f64>,
     /// Use the chosen channels even when their unit or name says the other quantity.
@@ -145,6 +180,8 @@ pub struct Trace {
     pub channel: Channel,
     /// How it was chosen.
     pub chosen_by: ChosenBy,
+    /// Where it sits in the circuit (the one trace of a single-phase capture, a phase, a line).
+    pub place: Place,
     /// Samples, in the file's units (WAV: full scale = 1.0); [`Channel::scale`] turns them into
     /// volts or amperes ([`crate::condition::scale`] applies it).
     pub samples: Vec<f64>,
@@ -159,6 +196,7 @@ impl Trace {
         Trace {
             channel: Channel::unnamed(name.to_string(), column, Content::Numbers),
             chosen_by: ChosenBy::Option,
+            place: Place::Single,
             samples,
             full_scale: None,
         }
@@ -212,7 +250,9 @@ impl UsedChannels {
     }
 }
 
-/// A loaded capture: two traces on one uniform time base.
+/// A loaded capture: the traces of one circuit on one uniform time base. A single-phase capture
+/// has one voltage and one current; a three-phase one the voltages and currents of its phases
+/// ([`System`] says which and how they are measured).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Capture {
     /// The file it came from.
@@ -221,11 +261,16 @@ pub struct Capture {
     pub format: SourceFormat,
     /// Samples per second.
     pub sample_rate_hz: f64,
-    /// The voltage trace.
-    pub voltage: Trace,
-    /// The current trace.
-    pub current: Trace,
-    /// Delay of the current channel's samples behind the voltage channel's that the file itself
+    /// The connection.
+    pub system: System,
+    /// The voltage traces: one (single-phase), a, b and c to neutral (4-wire), or two or three
+    /// line-to-line voltages (3-wire; each trace's [`Trace::place`] names its line).
+    pub voltages: Vec<Trace>,
+    /// The current traces: one, or the line currents (3-wire: a and c at least).
+    pub currents: Vec<Trace>,
+    /// A measured neutral current (4-wire).
+    pub neutral: Option<Trace>,
+    /// Delay of the current channels' samples behind the voltage channels' that the file itself
     /// declares (a COMTRADE record's per-channel skews), seconds; added to `--skew`.
     pub skew_s: f64,
     /// The time column the rate came from (CSV), with its unit.
@@ -235,25 +280,103 @@ pub struct Capture {
 }
 
 impl Capture {
-    /// Number of samples per trace.
-    pub fn len(&self) -> usize {
-        self.voltage.samples.len()
+    /// Puts a capture together from the channels chosen and their samples, in the order
+    /// [`ChannelSet::wanted`] lists them.
+    pub(crate) fn assemble(
+        head: CaptureHead,
+        channels: &[Channel],
+        set: &ChannelSet,
+        mut columns: Vec<Vec<f64>>,
+        full_scale: Option<f64>,
+    ) -> Capture {
+        columns.truncate(set.wanted().len());
+        let mut cols = columns.into_iter();
+        let mut trace = |c: &Choice| Trace {
+            channel: channels[c.index].clone(),
+            chosen_by: c.by,
+            place: c.place,
+            samples: cols.next().unwrap_or_default(),
+            full_scale,
+        };
+        let voltages = set.voltages.iter().map(&mut trace).collect();
+        let currents = set.currents.iter().map(&mut trace).collect();
+        let neutral = set.neutral.as_ref().map(&mut trace);
+        let mut warnings = set.warnings.clone();
+        warnings.extend(head.warnings);
+        Capture {
+            path: head.path,
+            format: head.format,
+            sample_rate_hz: head.sample_rate_hz,
+            system: set.system,
+            voltages,
+            currents,
+            neutral,
+            skew_s: head.skew_s,
+            time: head.time,
+            warnings,
+        }
     }
 
-    /// The channels used, without their samples.
+    /// Number of samples per trace.
+    pub fn len(&self) -> usize {
+        self.voltages.first().map_or(0, |t| t.samples.len())
+    }
+
+    /// The first (for a single-phase capture: the) voltage trace.
+    pub fn voltage(&self) -> &Trace {
+        &self.voltages[0]
+    }
+
+    /// The first (for a single-phase capture: the) current trace.
+    pub fn current(&self) -> &Trace {
+        &self.currents[0]
+    }
+
+    /// Every trace, voltages first, then currents and the neutral.
+    pub fn traces(&self) -> impl Iterator<Item = &Trace> {
+        self.voltages
+            .iter()
+            .chain(&self.currents)
+            .chain(&self.neutral)
+    }
+
+    /// The channels used, without their samples (single-phase: the pair; three-phase: the first
+    /// phase's, see [`crate::analysis::PhaseAnalysis::channels`] for each phase).
     pub fn used_channels(&self) -> UsedChannels {
         UsedChannels {
-            voltage: self.voltage.channel.clone(),
-            voltage_by: self.voltage.chosen_by,
-            current: self.current.channel.clone(),
-            current_by: self.current.chosen_by,
+            voltage: self.voltage().channel.clone(),
+            voltage_by: self.voltage().chosen_by,
+            current: self.current().channel.clone(),
+            current_by: self.current().chosen_by,
             time: self.time.clone(),
         }
     }
 
     /// True when the capture holds no samples.
     pub fn is_empty(&self) -> bool {
-        self.voltage.samples.is_empty()
+        self.len() == 0
+    }
+}
+
+/// What a reader knows of a capture besides its traces.
+#[derive(Debug, Clone)]
+pub(crate) struct CaptureHead {
+    pub path: PathBuf,
+    pub format: SourceFormat,
+    pub sample_rate_hz: f64,
+    pub skew_s: f64,
+    pub time: Option<Channel>,
+    pub warnings: Vec<Warning>,
+}
+
+/// The channel options of `opts` as the picker takes them.
+pub(crate) fn selection(opts: &LoadOptions) -> Selection<'_> {
+    Selection {
+        voltage: opts.voltage.as_ref(),
+        current: opts.current.as_ref(),
+        neutral: opts.neutral.as_ref(),
+        system: opts.system,
+        force: opts.force_channels,
     }
 }
 

@@ -22,7 +22,7 @@
 mod riff;
 
 use super::{
-    Capture, Channel, Content, LoadError, LoadErrorKind, LoadOptions, SourceFormat, Trace,
+    Capture, CaptureHead, Channel, Content, LoadError, LoadErrorKind, LoadOptions, SourceFormat,
 };
 use crate::warning::Warning;
 use riff::{Encoding, WavHeader};
@@ -36,8 +36,8 @@ const BUF_BYTES: usize = 1 << 18;
 /// Relative difference between a given rate and the file's rate that counts as a mismatch.
 const RATE_TOLERANCE: f64 = 1e-9;
 
-/// The voltage and current samples, in that order.
-type Pair = (Vec<f64>, Vec<f64>);
+/// The samples of the chosen channels, in the order asked for.
+type Pair = Vec<Vec<f64>>;
 
 /// Which code reads the samples (tests read with `hound` too, to compare).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -73,44 +73,30 @@ fn load_with(
     let channels: Vec<Channel> = (1..=usize::from(h.channels))
         .map(|n| Channel::unnamed(format!("channel {n}"), n, Content::Numbers))
         .collect();
-    let chosen = super::pick_channels(
-        &channels,
-        opts.voltage.as_ref(),
-        opts.current.as_ref(),
-        opts.force_channels,
-    )?;
-    let (vi, ii) = (chosen.voltage, chosen.current);
-    let (sample_rate_hz, mut warnings) = sample_rate(h.rate_hz, opts.rate_hz)?;
-    warnings.extend(chosen.warnings);
+    let set = super::pick_set(&channels, super::selection(opts))?;
+    let (sample_rate_hz, warnings) = sample_rate(h.rate_hz, opts.rate_hz)?;
     let frames = frame_count(&h, file_len)?;
 
     let pick = Picked {
         frames,
         block: usize::from(h.block_align),
-        voltage: vi,
-        current: ii,
+        wanted: set.wanted(),
     };
     let from_hound = match reader {
         #[cfg(test)]
         SampleReader::Hound if hound_reads(&h) => read_with_hound(path, &h, &pick)?,
         _ => None,
     };
-    let (voltage, current) = match from_hound {
+    let columns = match from_hound {
         Some(traces) => traces,
         None => read_own(&mut r, h.encoding, &pick)?,
     };
     if let Encoding::Float { .. } = h.encoding {
-        check_finite(&voltage, vi)?;
-        check_finite(&current, ii)?;
+        for (samples, &k) in columns.iter().zip(&pick.wanted) {
+            check_finite(samples, k)?;
+        }
     }
-
-    let trace = |index: usize, chosen_by, samples: Vec<f64>| Trace {
-        channel: channels[index].clone(),
-        chosen_by,
-        samples,
-        full_scale: Some(1.0),
-    };
-    Ok(Capture {
+    let head = CaptureHead {
         path: path.to_path_buf(),
         format: SourceFormat::Wav {
             bits: h.encoding.bits(),
@@ -118,12 +104,11 @@ fn load_with(
             channels: h.channels,
         },
         sample_rate_hz,
-        voltage: trace(vi, chosen.voltage_by, voltage),
-        current: trace(ii, chosen.current_by, current),
-        time: None,
         skew_s: 0.0,
+        time: None,
         warnings,
-    })
+    };
+    Ok(Capture::assemble(head, &channels, &set, columns, Some(1.0)))
 }
 
 /// The header's rate, or the given one with a warning when they differ.
@@ -170,12 +155,11 @@ fn frame_count(h: &WavHeader, file_len: u64) -> Result<u64, LoadErrorKind> {
     Ok(expected)
 }
 
-/// What to read: how many frames, their size, and which two channels to keep.
+/// What to read: how many frames, their size, and which channels to keep (0-based, in order).
 struct Picked {
     frames: u64,
     block: usize,
-    voltage: usize,
-    current: usize,
+    wanted: Vec<usize>,
 }
 
 impl Picked {
@@ -184,7 +168,7 @@ impl Picked {
         let n = usize::try_from(self.frames).map_err(|_| {
             LoadErrorKind::UnsupportedWav("too many samples for this computer".into())
         })?;
-        Ok((Vec::with_capacity(n), Vec::with_capacity(n)))
+        Ok(self.wanted.iter().map(|_| Vec::with_capacity(n)).collect())
     }
 }
 
@@ -241,36 +225,36 @@ fn hound_samples<S>(
     pick: &Picked,
     to_f64: impl Fn(S) -> f64,
 ) -> Result<Pair, LoadErrorKind> {
-    let (mut v, mut i) = pick.vecs()?;
+    let mut out = pick.vecs()?;
     let channels = usize::from(channels);
     let mut c = 0;
+    let mut frame = vec![0.0; channels];
     for s in samples {
         let s = match s {
             Ok(s) => s,
             Err(hound::Error::IoError(_)) => break, // the file ended early: counted below
             Err(e) => return Err(LoadErrorKind::BadWav(e.to_string())),
         };
-        if c == pick.voltage {
-            v.push(to_f64(s));
-        } else if c == pick.current {
-            i.push(to_f64(s));
-        }
+        frame[c] = to_f64(s);
         c += 1;
         if c == channels {
             c = 0;
+            for (col, &k) in out.iter_mut().zip(&pick.wanted) {
+                col.push(frame[k]);
+            }
         }
     }
-    let found = v.len().min(i.len()) as u64;
+    let found = out.iter().map(Vec::len).min().unwrap_or(0) as u64;
     if found < pick.frames {
         return Err(LoadErrorKind::Truncated {
             expected: pick.frames,
             found,
         });
     }
-    Ok((v, i))
+    Ok(out)
 }
 
-/// Reads the two channels with our own reader; `r` stands at the first sample byte.
+/// Reads the chosen channels with our own reader; `r` stands at the first sample byte.
 fn read_own<R: Read>(r: &mut R, encoding: Encoding, pick: &Picked) -> Result<Pair, LoadErrorKind> {
     match encoding {
         Encoding::Int {
@@ -308,32 +292,34 @@ fn read_ints<R: Read>(
     valid_bits: u16,
     decode: impl Fn(&[u8]) -> i32,
 ) -> Result<Pair, LoadErrorKind> {
-    let (mut v, mut i) = pick.vecs()?;
+    let mut out = pick.vecs()?;
     let slot = usize::from(container_bits / 8);
-    let (vo, io) = (pick.voltage * slot, pick.current * slot);
+    let offsets: Vec<usize> = pick.wanted.iter().map(|&k| k * slot).collect();
     // Left-justified reading (the spec's): the whole slot is the sample.
     let scale = (-f64::from(container_bits - 1)).exp2();
     let pad = u32::from(container_bits - valid_bits);
     if pad == 0 {
         for_each_frame(r, pick, |f| {
-            v.push(f64::from(decode(&f[vo..])) * scale);
-            i.push(f64::from(decode(&f[io..])) * scale);
+            for (col, &o) in out.iter_mut().zip(&offsets) {
+                col.push(f64::from(decode(&f[o..])) * scale);
+            }
         })?;
-        return Ok((v, i));
+        return Ok(out);
     }
     let low_mask = (1i32 << pad) - 1;
     let mut low_bits = 0i32;
     let mut fits_low = true;
     let fits = |x: i32| fits_right_justified(x, u32::from(container_bits), u32::from(valid_bits));
     for_each_frame(r, pick, |f| {
-        let (a, b) = (decode(&f[vo..]), decode(&f[io..]));
-        low_bits |= (a | b) & low_mask;
-        fits_low &= fits(a) & fits(b);
-        v.push(f64::from(a) * scale);
-        i.push(f64::from(b) * scale);
+        for (col, &o) in out.iter_mut().zip(&offsets) {
+            let a = decode(&f[o..]);
+            low_bits |= a & low_mask;
+            fits_low &= fits(a);
+            col.push(f64::from(a) * scale);
+        }
     })?;
     if low_bits == 0 {
-        return Ok((v, i));
+        return Ok(out);
     }
     if !fits_low {
         return Err(LoadErrorKind::BadWav(format!(
@@ -345,11 +331,11 @@ fn read_ints<R: Read>(
     let up = (-f64::from(container_bits - 1)).exp2().recip();
     let shift = 32 - u32::from(valid_bits);
     let rescale = (-f64::from(valid_bits - 1)).exp2();
-    for x in v.iter_mut().chain(i.iter_mut()) {
+    for x in out.iter_mut().flatten() {
         let slot_value = (*x * up) as i32; // exact: x was a slot integer times 2^-(bits-1)
         *x = f64::from(((slot_value as u32) << shift) as i32 >> shift) * rescale;
     }
-    Ok((v, i))
+    Ok(out)
 }
 
 /// True when `x` (a sign-extended slot integer) holds a right-justified `valid`-bit sample: the
@@ -372,13 +358,14 @@ fn read_floats<R: Read>(
     slot: usize,
     decode: impl Fn(&[u8]) -> f64,
 ) -> Result<Pair, LoadErrorKind> {
-    let (mut v, mut i) = pick.vecs()?;
-    let (vo, io) = (pick.voltage * slot, pick.current * slot);
+    let mut out = pick.vecs()?;
+    let offsets: Vec<usize> = pick.wanted.iter().map(|&k| k * slot).collect();
     for_each_frame(r, pick, |f| {
-        v.push(decode(&f[vo..]));
-        i.push(decode(&f[io..]));
+        for (col, &o) in out.iter_mut().zip(&offsets) {
+            col.push(decode(&f[o..]));
+        }
     })?;
-    Ok((v, i))
+    Ok(out)
 }
 
 /// Calls `f` on every frame of the data, reading large blocks; a short file is `Truncated`.
@@ -529,12 +516,12 @@ mod tests {
             chunk(b"data", &le(&codes, 2)),
         ]))
         .unwrap();
-        assert_eq!(c.voltage.samples, [0.5, 32767.0 / 32768.0, 0.0]);
-        assert_eq!(c.current.samples, [-0.5, -1.0, 1.0 / 32768.0]);
-        assert_eq!(c.voltage.channel.name, "channel 1");
-        assert_eq!(c.current.channel.name, "channel 2");
-        assert_eq!(c.voltage.chosen_by, crate::capture::ChosenBy::Order);
-        assert_eq!(c.voltage.full_scale, Some(1.0));
+        assert_eq!(c.voltage().samples, [0.5, 32767.0 / 32768.0, 0.0]);
+        assert_eq!(c.current().samples, [-0.5, -1.0, 1.0 / 32768.0]);
+        assert_eq!(c.voltage().channel.name, "channel 1");
+        assert_eq!(c.current().channel.name, "channel 2");
+        assert_eq!(c.voltage().chosen_by, crate::capture::ChosenBy::Order);
+        assert_eq!(c.voltage().full_scale, Some(1.0));
         assert_eq!(c.sample_rate_hz, 8000.0);
         assert_eq!(
             c.format,
@@ -554,8 +541,8 @@ mod tests {
         // Microsoft RIFF/WAVE: 8-bit PCM is unsigned, 128 is zero.
         let data = [128u8, 192, 0, 255, 64, 129];
         let c = load_bytes(&riff(&[fmt(1, 2, 8000, 8, 2), chunk(b"data", &data)])).unwrap();
-        assert_eq!(c.voltage.samples, [0.0, -1.0, -0.5]);
-        assert_eq!(c.current.samples, [0.5, 127.0 / 128.0, 1.0 / 128.0]);
+        assert_eq!(c.voltage().samples, [0.0, -1.0, -0.5]);
+        assert_eq!(c.current().samples, [0.5, 127.0 / 128.0, 1.0 / 128.0]);
     }
 
     #[test]
@@ -566,8 +553,8 @@ mod tests {
             chunk(b"data", &le(&codes, 3)),
         ]))
         .unwrap();
-        assert_eq!(c.voltage.samples, [-0.5, 8_388_607.0 / 8_388_608.0]);
-        assert_eq!(c.current.samples, [0.5, -1.0]);
+        assert_eq!(c.voltage().samples, [-0.5, 8_388_607.0 / 8_388_608.0]);
+        assert_eq!(c.current().samples, [0.5, -1.0]);
     }
 
     #[test]
@@ -578,8 +565,8 @@ mod tests {
             chunk(b"data", &le(&codes, 4)),
         ]))
         .unwrap();
-        assert_eq!(c.voltage.samples, [0.5, -1.0]);
-        assert_eq!(c.current.samples, [-0.5, 2f64.powi(-31)]);
+        assert_eq!(c.voltage().samples, [0.5, -1.0]);
+        assert_eq!(c.current().samples, [-0.5, 2f64.powi(-31)]);
     }
 
     #[test]
@@ -588,8 +575,8 @@ mod tests {
         let codes = interleave(&[[-4_194_304 << 8, 4_194_304 << 8], [8_388_607 << 8, -1 << 8]]);
         let bytes = riff(&[fmt_ext(2, 8000, 32, 24, 1), chunk(b"data", &le(&codes, 4))]);
         let c = load_bytes(&bytes).unwrap();
-        assert_eq!(c.voltage.samples, [-0.5, 8_388_607.0 / 8_388_608.0]);
-        assert_eq!(c.current.samples, [0.5, -1.0 / 8_388_608.0]);
+        assert_eq!(c.voltage().samples, [-0.5, 8_388_607.0 / 8_388_608.0]);
+        assert_eq!(c.current().samples, [0.5, -1.0 / 8_388_608.0]);
         assert_eq!(
             c.format,
             SourceFormat::Wav {
@@ -623,8 +610,8 @@ mod tests {
             (dir, path)
         };
         let c = load(&path, &LoadOptions::default()).unwrap();
-        assert_eq!(c.voltage.samples, [-0.5, 8_388_607.0 / 8_388_608.0]);
-        assert_eq!(c.current.samples, [4_194_305.0 / 8_388_608.0, -1.0]);
+        assert_eq!(c.voltage().samples, [-0.5, 8_388_607.0 / 8_388_608.0]);
+        assert_eq!(c.current().samples, [4_194_305.0 / 8_388_608.0, -1.0]);
     }
 
     #[test]
@@ -648,8 +635,8 @@ mod tests {
             chunk(b"data", &le(&codes, 2)),
         ]))
         .unwrap();
-        assert_eq!(c.voltage.samples, [0.5, 2047.0 / 2048.0]);
-        assert_eq!(c.current.samples, [-0.5, -1.0 / 2048.0]);
+        assert_eq!(c.voltage().samples, [0.5, 2047.0 / 2048.0]);
+        assert_eq!(c.current().samples, [-0.5, -1.0 / 2048.0]);
         assert_eq!(
             c.format,
             SourceFormat::Wav {
@@ -665,8 +652,8 @@ mod tests {
         let vals = [0.25f64, -0.75, 1.5, -1e-9];
         let data: Vec<u8> = vals.iter().flat_map(|x| x.to_le_bytes()).collect();
         let c = load_bytes(&riff(&[fmt(3, 2, 12_800, 64, 16), chunk(b"data", &data)])).unwrap();
-        assert_eq!(c.voltage.samples, [0.25, 1.5]);
-        assert_eq!(c.current.samples, [-0.75, -1e-9]);
+        assert_eq!(c.voltage().samples, [0.25, 1.5]);
+        assert_eq!(c.current().samples, [-0.75, -1e-9]);
         assert_eq!(
             c.format,
             SourceFormat::Wav {
@@ -691,8 +678,8 @@ mod tests {
             ..Default::default()
         };
         let c = load(&path, &opts).unwrap();
-        assert_eq!(c.voltage.samples, [0.1, 0.4]);
-        assert_eq!(c.current.samples, [0.2, 0.5]);
+        assert_eq!(c.voltage().samples, [0.1, 0.4]);
+        assert_eq!(c.current().samples, [0.2, 0.5]);
     }
 
     #[test]
@@ -709,8 +696,8 @@ mod tests {
         let c = load_bytes(&riff(&[fmt(3, 2, 10_000, 64, 16), chunk(b"data", &data)])).unwrap();
         assert_eq!(c.len(), 400);
         for n in 0..400 {
-            assert_eq!(c.voltage.samples[n], 325.0 * w(n, 0.0));
-            assert_eq!(c.current.samples[n], 14.1 * w(n, 30.0));
+            assert_eq!(c.voltage().samples[n], 325.0 * w(n, 0.0));
+            assert_eq!(c.current().samples[n], 14.1 * w(n, 30.0));
         }
     }
 
@@ -740,8 +727,8 @@ mod tests {
         assert_eq!(c.sample_rate_hz, 10_000.0);
         let half_code = 0.5 / 32768.0 + 1e-15;
         for n in 0..1000 {
-            assert!((c.voltage.samples[n] - w(n, 0.8, 0.0)).abs() <= half_code);
-            assert!((c.current.samples[n] - w(n, 0.5, 30.0)).abs() <= half_code);
+            assert!((c.voltage().samples[n] - w(n, 0.8, 0.0)).abs() <= half_code);
+            assert!((c.current().samples[n] - w(n, 0.5, 30.0)).abs() <= half_code);
         }
     }
 
@@ -799,9 +786,9 @@ mod tests {
             assert_eq!(hound, own, "{bits}-bit float={float}");
             let third: Vec<f64> = expected.iter().skip(2).step_by(3).copied().collect();
             let first: Vec<f64> = expected.iter().step_by(3).copied().collect();
-            assert_eq!(hound.voltage.samples, third, "{bits}-bit float={float}");
-            assert_eq!(hound.current.samples, first, "{bits}-bit float={float}");
-            assert_eq!(hound.voltage.channel.name, "channel 3");
+            assert_eq!(hound.voltage().samples, third, "{bits}-bit float={float}");
+            assert_eq!(hound.current().samples, first, "{bits}-bit float={float}");
+            assert_eq!(hound.voltage().channel.name, "channel 3");
         }
     }
 
@@ -814,8 +801,8 @@ mod tests {
             chunk(b"data", &le(&codes, 2)),
         ]);
         let c = load_bytes(&bytes).unwrap();
-        assert_eq!(c.voltage.samples, [0.5, -1.0]);
-        assert_eq!(c.current.samples, [-0.5, 0.25]);
+        assert_eq!(c.voltage().samples, [0.5, -1.0]);
+        assert_eq!(c.current().samples, [-0.5, 0.25]);
     }
 
     #[test]
@@ -833,8 +820,8 @@ mod tests {
         bytes.extend_from_slice(b"data\xFF\xFF\xFF\xFF");
         bytes.extend(&data);
         let c = load_bytes(&bytes).unwrap();
-        assert_eq!(c.voltage.samples, [0.5, -1.0, 1.0 / 32768.0]);
-        assert_eq!(c.current.samples, [-0.5, 0.25, 2.0 / 32768.0]);
+        assert_eq!(c.voltage().samples, [0.5, -1.0, 1.0 / 32768.0]);
+        assert_eq!(c.current().samples, [-0.5, 0.25, 2.0 / 32768.0]);
     }
 
     /// 100 frames of 16-bit stereo; the data start at byte 44.
@@ -991,9 +978,9 @@ mod tests {
             ..Default::default()
         };
         let c = load(&path, &opts).unwrap();
-        assert_eq!(c.voltage.channel.name, "channel 4");
-        assert_eq!(c.voltage.samples, [400.0 / 32768.0, 401.0 / 32768.0]);
-        assert_eq!(c.current.samples, [200.0 / 32768.0, 201.0 / 32768.0]);
+        assert_eq!(c.voltage().channel.name, "channel 4");
+        assert_eq!(c.voltage().samples, [400.0 / 32768.0, 401.0 / 32768.0]);
+        assert_eq!(c.current().samples, [200.0 / 32768.0, 201.0 / 32768.0]);
         let bad = LoadOptions {
             voltage: Some(ChannelSel::Index(5)),
             ..Default::default()

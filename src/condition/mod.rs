@@ -9,20 +9,144 @@
 //! removed per harmonic as a phase correction in [`crate::quantity`], which is exact for any
 //! fraction of a sample.
 
-use crate::capture::Capture;
+use crate::capture::{Capture, Phase, Place, System};
+use std::borrow::Cow;
 use std::f64::consts::PI;
 
 /// Multiplies the traces by the probe or clamp ratios (volts per unit, amperes per unit) and by
 /// their header units' scale (a `mV` column is in volts afterwards), in one pass per trace.
 pub fn scale(capture: &mut Capture, v_scale: f64, i_scale: f64) {
-    for (trace, ratio) in [
-        (&mut capture.voltage, v_scale),
-        (&mut capture.current, i_scale),
-    ] {
+    let voltages = capture.voltages.iter_mut().map(|t| (t, v_scale));
+    let currents = capture
+        .currents
+        .iter_mut()
+        .chain(capture.neutral.as_mut())
+        .map(|t| (t, i_scale));
+    for (trace, ratio) in voltages.chain(currents) {
         let k = ratio * trace.channel.scale();
         if k != 1.0 {
             trace.samples.iter_mut().for_each(|x| *x *= k);
             trace.full_scale = trace.full_scale.map(|f| f * k.abs());
+        }
+    }
+}
+
+/// One phase's voltage and current samples, as the per-phase analysis takes them.
+#[derive(Debug, Clone)]
+pub struct PhaseSamples<'a> {
+    /// The phase (`Phase::A` for a single-phase capture).
+    pub phase: Phase,
+    /// Voltage to neutral (4-wire), to the artificial star point (3-wire) or the one voltage.
+    pub voltage: Cow<'a, [f64]>,
+    /// The line current.
+    pub current: Cow<'a, [f64]>,
+    /// Index into `capture.voltages` and `capture.currents` of the traces these come from
+    /// (for a 3-wire capture: derived from all of them, so the first line's).
+    pub voltage_trace: usize,
+    /// See `voltage_trace`; `None` for a 3-wire phase's current derived from the other two.
+    pub current_trace: Option<usize>,
+}
+
+/// The per-phase voltage and current samples of a scaled capture, in phase order.
+///
+/// Single-phase and 4-wire captures give their traces as they are. A 3-wire capture's
+/// line-to-line voltages are referred to the artificial star point (the point whose three
+/// voltages sum to zero): with Vab and Vcb, Vb = −(Vab + Vcb)/3, Va = Vab + Vb, Vc = Vcb + Vb
+/// (circuit theory, common practice); a missing line current is minus the sum of the other two
+/// (Kirchhoff's current law). The totals do not depend on the star point chosen.
+pub fn per_phase(capture: &Capture) -> Vec<PhaseSamples<'_>> {
+    let n = capture.len();
+    match capture.system {
+        System::Single | System::FourWire => capture
+            .voltages
+            .iter()
+            .zip(&capture.currents)
+            .enumerate()
+            .map(|(k, (v, i))| PhaseSamples {
+                phase: match capture.system {
+                    System::Single => Phase::A,
+                    _ => [Phase::A, Phase::B, Phase::C][k.min(2)],
+                },
+                voltage: Cow::Borrowed(&v.samples),
+                current: Cow::Borrowed(&i.samples),
+                voltage_trace: k,
+                current_trace: Some(k),
+            })
+            .collect(),
+        System::ThreeWire => {
+            let idx = |p: Phase| match p {
+                Phase::A => 0,
+                Phase::B => 1,
+                Phase::C => 2,
+                Phase::N => 3,
+            };
+            // Vab and Vcb from whichever lines were measured: each line x-y is Vx − Vy
+            let mut lines: [[Option<&[f64]>; 3]; 3] = [[None; 3]; 3];
+            for t in &capture.voltages {
+                if let Place::Line(a, b) = t.place {
+                    lines[idx(a).min(2)][idx(b).min(2)] = Some(&t.samples);
+                }
+            }
+            let line = |a: usize, b: usize, k: usize| -> Option<f64> {
+                lines[a][b]
+                    .map(|s| s[k])
+                    .or_else(|| lines[b][a].map(|s| -s[k]))
+            };
+            let (a, b, c) = (0, 1, 2);
+            let vab_vcb = |k: usize| -> (f64, f64) {
+                let vab = line(a, b, k)
+                    .or_else(|| Some(-(line(b, c, k)? + line(c, a, k)?)))
+                    .unwrap_or(0.0);
+                let vcb = line(c, b, k)
+                    .or_else(|| Some(line(c, a, k)? + line(a, b, k)?))
+                    .unwrap_or(0.0);
+                (vab, vcb)
+            };
+            let mut va = Vec::with_capacity(n);
+            let mut vb = Vec::with_capacity(n);
+            let mut vc = Vec::with_capacity(n);
+            for k in 0..n {
+                let (vab, vcb) = vab_vcb(k);
+                let b = -(vab + vcb) / 3.0;
+                va.push(vab + b);
+                vb.push(b);
+                vc.push(vcb + b);
+            }
+            let mut currents: [Option<(usize, &[f64])>; 3] = [None; 3];
+            for (k, t) in capture.currents.iter().enumerate() {
+                if let Place::Phase(p) = t.place
+                    && p != Phase::N
+                {
+                    currents[idx(p)] = Some((k, &t.samples));
+                }
+            }
+            let current = |p: usize| -> (Cow<'_, [f64]>, Option<usize>) {
+                if let Some((k, s)) = currents[p] {
+                    return (Cow::Borrowed(s), Some(k));
+                }
+                let others: Vec<&[f64]> = (0..3)
+                    .filter(|&q| q != p)
+                    .filter_map(|q| currents[q].map(|x| x.1))
+                    .collect();
+                let derived = (0..n)
+                    .map(|k| -others.iter().map(|s| s[k]).sum::<f64>())
+                    .collect();
+                (Cow::Owned(derived), None)
+            };
+            [(Phase::A, va), (Phase::B, vb), (Phase::C, vc)]
+                .into_iter()
+                .enumerate()
+                .map(|(p, (phase, v))| {
+                    let (i, current_trace) = current(p);
+                    PhaseSamples {
+                        phase,
+                        voltage: Cow::Owned(v),
+                        current: i,
+                        voltage_trace: 0,
+                        current_trace,
+                    }
+                })
+                .collect()
         }
     }
 }

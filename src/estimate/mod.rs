@@ -222,6 +222,19 @@ pub fn estimate(
     fs: f64,
     wanted_order: usize,
 ) -> Result<Estimate, EstimateError> {
+    estimate_at(v, i, fs, wanted_order, None)
+}
+
+/// [`estimate`] at a frequency already known (another phase's of the same record), so that
+/// every phase of a three-phase capture is fitted at one frequency and its phasors share one
+/// time reference; `None` finds the frequency.
+pub fn estimate_at(
+    v: &[f64],
+    i: &[f64],
+    fs: f64,
+    wanted_order: usize,
+    known_hz: Option<f64>,
+) -> Result<Estimate, EstimateError> {
     if v.len() < MIN_SAMPLES {
         return Err(EstimateError::TooShort(v.len()));
     }
@@ -236,12 +249,15 @@ pub fn estimate(
             return Err(EstimateError::OutOfRange(t, peak));
         }
     }
-    let (coarse_hz, source) = match frequency::coarse(v, fs) {
+    let (coarse_hz, source) = match known_hz {
         Some(f) => (f, Trace::Voltage),
-        None => (
-            frequency::coarse(i, fs).ok_or(EstimateError::NoPeriodicSignal)?,
-            Trace::Current,
-        ),
+        None => match frequency::coarse(v, fs) {
+            Some(f) => (f, Trace::Voltage),
+            None => (
+                frequency::coarse(i, fs).ok_or(EstimateError::NoPeriodicSignal)?,
+                Trace::Current,
+            ),
+        },
     };
     let order_limit = (NYQUIST_SHARE * fs / 2.0 / coarse_hz).floor() as usize;
     if order_limit < 1 {
@@ -256,13 +272,18 @@ pub fn estimate(
     // The two traces are independent until the angle: each gets its own thread.
     let (vd, id) = both(|| decimate(v, decimation), || decimate(i, decimation));
     let fsd = fs / decimation as f64;
-    let refined = frequency::refine(
-        if source == Trace::Voltage { &vd } else { &id },
-        fsd,
-        coarse_hz,
-        order,
-    );
-    let f = refined.hz;
+    let f = match known_hz {
+        Some(f) => f,
+        None => {
+            frequency::refine(
+                if source == Trace::Voltage { &vd } else { &id },
+                fsd,
+                coarse_hz,
+                order,
+            )
+            .hz
+        }
+    };
     let cycles = v.len() as f64 * f / fs;
     if !(cycles >= 2.0) {
         return Err(EstimateError::TooFewCycles {

@@ -245,7 +245,7 @@ pub fn flatten(value: &serde_json::Value) -> Vec<(String, String)> {
 /// CSV columns of `analyze --format csv` and of batch summaries. Taken from the record of a small
 /// synthetic capture, so they always match what the records hold.
 pub fn analysis_columns() -> Vec<String> {
-    use crate::capture::{Capture, SourceFormat, Trace};
+    use crate::capture::{Capture, SourceFormat, System, Trace};
     use crate::synth::{Spec, Waveform, synthesize};
     let (v, i) = synthesize(&Spec::clean(
         5_000.0,
@@ -262,8 +262,10 @@ pub fn analysis_columns() -> Vec<String> {
             decimal_comma: false,
         },
         sample_rate_hz: 5_000.0,
-        voltage: trace("v", 1, v),
-        current: trace("i", 2, i),
+        system: System::Single,
+        voltages: vec![trace("v", 1, v)],
+        currents: vec![trace("i", 2, i)],
+        neutral: None,
         time: None,
         skew_s: 0.0,
         warnings: Vec::new(),

@@ -3,7 +3,9 @@
 //! that part's share of the two pre-sized columns. It vouches only for plain rows: whatever else
 //! it meets makes it give up, and the caller reads the region again with the `csv` crate.
 
-use super::{Columns, Layout, RowSpec, TimeCheck, Tuning, decimal, estimated_rows, parse_f64};
+use super::{
+    Columns, Layout, MAX_COLUMNS, RowSpec, TimeCheck, Tuning, decimal, estimated_rows, parse_f64,
+};
 use memchr::{memchr, memchr_iter, memrchr};
 use std::fs::File;
 use std::io::{ErrorKind, Read, Seek, SeekFrom};
@@ -16,39 +18,36 @@ struct GiveUp;
 
 /// One part's share of the columns, and what it found.
 struct Out<'a> {
-    v: &'a mut [f64],
-    i: &'a mut [f64],
-    /// Rows written into `v` and `i`.
+    /// This part's share of each wanted column.
+    cols: Vec<&'a mut [f64]>,
+    /// Rows written into `cols`.
     n: usize,
-    /// Rows beyond the pre-sized share.
-    spill_v: Vec<f64>,
-    spill_i: Vec<f64>,
+    /// Rows beyond the pre-sized share, per column.
+    spills: Vec<Vec<f64>>,
     time: TimeCheck,
 }
 
 /// What a finished part hands back.
 struct Part {
     n: usize,
-    spill_v: Vec<f64>,
-    spill_i: Vec<f64>,
+    spills: Vec<Vec<f64>>,
     time: TimeCheck,
 }
 
 impl Out<'_> {
     #[inline]
-    fn push(&mut self, t: f64, v: f64, i: f64, timed: bool) -> Result<(), GiveUp> {
+    fn push(&mut self, t: f64, row: &[f64], timed: bool) -> Result<(), GiveUp> {
         if timed {
             self.time.push(t).map_err(|_| GiveUp)?;
         }
-        match (self.v.get_mut(self.n), self.i.get_mut(self.n)) {
-            (Some(a), Some(b)) => {
-                *a = v;
-                *b = i;
-                self.n += 1;
+        if self.n < self.cols.first().map_or(0, |c| c.len()) {
+            for (col, &x) in self.cols.iter_mut().zip(row) {
+                col[self.n] = x;
             }
-            _ => {
-                self.spill_v.push(v);
-                self.spill_i.push(i);
+            self.n += 1;
+        } else {
+            for (spill, &x) in self.spills.iter_mut().zip(row) {
+                spill.push(x);
             }
         }
         Ok(())
@@ -57,8 +56,7 @@ impl Out<'_> {
     fn finish(self) -> Part {
         Part {
             n: self.n,
-            spill_v: self.spill_v,
-            spill_i: self.spill_i,
+            spills: self.spills,
             time: self.time,
         }
     }
@@ -84,22 +82,22 @@ pub(super) fn read(
         .collect();
     let total: usize = caps.iter().sum();
     // Zeroed (calloc'd) columns: pages a part never writes are never touched.
-    let mut v = vec![0.0f64; total];
-    let mut i = vec![0.0f64; total];
+    let width = spec.cols.len();
+    let mut columns: Vec<Vec<f64>> = (0..width).map(|_| vec![0.0f64; total]).collect();
     let cancel = AtomicBool::new(false);
     let block = tuning.block_bytes.max(1);
     let results: Vec<Result<Part, GiveUp>> = {
-        let outs = carve(&mut v, &caps)
-            .into_iter()
-            .zip(carve(&mut i, &caps))
-            .map(|(v, i)| Out {
-                v,
-                i,
-                n: 0,
-                spill_v: Vec::new(),
-                spill_i: Vec::new(),
-                time: TimeCheck::default(),
-            });
+        // shares[c][k]: part k's share of column c, turned into one `Out` per part
+        let mut shares: Vec<std::vec::IntoIter<&mut [f64]>> = columns
+            .iter_mut()
+            .map(|c| carve(c, &caps).into_iter())
+            .collect();
+        let outs = (0..caps.len()).map(|_| Out {
+            cols: shares.iter_mut().filter_map(Iterator::next).collect(),
+            n: 0,
+            spills: vec![Vec::new(); width],
+            time: TimeCheck::default(),
+        });
         let last = caps.len() - 1;
         let jobs: Vec<_> = outs
             .enumerate()
@@ -146,13 +144,18 @@ pub(super) fn read(
         time.append(&p.time).ok()?;
     }
     let used: Vec<usize> = parts.iter().map(|p| p.n).collect();
-    let (spill_v, spill_i): (Vec<_>, Vec<_>) =
-        parts.into_iter().map(|p| (p.spill_v, p.spill_i)).unzip();
-    Some(Columns {
-        v: assemble(v, &caps, &used, spill_v),
-        i: assemble(i, &caps, &used, spill_i),
-        time,
-    })
+    let mut spills: Vec<Vec<Vec<f64>>> = vec![Vec::with_capacity(parts.len()); width];
+    for p in parts {
+        for (c, s) in p.spills.into_iter().enumerate() {
+            spills[c].push(s);
+        }
+    }
+    let data = columns
+        .into_iter()
+        .zip(spills)
+        .map(|(col, spill)| assemble(col, &caps, &used, spill))
+        .collect();
+    Some(Columns { data, time })
 }
 
 /// Start offsets of up to `parts` parts of `start..end`, each just after a newline, followed
@@ -313,19 +316,20 @@ fn row(line: &[u8], has_cr: bool, spec: &RowSpec, out: &mut Out<'_>) -> Result<(
     if line.is_empty() {
         return Ok(());
     }
-    match values(line, spec) {
-        Some([t, v, i]) => out.push(t, v, i, spec.time_col.is_some()),
+    let mut row = [0.0; MAX_COLUMNS];
+    match values(line, spec, &mut row) {
+        Some(t) => out.push(t, &row[..spec.pick.len()], spec.time_col.is_some()),
         // A line of spaces: one blank field, skipped like the reference reader does.
         None if memchr(spec.delimiter, line).is_none() && line.trim_ascii().is_empty() => Ok(()),
         None => Err(GiveUp),
     }
 }
 
-/// Time, voltage and current of a row, or `None` when a cell is missing, not a number or not
-/// finite.
+/// The time of a row (0 without a time column), its wanted cells written into `row` in the
+/// order asked for; `None` when a cell is missing, not a number or not finite.
 #[inline]
-fn values(line: &[u8], spec: &RowSpec) -> Option<[f64; 3]> {
-    let mut cells = [0.0; 4];
+fn values(line: &[u8], spec: &RowSpec, row: &mut [f64; MAX_COLUMNS]) -> Option<f64> {
+    let mut cells = [0.0; MAX_COLUMNS + 1];
     let mut p = 0;
     for &step in &spec.plan {
         let rest = line.get(p..)?; // past the end: too few fields
@@ -336,17 +340,15 @@ fn values(line: &[u8], spec: &RowSpec) -> Option<[f64; 3]> {
                 if !x.is_finite() {
                     return None;
                 }
-                cells[usize::from(k & 3)] = x;
+                *cells.get_mut(usize::from(k))? = x;
                 p += used + 1;
             }
         }
     }
-    let [t, v, i] = spec.pick;
-    Some([
-        cells[usize::from(t & 3)],
-        cells[usize::from(v & 3)],
-        cells[usize::from(i & 3)],
-    ])
+    for (slot, &k) in row.iter_mut().zip(&spec.pick) {
+        *slot = cells[usize::from(k)];
+    }
+    Some(spec.pick_time.map_or(0.0, |k| cells[usize::from(k)]))
 }
 
 /// The number at the start of `rest` and the length of its cell. A cell that is exactly a
