@@ -213,12 +213,26 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
     // the first phase finds the frequency; the others are fitted at it, so every phasor refers
     // to the same instant and the same frequency
     let mut estimates = Vec::with_capacity(samples.len());
+    // a phase a that carries no current at all: the frequency comes from two voltages
+    let flat = |y: &[f64]| y.first().is_some_and(|&f| y.iter().all(|&x| x == f));
+    let mut first_hz = None;
+    if many && flat(&samples[0].current) {
+        let e = estimate::estimate(
+            &samples[0].voltage,
+            &samples[1].voltage,
+            rate,
+            settings.harmonics,
+        )
+        .map_err(fail)?;
+        first_hz = Some(e.frequency_hz);
+    }
     for ps in &samples {
         let known = estimates
             .first()
-            .map(|(e, _): &(Estimate, Quantities)| e.frequency_hz);
+            .map(|(e, _): &(Estimate, Quantities)| e.frequency_hz)
+            .or(first_hz);
         let est = estimate::estimate_at(&ps.voltage, &ps.current, rate, settings.harmonics, known)
-            .map_err(|e| fail(e))?;
+            .map_err(fail)?;
         let q = quantity::quantities(
             &ps.voltage,
             &ps.current,
@@ -474,6 +488,20 @@ impl Analysis {
         self.warnings
             .iter()
             .filter(move |w| w.severity() == severity)
+    }
+
+    /// `Err` with the reason when `what` (a check built for one voltage and one current) is asked
+    /// of a three-phase capture, which it would judge on phase a alone.
+    pub fn single_phase_only(&self, what: &str) -> Result<(), String> {
+        if self.three_phase.is_none() {
+            return Ok(());
+        }
+        Err(format!(
+            "{}: a {} capture: {what} takes single-phase captures so far; to check one phase, \
+             choose it with --system single --voltage COL --current COL",
+            self.path.display(),
+            self.system
+        ))
     }
 
     /// `warning` when something threatens a figure, else `ok`; findings and notes do not count.

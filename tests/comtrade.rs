@@ -281,7 +281,9 @@ fn a_record_promising_more_samples_than_its_file_holds_is_refused_before_reading
 }
 
 #[test]
-fn several_phases_without_a_choice_are_refused_and_a_choice_is_kept() {
+/// A record with a complete phase set (the `ph` fields say A, B, C) is a 4-wire capture, each
+/// phase its own pair; a single choice still analyses one pair.
+fn a_phase_set_is_read_as_three_phases_and_a_single_choice_is_kept() {
     let dir = TempDir::new().unwrap();
     let base = bench_channels(0.0);
     let mut chans = Vec::new();
@@ -312,9 +314,11 @@ fn several_phases_without_a_choice_are_refused_and_a_choice_is_kept() {
         });
     }
     let cfg = write_record(dir.path(), "three", &chans, RATE, Fmt::Binary32);
-    let (code, _, err) = analyze(&[cfg.to_str().unwrap()]);
-    assert_eq!(code, Some(2), "{err}");
-    assert!(err.contains("VBN") && err.contains("--voltage"), "{err}");
+    let all = json(&[cfg.to_str().unwrap()]);
+    assert_eq!(all["system"], "3-phase 4-wire");
+    assert_eq!(all["phases"]["b"]["channels"]["voltage"]["name"], "VBN");
+    assert_eq!(all["phases"]["c"]["channels"]["current"]["name"], "IC");
+    assert!((get(&all, "phases.b.phase_angle_deg.dft") - 30.0).abs() < 0.01);
     let rec = json(&[cfg.to_str().unwrap(), "--voltage", "VAN", "--current", "IA"]);
     assert!((get(&rec, "phase_angle_deg.dft") - 30.0).abs() < 0.01);
 }

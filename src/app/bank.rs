@@ -54,6 +54,7 @@ pub(super) fn analyse_file(
 }
 
 fn side(a: &Analysis, which: &str) -> Result<BankSide, String> {
+    a.single_phase_only("the bank check")?;
     a.bank_side().ok_or_else(|| {
         format!(
             "{}: the {which} capture has no defined phase angle (no fundamental in a trace)",

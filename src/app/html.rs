@@ -82,6 +82,11 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
             Ok(mut an) => {
                 let mut predicted = None;
                 if let Some((circuit, mc)) = &cfg.expect {
+                    if let Err(e) = an.single_phase_only("--expect") {
+                        let _ = writeln!(err, "error: {e}");
+                        outcome = outcome.worst(Outcome::InputErrors);
+                        continue;
+                    }
                     predicted = an.compare_with_model(circuit, mc);
                     if an.expected.as_ref().is_some_and(|e| e.failed()) {
                         outcome = outcome.worst(Outcome::VerdictFailed);

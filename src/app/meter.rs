@@ -66,6 +66,10 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
             return Outcome::InputErrors;
         }
     };
+    if let Err(e) = analysis.single_phase_only("the meter check") {
+        let _ = writeln!(err, "error: {e}");
+        return Outcome::InputErrors;
+    }
     let Some(m) = analysis.meter_measured() else {
         let _ = writeln!(
             err,

@@ -324,6 +324,11 @@ pub fn run_analyze(
             Ok(mut a) => {
                 let mut predicted = None;
                 if let Some((circuit, mc)) = &cfg.expect {
+                    if let Err(e) = a.single_phase_only("--expect") {
+                        let _ = writeln!(err, "error: {e}");
+                        outcome = outcome.worst(Outcome::InputErrors);
+                        continue;
+                    }
                     predicted = a.compare_with_model(circuit, mc);
                     if a.expected.as_ref().is_some_and(|e| e.failed()) {
                         outcome = outcome.worst(Outcome::VerdictFailed);

@@ -406,6 +406,17 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
             return (row, None);
         }
     };
+    let wants_single = [
+        (setup.expect.is_some(), "the model comparison"),
+        (setup.meter.is_some(), "the meter check"),
+        (setup.bank.is_some(), "the bank check"),
+    ];
+    for (wanted, what) in wants_single {
+        if wanted && let Err(e) = a.single_phase_only(what) {
+            row.message = e;
+            return (row, None);
+        }
+    }
     let predicted = match &setup.expect {
         Some(model) => a.compare_with_model(model, &setup.monte_carlo),
         None => None,
@@ -549,6 +560,7 @@ fn bank_check(
             a.path.display()
         )
     };
+    before.single_phase_only("the bank check")?;
     let b = before.bank_side().ok_or_else(|| no_angle(&before))?;
     let a = after.bank_side().ok_or_else(|| no_angle(after))?;
     let report = bank::check_bank(&b, &a, &spec.nameplate);

@@ -530,15 +530,33 @@ fn channel_of(k: usize, c: &AnalogChannel) -> Channel {
         ch.unknown_unit = Some(c.units.trim().to_string());
         ch.role = Role::Unknown;
     }
-    let phase = match c.ph.trim().to_ascii_uppercase().as_str() {
+    let one = |t: &str| match t {
         "A" | "L1" | "R" => Some(Phase::A),
         "B" | "L2" | "S" => Some(Phase::B),
         "C" | "L3" | "T" => Some(Phase::C),
         "N" => Some(Phase::N),
         _ => None,
     };
+    let ph = c.ph.trim().to_ascii_uppercase();
+    let phase = one(&ph);
     if phase.is_some() && ch.role != Role::Unknown {
         ch.phase = phase;
+        ch.line = None;
+    }
+    // a line-to-line voltage: `AB`, `BC`, `CA` (or `L1L2`...)
+    let line = [(1, 1), (2, 2)].into_iter().find_map(|(x, y)| {
+        (ph.len() == x + y && ph.is_char_boundary(x))
+            .then(|| Some((one(&ph[..x])?, one(&ph[x..])?)))
+            .flatten()
+    });
+    if let Some((a, b)) = line
+        && a != b
+        && a != Phase::N
+        && b != Phase::N
+        && ch.role == Role::Voltage
+    {
+        ch.line = Some((a, b));
+        ch.phase = None;
     }
     ch
 }

@@ -835,3 +835,123 @@ fn left_out(c: &Channel) -> String {
         Content::Text => format!("'{}' (column {}, not numbers)", c.name, c.column),
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn header(names: &[&str]) -> Vec<Channel> {
+        names
+            .iter()
+            .enumerate()
+            .map(|(k, n)| Channel::from_header(n, k + 1, Content::Numbers))
+            .collect()
+    }
+
+    fn names_of(ch: &[Channel], set: &ChannelSet) -> Vec<String> {
+        set.wanted().iter().map(|&k| ch[k].name.clone()).collect()
+    }
+
+    #[test]
+    fn phase_sets_are_recognised_in_the_spellings_exports_use() {
+        // the list: Va/V1/VL1/Ua/U1, Ia/I1/IL1, In/I0/IN, prefixes and suffixes
+        for (names, system) in [
+            (
+                vec!["t", "Va", "Vb", "Vc", "Ia", "Ib", "Ic"],
+                System::FourWire,
+            ),
+            (
+                vec!["t", "VL1", "VL2", "VL3", "IL1", "IL2", "IL3", "IN"],
+                System::FourWire,
+            ),
+            (
+                vec!["t", "U1", "U2", "U3", "I1", "I2", "I3", "I0"],
+                System::FourWire,
+            ),
+            (
+                vec![
+                    "time (s)",
+                    "PANEL_Va_V",
+                    "PANEL_Vb_V",
+                    "PANEL_Vc_V",
+                    "CH3 Ia [A]",
+                    "CH4 Ib [A]",
+                    "CH5 Ic [A]",
+                ],
+                System::FourWire,
+            ),
+            (vec!["t", "Vab", "Vcb", "Ia", "Ic"], System::ThreeWire),
+            (
+                vec!["t", "V12", "V23", "V31", "I1", "I2", "I3"],
+                System::ThreeWire,
+            ),
+            (vec!["t", "Vba", "Vbc", "Ia", "Ic"], System::ThreeWire),
+        ] {
+            let ch = header(&names);
+            let set = pick_set(&ch, Selection::default()).unwrap_or_else(|e| {
+                panic!("{names:?}: {e}");
+            });
+            assert_eq!(set.system, system, "{names:?}");
+            let got = names_of(&ch, &set);
+            // every data channel but the time column is used, voltages first in phase order
+            assert_eq!(got.len(), names.len() - 1, "{names:?}: {got:?}");
+            assert_eq!(got[0], names[1], "{names:?}");
+        }
+        // the line voltages keep their direction: Vba is b to a
+        let ch = header(&["t", "Vba", "Vbc", "Ia", "Ic"]);
+        let set = pick_set(&ch, Selection::default()).unwrap();
+        assert_eq!(set.voltages[0].place, Place::Line(Phase::B, Phase::A));
+        assert_eq!(set.currents[1].place, Place::Phase(Phase::C));
+    }
+
+    #[test]
+    fn a_phase_set_with_extra_channels_uses_the_set_and_names_the_rest() {
+        let ch = header(&["t", "Va", "Vb", "Vc", "Ia", "Ib", "Ic", "trigger", "Tcase"]);
+        let set = pick_set(&ch, Selection::default()).unwrap();
+        assert_eq!(set.system, System::FourWire);
+        assert!(matches!(
+            &set.warnings[..],
+            [Warning::ColumnsIgnored { columns }] if columns.len() == 2
+        ));
+    }
+
+    #[test]
+    fn doubled_phases_are_refused_with_the_list() {
+        let ch = header(&["t", "Va", "Vb", "Vc", "Ia", "Ib", "Ic", "Ia2"]);
+        // `Ia2` is no phase name: ignored. Two channels named for phase a are not.
+        assert!(pick_set(&ch, Selection::default()).is_ok());
+        let ch = header(&["t", "Va", "Vb", "Vc", "Ia", "Ib", "Ic", "I_L1"]);
+        let sel = Selection {
+            system: Some(System::FourWire),
+            ..Default::default()
+        };
+        let e = pick_set(&ch, sel).unwrap_err().to_string();
+        assert!(
+            e.contains("2 current channels are named for phase a"),
+            "{e}"
+        );
+        assert!(e.contains("--voltage Va,Vb,Vc --current Ia,Ib,Ic"), "{e}");
+    }
+
+    #[test]
+    fn lists_are_for_three_phases_and_a_neutral_has_no_place_in_three_wire() {
+        let ch = header(&["t", "A", "B", "C", "D"]);
+        let list = ChannelSel::parse("2,3");
+        let one = ChannelSel::Index(4);
+        let sel = Selection {
+            voltage: Some(&list),
+            current: Some(&one),
+            system: Some(System::Single),
+            ..Default::default()
+        };
+        assert!(pick_set(&ch, sel).is_err());
+        let ch = header(&["t", "Vab", "Vcb", "Ia", "Ic", "In"]);
+        let n = ChannelSel::parse("In");
+        let sel = Selection {
+            neutral: Some(&n),
+            ..Default::default()
+        };
+        let e = pick_set(&ch, sel).unwrap_err().to_string();
+        assert!(e.contains("3-wire capture, which has no neutral"), "{e}");
+    }
+}

@@ -213,15 +213,41 @@ pub fn diagnose(v: &[Complex64; 3], i: &[Complex64; 3], names: &[String; 3]) -> 
         );
     }
     let as_wired = implausibility(v, i, &Connection::CORRECT);
+    // Occam: among hypotheses that explain the phasors about as well, the one with fewer faults
+    // (a single reversed clamp before a rotated set of reversed ones): 15° a fault
+    let faults_of =
+        |c: &Connection| (0..3).filter(|&k| c.phase[k] != k || c.reversed[k]).count() as f64;
     let mut ranked: Vec<(f64, Connection)> = four_wire_connections()
         .into_iter()
-        .map(|c| (implausibility(v, i, &c), c))
+        .map(|c| (implausibility(v, i, &c) + 15.0 * faults_of(&c), c))
         .collect();
     ranked.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let best = ranked.first().map_or(0.0, |r| r.0);
+    let angles_as_wired: Vec<f64> = (0..3)
+        .map(|k| (v[k] * i[k].conj()).arg().to_degrees())
+        .collect();
+    let exporting: Vec<&str> = (0..3)
+        .filter(|&k| angles_as_wired[k].abs() > 90.0)
+        .map(|k| PHASES[k])
+        .collect();
+    let as_wired_words = if exporting.is_empty() {
+        let hi = angles_as_wired.iter().copied().fold(f64::MIN, f64::max);
+        let lo = angles_as_wired.iter().copied().fold(f64::MAX, f64::min);
+        format!("as wired, the phases' angles spread over {:.0}°", hi - lo)
+    } else {
+        format!(
+            "as wired, phase{} {} export{}",
+            if exporting.len() > 1 { "s" } else { "" },
+            exporting.join(" and "),
+            if exporting.len() > 1 { "" } else { "s" }
+        )
+    };
     // a hypothesis is worth saying when it makes a phase stop exporting or tightens the spread
-    // of the angles by more than 30°; keep the two best
-    for (score, c) in ranked.iter().take(3) {
-        if c.is_correct() || as_wired - score < 30.0 {
+    // of the angles by more than 30°, and explains the phasors about as well as the best one;
+    // keep the two best
+    for (score, c) in ranked.iter().take(4) {
+        if c.is_correct() || as_wired - (score - 15.0 * faults_of(c)) < 30.0 || *score > best + 20.0
+        {
             continue;
         }
         let mut faults = Vec::new();
@@ -244,11 +270,9 @@ pub fn diagnose(v: &[Complex64; 3], i: &[Complex64; 3], names: &[String; 3]) -> 
             .map(|k| format!("{:.1}°", (v[k] * c.current(i, k).conj()).arg().to_degrees()))
             .collect();
         hints.push(format!(
-            "{}: so connected, all three phases import at angles {} (as wired the phases \
-             disagree by {:.0}°)",
+            "{}: so connected, all three phases import at angles {} ({as_wired_words})",
             faults.join(" and "),
             angles.join(", "),
-            as_wired
         ));
         if hints.len() >= 3 {
             break;

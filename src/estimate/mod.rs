@@ -225,6 +225,13 @@ pub fn estimate(
     estimate_at(v, i, fs, wanted_order, None)
 }
 
+/// Whether a current that is the same value in every sample is refused ([`estimate`] refuses it:
+/// on a single-phase capture it is a wrong channel or a dead probe) or fitted as no current (a
+/// phase of a three-phase capture that carries no load).
+pub fn flat_current_allowed(known_hz: Option<f64>) -> bool {
+    known_hz.is_some()
+}
+
 /// [`estimate`] at a frequency already known (another phase's of the same record), so that
 /// every phase of a three-phase capture is fitted at one frequency and its phasors share one
 /// time reference; `None` finds the frequency.
@@ -239,10 +246,14 @@ pub fn estimate_at(
         return Err(EstimateError::TooShort(v.len()));
     }
     for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
-        if let Some(&first) = y.first()
-            && y.iter().all(|&x| x == first)
-        {
-            return Err(EstimateError::FlatTrace(t, first));
+        let flat = y
+            .first()
+            .is_some_and(|&first| y.iter().all(|&x| x == first));
+        if flat && t == Trace::Current && flat_current_allowed(known_hz) {
+            continue;
+        }
+        if flat {
+            return Err(EstimateError::FlatTrace(t, y[0]));
         }
         let peak = y.iter().fold(0.0f64, |m, x| m.max(x.abs()));
         if !(MIN_MAGNITUDE..=MAX_MAGNITUDE).contains(&peak) {
@@ -332,10 +343,14 @@ pub fn estimate_at(
             + harmonics[1..].iter().map(|h| h.norm_sqr()).sum::<f64>()
             + fit.residual_ms())
         .sqrt();
+        // a trace of nothing at all (a phase without load, fitted at another phase's
+        // frequency) has no fundamental, not an infinitely clean one
         let fundamental_ratio = if rest > 0.0 {
             fund / rest
-        } else {
+        } else if fund > 0.0 {
             f64::INFINITY
+        } else {
+            0.0
         };
         // Noise alone leaves a fundamental of about sqrt(2/N) of its RMS; ask for four times that.
         let noise_floor = 4.0 * (2.0 / yd.len() as f64).sqrt();

@@ -10,6 +10,8 @@
 //! inputs give the same bytes. Every string that comes from a file name or a file's content goes
 //! through [`escape`].
 
+mod three_phase;
+
 use super::plot::{self, Plot, PlotOptions};
 use super::table::{num, pm};
 use crate::analysis::{Analysis, Settings};
@@ -251,17 +253,32 @@ impl Digest {
     /// The digest of `entry`, whose section is numbered `anchor`.
     pub fn of(anchor: usize, entry: &Entry) -> Digest {
         match entry {
-            Entry::Analysed { analysis: a, .. } => Digest {
-                anchor,
-                file: a.path.display().to_string(),
-                analysed: true,
-                true_pf: a.quantities.true_pf,
-                pf_text: pm(a.quantities.true_pf, a.uncertainty.true_pf, ""),
-                angle_text: pm(
-                    a.quantities.phase_angle_dft_deg,
-                    a.uncertainty.phase_angle_deg.dft,
-                    "",
-                ),
+            Entry::Analysed { analysis: a, .. } => match &a.three_phase {
+                // a three-phase capture is summed up by its effective PF (IEEE 1459 P/Se)
+                Some(t) => Digest {
+                    anchor,
+                    file: a.path.display().to_string(),
+                    analysed: true,
+                    true_pf: t.figures.effective.pf,
+                    pf_text: t
+                        .figures
+                        .effective
+                        .pf
+                        .map_or_else(|| "n/a".into(), |pf| format!("{pf:.4} (PFe)")),
+                    angle_text: format!("{}: per phase", a.system),
+                },
+                None => Digest {
+                    anchor,
+                    file: a.path.display().to_string(),
+                    analysed: true,
+                    true_pf: a.quantities.true_pf,
+                    pf_text: pm(a.quantities.true_pf, a.uncertainty.true_pf, ""),
+                    angle_text: pm(
+                        a.quantities.phase_angle_dft_deg,
+                        a.uncertainty.phase_angle_deg.dft,
+                        "",
+                    ),
+                },
             },
             Entry::Failed { file, .. } => Digest {
                 anchor,
@@ -616,13 +633,22 @@ fn capture_section(
         escape(&a.format.to_string()),
         num(a.sample_rate_hz, 6),
         a.samples,
-        escape(&a.channels.describe()),
+        escape(&match a.three_phase {
+            Some(_) => a.system.to_string(),
+            None => a.channels.describe(),
+        }),
         num(q.cycles, 4),
         q.whole_cycles,
         q.harmonic_order,
         u.coverage_factor,
         u.windows
     )?;
+    if let Some(t) = &a.three_phase {
+        row_table_frequency(h, a)?;
+        three_phase::tables(h, a, t)?;
+        writeln!(h, "<p class=\"note\">The plots below show phase a.</p>")?;
+        return capture_tail(h, a, expectation, options);
+    }
     writeln!(
         h,
         "<table class=\"results\">\n<tr><th>quantity</th><th>value ± U (k = 2)</th></tr>"
@@ -742,6 +768,34 @@ fn capture_section(
         ),
     )?;
     writeln!(h, "</table>")?;
+    capture_tail(h, a, expectation, options)
+}
+
+/// The frequency of a three-phase capture, above its per-phase table.
+fn row_table_frequency(h: &mut String, a: &Analysis) -> std::fmt::Result {
+    writeln!(
+        h,
+        "<table class=\"results\">\n<tr><th>quantity</th><th>value ± U (k = 2)</th></tr>"
+    )?;
+    row(
+        h,
+        "frequency (phase a; every phase fitted at it)",
+        &pm(
+            Some(a.quantities.frequency_hz),
+            Some(a.uncertainty.frequency_hz),
+            " Hz",
+        ),
+    )?;
+    writeln!(h, "</table>")
+}
+
+/// What follows a capture's figures: the model verdict, the plots, the observations.
+fn capture_tail(
+    h: &mut String,
+    a: &Analysis,
+    expectation: Option<&Expectation>,
+    options: &PlotOptions,
+) -> std::fmt::Result {
     if let Some(e) = &a.expected {
         expected_block(h, e)?;
     }

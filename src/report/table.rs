@@ -1,9 +1,10 @@
 //! A readable summary per capture, with units.
 
 use super::Exporter;
-use crate::analysis::Analysis;
+use crate::analysis::{Analysis, PhaseAnalysis, ThreePhaseAnalysis, phase_letter};
 use crate::check::decision::Verdict;
 use crate::check::expected::Expected;
+use crate::quantity::three_phase::Rotation;
 use crate::quantity::uncertainty::TraceUncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
 use crate::warning::Severity;
@@ -126,6 +127,167 @@ fn trace_rows(
     Ok(())
 }
 
+/// One phase's figures: angles, PFs, the trace table, powers and the largest harmonics (the
+/// whole of a single-phase capture's figures).
+fn phase_block(out: &mut dyn Write, p: &PhaseAnalysis) -> io::Result<()> {
+    let q = &p.quantities;
+    let u = &p.uncertainty;
+    let lag = q
+        .character
+        .map_or_else(|| "undefined".into(), |c| c.describe(q.power.active_w));
+    writeln!(
+        out,
+        "  phase angle  {} (DFT) | {} (zero crossing) | {lag}",
+        pm(q.phase_angle_dft_deg, u.phase_angle_deg.dft, "°"),
+        pm(
+            q.phase_angle_zero_crossing_deg,
+            u.phase_angle_deg.zero_crossing,
+            "°"
+        ),
+    )?;
+    writeln!(
+        out,
+        "  power factor displacement {} | true {}",
+        pm(q.displacement_pf, u.displacement_pf, ""),
+        pm(q.true_pf, u.true_pf, ""),
+    )?;
+    trace_rows(
+        out,
+        &[
+            ("voltage", "V", &q.voltage, &u.voltage),
+            ("current", "A", &q.current, &u.current),
+        ],
+    )?;
+    let pw = &q.power;
+    writeln!(
+        out,
+        "  power        P {} | Q1 {} | S {} VA | P1 {} W | S1 {} VA",
+        pm(Some(pw.active_w), Some(u.power.active_w), " W"),
+        pm(Some(pw.reactive_var), Some(u.power.reactive_var), " var"),
+        num(pw.apparent_va, 6),
+        num(pw.fundamental_active_w, 6),
+        num(pw.fundamental_apparent_va, 6),
+    )?;
+    writeln!(
+        out,
+        "  distortion   SN {} VA | DI {} var | DV {} var | SH {} VA | N {} var",
+        num(pw.nonfundamental_apparent_va, 4),
+        num(pw.current_distortion_var, 4),
+        num(pw.voltage_distortion_var, 4),
+        num(pw.harmonic_apparent_va, 4),
+        num(pw.nonactive_var, 4),
+    )?;
+    // The largest harmonics of each trace, in percent of the fundamental.
+    for (label, pick) in [
+        (
+            "voltage",
+            (|h: &HarmonicLine| h.voltage_percent) as fn(&_) -> Option<f64>,
+        ),
+        ("current", |h: &HarmonicLine| h.current_percent),
+    ] {
+        let mut top: Vec<_> = q
+            .harmonics
+            .iter()
+            .skip(1)
+            .filter_map(|h| pick(h).map(|p| (h.order, p)))
+            .collect();
+        top.sort_by(|a, b| b.1.total_cmp(&a.1));
+        let shown: Vec<String> = top
+            .iter()
+            .take(6)
+            .filter(|(_, p)| *p >= 0.1)
+            .map(|(h, p)| format!("h{h} {} %", num(*p, 2)))
+            .collect();
+        writeln!(
+            out,
+            "  {label:<13}harmonics (orders 2-{}): {}",
+            q.harmonic_order,
+            if q.harmonics[0].voltage_percent.is_none() && label == "voltage"
+                || q.harmonics[0].current_percent.is_none() && label == "current"
+            {
+                "undefined without a fundamental".to_string()
+            } else if shown.is_empty() {
+                "none above 0.1 %".to_string()
+            } else {
+                shown.join(", ")
+            }
+        )?;
+    }
+    Ok(())
+}
+
+/// A three-phase capture's system figures: totals, IEEE 1459 effective values, sequence
+/// components, rotation and wiring hints.
+fn system_block(out: &mut dyn Write, t: &ThreePhaseAnalysis) -> io::Result<()> {
+    let f = &t.figures;
+    writeln!(
+        out,
+        "  total        P {} W | Q1 {} var | S arithmetic {} VA | S vector {} VA",
+        num(f.total.active_w, 6),
+        num(f.total.reactive_var, 6),
+        num(f.total.arithmetic_apparent_va, 6),
+        num(f.total.vector_apparent_va, 6),
+    )?;
+    let e = &f.effective;
+    writeln!(
+        out,
+        "  effective    Ve {} V | Ie {} A | Se {} VA | Se1 {} VA | SeN {} VA | PFe {}",
+        num(e.voltage_v, 6),
+        num(e.current_a, 6),
+        num(e.apparent_va, 6),
+        num(e.fundamental_apparent_va, 6),
+        num(e.nonfundamental_apparent_va, 4),
+        e.pf.map_or_else(|| "n/a".into(), |pf| format!("{pf:.4}")),
+    )?;
+    let ps = &f.positive_sequence;
+    writeln!(
+        out,
+        "  sequence     P1+ {} W | Q1+ {} var | S1+ {} VA | SU1 {} VA",
+        num(ps.active_w, 6),
+        num(ps.reactive_var, 6),
+        num(ps.apparent_va, 6),
+        num(ps.unbalance_va, 4),
+    )?;
+    let pct = |x: Option<f64>| x.map_or_else(|| "n/a".into(), |x| format!("{x:.3} %"));
+    let (v, i) = (&f.voltage_sequence, &f.current_sequence);
+    writeln!(
+        out,
+        "  voltage seq. positive {} V | negative {} V | zero {} V | unbalance {}",
+        num(v.positive, 6),
+        num(v.negative, 4),
+        num(v.zero, 4),
+        pct(v.unbalance_percent),
+    )?;
+    writeln!(
+        out,
+        "  current seq. positive {} A | negative {} A | zero {} A | unbalance {}",
+        num(i.positive, 6),
+        num(i.negative, 4),
+        num(i.zero, 4),
+        pct(i.unbalance_percent),
+    )?;
+    writeln!(
+        out,
+        "  rotation     {}{}",
+        match f.rotation {
+            Rotation::Abc => "abc (positive sequence)",
+            Rotation::Acb => "acb (reverse: b leads a)",
+        },
+        if t.artificial_star {
+            " | phase voltages are to the artificial star point (no neutral measured)"
+        } else {
+            ""
+        }
+    )?;
+    if t.wiring_hints.is_empty() {
+        writeln!(out, "  wiring       nothing odd in the phasors")?;
+    }
+    for (k, h) in t.wiring_hints.iter().enumerate() {
+        writeln!(out, "  {:<13}- {h}", if k == 0 { "wiring" } else { "" })?;
+    }
+    Ok(())
+}
+
 impl Exporter for TableExporter {
     fn write(&mut self, out: &mut dyn Write, a: &Analysis) -> io::Result<()> {
         let q = &a.quantities;
@@ -142,7 +304,10 @@ impl Exporter for TableExporter {
             num(a.sample_rate_hz, 6),
             a.samples,
         )?;
-        writeln!(out, "  channels     {}", a.channels.describe())?;
+        match &a.three_phase {
+            None => writeln!(out, "  channels     {}", a.channels.describe())?,
+            Some(_) => writeln!(out, "  system       {}", a.system)?,
+        }
         writeln!(
             out,
             "  frequency    {} | {} cycles, {} whole | uncertainties: k = {}, {} windows",
@@ -152,86 +317,17 @@ impl Exporter for TableExporter {
             u.coverage_factor,
             u.windows,
         )?;
-        let lag = q
-            .character
-            .map_or_else(|| "undefined".into(), |c| c.describe(q.power.active_w));
-        writeln!(
-            out,
-            "  phase angle  {} (DFT) | {} (zero crossing) | {lag}",
-            pm(q.phase_angle_dft_deg, u.phase_angle_deg.dft, "°"),
-            pm(
-                q.phase_angle_zero_crossing_deg,
-                u.phase_angle_deg.zero_crossing,
-                "°"
-            ),
-        )?;
-        writeln!(
-            out,
-            "  power factor displacement {} | true {}",
-            pm(q.displacement_pf, u.displacement_pf, ""),
-            pm(q.true_pf, u.true_pf, ""),
-        )?;
-        trace_rows(
-            out,
-            &[
-                ("voltage", "V", &q.voltage, &u.voltage),
-                ("current", "A", &q.current, &u.current),
-            ],
-        )?;
-        let p = &q.power;
-        writeln!(
-            out,
-            "  power        P {} | Q1 {} | S {} VA | P1 {} W | S1 {} VA",
-            pm(Some(p.active_w), Some(u.power.active_w), " W"),
-            pm(Some(p.reactive_var), Some(u.power.reactive_var), " var"),
-            num(p.apparent_va, 6),
-            num(p.fundamental_active_w, 6),
-            num(p.fundamental_apparent_va, 6),
-        )?;
-        writeln!(
-            out,
-            "  distortion   SN {} VA | DI {} var | DV {} var | SH {} VA | N {} var",
-            num(p.nonfundamental_apparent_va, 4),
-            num(p.current_distortion_var, 4),
-            num(p.voltage_distortion_var, 4),
-            num(p.harmonic_apparent_va, 4),
-            num(p.nonactive_var, 4),
-        )?;
-        // The largest harmonics of each trace, in percent of the fundamental.
-        for (label, pick) in [
-            (
-                "voltage",
-                (|h: &HarmonicLine| h.voltage_percent) as fn(&_) -> Option<f64>,
-            ),
-            ("current", |h: &HarmonicLine| h.current_percent),
-        ] {
-            let mut top: Vec<_> = q
-                .harmonics
-                .iter()
-                .skip(1)
-                .filter_map(|h| pick(h).map(|p| (h.order, p)))
-                .collect();
-            top.sort_by(|a, b| b.1.total_cmp(&a.1));
-            let shown: Vec<String> = top
-                .iter()
-                .take(6)
-                .filter(|(_, p)| *p >= 0.1)
-                .map(|(h, p)| format!("h{h} {} %", num(*p, 2)))
-                .collect();
-            writeln!(
-                out,
-                "  {label:<13}harmonics (orders 2-{}): {}",
-                q.harmonic_order,
-                if q.harmonics[0].voltage_percent.is_none() && label == "voltage"
-                    || q.harmonics[0].current_percent.is_none() && label == "current"
-                {
-                    "undefined without a fundamental".to_string()
-                } else if shown.is_empty() {
-                    "none above 0.1 %".to_string()
-                } else {
-                    shown.join(", ")
+        match &a.three_phase {
+            None => phase_block(out, &a.phases[0])?,
+            Some(t) => {
+                for p in &a.phases {
+                    writeln!(out, "  phase {}", phase_letter(p.phase))?;
+                    writeln!(out, "  channels     {}", p.channels.describe())?;
+                    phase_block(out, p)?;
                 }
-            )?;
+                writeln!(out, "  system")?;
+                system_block(out, t)?;
+            }
         }
         if let Some(e) = &a.expected {
             expected_block(out, e)?;

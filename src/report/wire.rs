@@ -8,16 +8,20 @@
 //! Keys carry their unit (`_hz`, `_deg`, `_w`, `_var`, `_va`, `_percent`); a value that is not
 //! defined (no fundamental, so no angle) is `null`.
 
-use crate::analysis::{Analysis, Settings};
-use crate::capture::{Channel, ChosenBy, UsedChannels};
+use crate::analysis::{Analysis, PhaseAnalysis, Settings, ThreePhaseAnalysis};
+use crate::capture::{Channel, ChosenBy, System, UsedChannels};
 use crate::check::expected::Expected;
 use crate::quantity::power::Powers;
+use crate::quantity::three_phase::{Effective, PositiveSequencePowers, Rotation, Totals};
 use crate::quantity::uncertainty::Uncertainty;
 use crate::quantity::{HarmonicLine, TraceFigures};
 use crate::warning::{Severity, Status};
 use serde::Serialize;
 
-/// One analysed capture.
+/// One analysed capture. A single-phase capture's figures sit at the top level (`voltage`,
+/// `power`, `phase_angle_deg`...); a three-phase capture's are under `phases.a`, `phases.b`,
+/// `phases.c`, with the system's `total`, `effective`, `positive_sequence`, `sequence`,
+/// `rotation` and `wiring_hints` beside them.
 #[derive(Debug, Clone, Serialize)]
 pub struct AnalysisRecord {
     /// The file as given.
@@ -30,11 +34,14 @@ pub struct AnalysisRecord {
     pub sample_rate_hz: f64,
     /// Samples per trace.
     pub samples: usize,
-    /// The channels used: name, 1-based column, unit as understood, how chosen.
-    pub channels: Channels,
+    /// `single-phase`, `3-phase 4-wire` or `3-phase 3-wire`.
+    pub system: System,
+    /// The channels used (single-phase): name, 1-based column, unit as understood, how chosen.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub channels: Option<Channels>,
     /// Settings used.
     pub settings: Settings,
-    /// Fundamental frequency.
+    /// Fundamental frequency (three-phase: found on phase a, every phase fitted at it).
     pub frequency_hz: f64,
     /// Cycles in the record.
     pub cycles: f64,
@@ -42,6 +49,38 @@ pub struct AnalysisRecord {
     pub whole_cycles: usize,
     /// Highest harmonic order in THD and spectrum.
     pub harmonic_order: usize,
+    /// A single-phase capture's figures.
+    #[serde(flatten, skip_serializing_if = "Option::is_none")]
+    pub single: Option<PhaseFiguresRecord>,
+    /// A three-phase capture's phases, keyed `a`, `b`, `c` in phase order.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub phases: Option<Phases>,
+    /// A three-phase capture's system figures.
+    #[serde(flatten, skip_serializing_if = "Option::is_none")]
+    pub three_phase: Option<ThreePhaseRecord>,
+    /// Comparison with a circuit model (`--expect`); absent without one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub expected: Option<Expected>,
+    /// What threatens a figure (clipping, too few cycles...), in words.
+    pub warnings: Vec<String>,
+    /// Their codes, for filtering.
+    pub warning_codes: Vec<&'static str>,
+    /// Measured facts worth acting on (PF below the threshold), in words.
+    pub findings: Vec<String>,
+    /// Their codes.
+    pub finding_codes: Vec<&'static str>,
+    /// Explained observations that threaten nothing, in words.
+    pub notes: Vec<String>,
+    /// Their codes.
+    pub note_codes: Vec<&'static str>,
+    /// Spectrum, orders 1..=harmonic_order (single-phase; each phase's is under `phases`).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub harmonics: Vec<HarmonicLine>,
+}
+
+/// One phase's figures (a single-phase capture's, or one phase of three).
+#[derive(Debug, Clone, Serialize)]
+pub struct PhaseFiguresRecord {
     /// Angle of V1 minus angle of I1, degrees in (−180, 180], positive when current lags.
     pub phase_angle_deg: PhaseAngles,
     /// cos θ1.
@@ -60,23 +99,84 @@ pub struct AnalysisRecord {
     pub power: Powers,
     /// Expanded uncertainties (k = 2), keys mirroring the results.
     pub uncertainty: Uncertainty,
-    /// Comparison with a circuit model (`--expect`); absent without one.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub expected: Option<Expected>,
-    /// What threatens a figure (clipping, too few cycles...), in words.
-    pub warnings: Vec<String>,
-    /// Their codes, for filtering.
-    pub warning_codes: Vec<&'static str>,
-    /// Measured facts worth acting on (PF below the threshold), in words.
-    pub findings: Vec<String>,
-    /// Their codes.
-    pub finding_codes: Vec<&'static str>,
-    /// Explained observations that threaten nothing, in words.
-    pub notes: Vec<String>,
-    /// Their codes.
-    pub note_codes: Vec<&'static str>,
-    /// Spectrum, orders 1..=harmonic_order.
+}
+
+/// One phase of a three-phase capture.
+#[derive(Debug, Clone, Serialize)]
+pub struct PhaseRecord {
+    /// The channels this phase's figures come from.
+    pub channels: Channels,
+    /// Its figures.
+    #[serde(flatten)]
+    pub figures: PhaseFiguresRecord,
+    /// Its spectrum.
     pub harmonics: Vec<HarmonicLine>,
+}
+
+/// The three phases, in phase order.
+#[derive(Debug, Clone, Serialize)]
+pub struct Phases {
+    /// Phase a (L1).
+    pub a: PhaseRecord,
+    /// Phase b (L2).
+    pub b: PhaseRecord,
+    /// Phase c (L3).
+    pub c: PhaseRecord,
+}
+
+/// The system figures of a three-phase capture (IEEE Std 1459-2010 §3.2, Fortescue).
+#[derive(Debug, Clone, Serialize)]
+pub struct ThreePhaseRecord {
+    /// What the per-phase voltages refer to: `neutral` (4-wire) or `artificial star point`
+    /// (3-wire: the point whose three voltages sum to zero; totals do not depend on it).
+    pub phase_voltages_to: &'static str,
+    /// P, P1, Q (sum of the phases' Q1), arithmetic and vector apparent power.
+    pub total: Totals,
+    /// Ve, Ie, Se, Se1, SeN, PFe.
+    pub effective: Effective,
+    /// P1+, Q1+, S1+ and the unbalance power SU1.
+    pub positive_sequence: PositiveSequencePowers,
+    /// Symmetrical components of the fundamental voltages and currents.
+    pub sequence: SequenceRecord,
+    /// The voltages' phase sequence: `abc` or `acb`.
+    pub rotation: Rotation,
+    /// How our own channels seem to be connected, in plain words (empty when nothing is odd).
+    pub wiring_hints: Vec<String>,
+}
+
+/// Symmetrical components of voltages and currents.
+#[derive(Debug, Clone, Serialize)]
+pub struct SequenceRecord {
+    /// Voltages.
+    pub voltage: VoltageSequence,
+    /// Currents.
+    pub current: CurrentSequence,
+}
+
+/// Symmetrical components of the fundamental voltages, V.
+#[derive(Debug, Clone, Serialize)]
+pub struct VoltageSequence {
+    /// Positive sequence (abc sense), V.
+    pub positive_v: f64,
+    /// Negative sequence, V.
+    pub negative_v: f64,
+    /// Zero sequence, V.
+    pub zero_v: f64,
+    /// u2: the smaller rotating sequence over the larger, percent (IEC 61000-4-30).
+    pub unbalance_percent: Option<f64>,
+}
+
+/// Symmetrical components of the fundamental currents, A.
+#[derive(Debug, Clone, Serialize)]
+pub struct CurrentSequence {
+    /// Positive sequence (abc sense), A.
+    pub positive_a: f64,
+    /// Negative sequence, A.
+    pub negative_a: f64,
+    /// Zero sequence, A.
+    pub zero_a: f64,
+    /// The sequence against the voltages' rotation over the one with it, percent.
+    pub unbalance_percent: Option<f64>,
 }
 
 /// The channels used.
@@ -155,21 +255,10 @@ pub struct PhaseAngles {
     pub zero_crossing: Option<f64>,
 }
 
-impl From<&Analysis> for AnalysisRecord {
-    fn from(a: &Analysis) -> Self {
-        let q = &a.quantities;
-        AnalysisRecord {
-            file: a.path.display().to_string(),
-            status: a.status(),
-            format: a.format.to_string(),
-            sample_rate_hz: a.sample_rate_hz,
-            samples: a.samples,
-            channels: Channels::from(&a.channels),
-            settings: a.settings,
-            frequency_hz: q.frequency_hz,
-            cycles: q.cycles,
-            whole_cycles: q.whole_cycles,
-            harmonic_order: q.harmonic_order,
+impl PhaseFiguresRecord {
+    fn new(p: &PhaseAnalysis, settings: &Settings) -> Self {
+        let q = &p.quantities;
+        PhaseFiguresRecord {
             phase_angle_deg: PhaseAngles {
                 dft: q.phase_angle_dft_deg,
                 zero_crossing: q.phase_angle_zero_crossing_deg,
@@ -177,11 +266,78 @@ impl From<&Analysis> for AnalysisRecord {
             displacement_pf: q.displacement_pf,
             true_pf: q.true_pf,
             character: q.character.map(|c| c.as_str()),
-            pf_below_threshold: q.true_pf.map(|pf| pf.abs() < a.settings.pf_threshold),
+            pf_below_threshold: q.true_pf.map(|pf| pf.abs() < settings.pf_threshold),
             voltage: q.voltage,
             current: q.current,
             power: q.power,
-            uncertainty: a.uncertainty,
+            uncertainty: p.uncertainty,
+        }
+    }
+}
+
+impl ThreePhaseRecord {
+    fn new(t: &ThreePhaseAnalysis) -> Self {
+        let f = &t.figures;
+        ThreePhaseRecord {
+            phase_voltages_to: if t.artificial_star {
+                "artificial star point"
+            } else {
+                "neutral"
+            },
+            total: f.total,
+            effective: f.effective,
+            positive_sequence: f.positive_sequence,
+            sequence: SequenceRecord {
+                voltage: VoltageSequence {
+                    positive_v: f.voltage_sequence.positive,
+                    negative_v: f.voltage_sequence.negative,
+                    zero_v: f.voltage_sequence.zero,
+                    unbalance_percent: f.voltage_sequence.unbalance_percent,
+                },
+                current: CurrentSequence {
+                    positive_a: f.current_sequence.positive,
+                    negative_a: f.current_sequence.negative,
+                    zero_a: f.current_sequence.zero,
+                    unbalance_percent: f.current_sequence.unbalance_percent,
+                },
+            },
+            rotation: f.rotation,
+            wiring_hints: t.wiring_hints.clone(),
+        }
+    }
+}
+
+impl From<&Analysis> for AnalysisRecord {
+    fn from(a: &Analysis) -> Self {
+        let q = &a.quantities;
+        let three = a.three_phase.as_ref().filter(|_| a.phases.len() == 3);
+        let phase = |k: usize| PhaseRecord {
+            channels: Channels::from(&a.phases[k].channels),
+            figures: PhaseFiguresRecord::new(&a.phases[k], &a.settings),
+            harmonics: a.phases[k].quantities.harmonics.clone(),
+        };
+        AnalysisRecord {
+            file: a.path.display().to_string(),
+            status: a.status(),
+            format: a.format.to_string(),
+            sample_rate_hz: a.sample_rate_hz,
+            samples: a.samples,
+            system: a.system,
+            channels: three.is_none().then(|| Channels::from(&a.channels)),
+            settings: a.settings,
+            frequency_hz: q.frequency_hz,
+            cycles: q.cycles,
+            whole_cycles: q.whole_cycles,
+            harmonic_order: q.harmonic_order,
+            single: three
+                .is_none()
+                .then(|| PhaseFiguresRecord::new(&a.phases[0], &a.settings)),
+            phases: three.map(|_| Phases {
+                a: phase(0),
+                b: phase(1),
+                c: phase(2),
+            }),
+            three_phase: three.map(ThreePhaseRecord::new),
             expected: a.expected.clone(),
             warnings: words(a, Severity::Warning),
             warning_codes: codes(a, Severity::Warning),
@@ -189,7 +345,11 @@ impl From<&Analysis> for AnalysisRecord {
             finding_codes: codes(a, Severity::Finding),
             notes: words(a, Severity::Note),
             note_codes: codes(a, Severity::Note),
-            harmonics: q.harmonics.clone(),
+            harmonics: if three.is_none() {
+                q.harmonics.clone()
+            } else {
+                Vec::new()
+            },
         }
     }
 }
@@ -245,7 +405,7 @@ pub fn flatten(value: &serde_json::Value) -> Vec<(String, String)> {
 /// CSV columns of `analyze --format csv` and of batch summaries. Taken from the record of a small
 /// synthetic capture, so they always match what the records hold.
 pub fn analysis_columns() -> Vec<String> {
-    use crate::capture::{Capture, SourceFormat, System, Trace};
+    use crate::capture::{Capture, SourceFormat, Trace};
     use crate::synth::{Spec, Waveform, synthesize};
     let (v, i) = synthesize(&Spec::clean(
         5_000.0,
