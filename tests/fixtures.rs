@@ -1,0 +1,45 @@
+//! The demo fixtures are generated, not hand-edited: the generator (`fixtures/generate.rs`, the
+//! `make-demo-fixtures` example, compiled here from the same file) rewrites every generated file
+//! in `fixtures/` byte for byte. Its output is invented demo data; what this checks is that the
+//! committed files are what the committed generator makes (seeded, repeatable).
+
+#[path = "../fixtures/generate.rs"]
+mod generate;
+
+use std::path::Path;
+
+/// The files the generator writes (the TOML sidecars, model files and the meter reading in
+/// `fixtures/` are written by hand).
+const GENERATED: [&str; 6] = [
+    "demo-workshop-compressor-before-capacitor.csv",
+    "demo-workshop-compressor-after-capacitor.csv",
+    "demo-lab-bench-series-rlc-semicolon-decimal-comma.csv",
+    "demo-lab-bench-parallel-rl-24bit.wav",
+    "demo-plant-feeder-bank-off.csv",
+    "demo-plant-feeder-bank-on.csv",
+];
+
+#[test]
+fn make_demo_fixtures_regenerates_the_fixtures_byte_for_byte() {
+    let out = tempfile::TempDir::new().unwrap();
+    generate::write_all(out.path()).unwrap();
+    let fixtures = Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures");
+    let mut written: Vec<String> = std::fs::read_dir(out.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    written.sort();
+    let mut want: Vec<String> = GENERATED.iter().map(|s| s.to_string()).collect();
+    want.sort();
+    assert_eq!(written, want, "the generator writes exactly these files");
+    for name in GENERATED {
+        let new = std::fs::read(out.path().join(name)).unwrap();
+        let committed = std::fs::read(fixtures.join(name)).unwrap();
+        assert!(
+            new == committed,
+            "{name}: the generator gives {} bytes, fixtures/ holds {} (different content)",
+            new.len(),
+            committed.len()
+        );
+    }
+}
