@@ -1,9 +1,14 @@
 //! Zero-crossing phase: when a trace crosses its DC level, averaged over every cycle.
 //!
 //! A crossing is armed only after the trace has left a hysteresis band around its DC level
-//! (so noise near zero gives one crossing, not many); its instant is where a least-squares line
-//! through the samples inside the band meets the level (plain linear interpolation when only the
-//! two straddling samples are there). Rising and falling crossings are both used, the falling ones
+//! (so noise near zero gives one crossing, not many); its instant is where a least-squares cubic
+//! through the samples inside the band, and one more on each side, meets the level (a plain cubic
+//! interpolation through four samples when only the two straddling samples are inside). A line
+//! through the straddling samples misses the crossing of a distorted waveform by
+//! x''/(2x')·u(1−u)·Δ² for a sample spacing Δ (Taylor expansion of the waveform; the error of
+//! linear interpolation, textbook numerical analysis): 0.15° at 40 samples per cycle on a current
+//! with 12 % third and 6 % fifth harmonic, always of one sign, so averaging never removes it; the
+//! cubic's error goes as Δ⁴. Rising and falling crossings are both used, the falling ones
 //! half a cycle late, so a residual DC offset that moves them in opposite directions cancels
 //! (common practice). Each crossing becomes a phase `2π·f·t` (mod 2π); their circular mean is the
 //! channel's crossing phase, and the scatter of the individual phases its standard uncertainty.
@@ -24,12 +29,11 @@ pub struct CrossingPhase {
 /// Crossing phase of `y` (sampled at `fs`, fundamental `f` Hz) about `level`, with a hysteresis
 /// half-width `band`. `None` with fewer than two crossings.
 pub fn crossing_phase(y: &[f64], fs: f64, f: f64, level: f64, band: f64) -> Option<CrossingPhase> {
+    // First pass: where the trace crosses, as (last sample outside the band before, first one
+    // outside after, falling).
     let mut state: i8 = 0; // -1 below the band, +1 above, 0 not known yet
     let mut last_out = 0usize; // last sample outside the band
-    // Sums of cos and sin of the phases, rising [0] and falling [1] kept apart so that each edge
-    // type weighs the same even when their counts differ by one.
-    let mut sums = [(0.0f64, 0.0f64, 0usize); 2];
-    let mut phases = Vec::new();
+    let mut hits = Vec::new();
     for (k, &raw) in y.iter().enumerate() {
         let x = raw - level;
         let side = if x >= band {
@@ -40,19 +44,42 @@ pub fn crossing_phase(y: &[f64], fs: f64, f: f64, level: f64, band: f64) -> Opti
             continue;
         };
         if state != 0 && side != state {
-            let t = crossing_time(&y[last_out..=k], level) + last_out as f64;
-            let mut p = 2.0 * PI * f * t / fs;
-            let edge = usize::from(side < 0);
-            if side < 0 {
-                p -= PI; // falling: half a cycle after the rising one
-            }
-            sums[edge].0 += p.cos();
-            sums[edge].1 += p.sin();
-            sums[edge].2 += 1;
-            phases.push(p);
+            hits.push((last_out, k, side < 0));
         }
         state = side;
         last_out = k;
+    }
+    // Second pass: each crossing placed by a cubic through the same number of samples (the
+    // median span of that edge type, and one more on each side), centred on the line's root. A
+    // window chosen by which noisy samples fall inside the band would pick samples by their
+    // noise: on a record sampled in step with the fundamental (every cycle at the same sample
+    // phase) that bias is the same in every cycle and does not average out (it doubled the
+    // error of a 40 dB record at 80 samples per cycle).
+    let points = |falling: bool| {
+        let mut spans: Vec<usize> = hits
+            .iter()
+            .filter(|h| h.2 == falling)
+            .map(|(a, b, _)| b - a + 1)
+            .collect();
+        spans.sort_unstable();
+        spans.get(spans.len() / 2).map_or(4, |m| (m + 2).max(4))
+    };
+    let width = [points(false), points(true)];
+    // Sums of cos and sin of the phases, rising [0] and falling [1] kept apart so that each edge
+    // type weighs the same even when their counts differ by one.
+    let mut sums = [(0.0f64, 0.0f64, 0usize); 2];
+    let mut phases = Vec::with_capacity(hits.len());
+    for &(first, last, falling) in &hits {
+        let edge = usize::from(falling);
+        let t = crossing_time(y, level, first, last, width[edge]);
+        let mut p = 2.0 * PI * f * t / fs;
+        if falling {
+            p -= PI; // falling: half a cycle after the rising one
+        }
+        sums[edge].0 += p.cos();
+        sums[edge].1 += p.sin();
+        sums[edge].2 += 1;
+        phases.push(p);
     }
     let count = phases.len();
     if count < 2 {
@@ -81,8 +108,90 @@ pub fn crossing_phase(y: &[f64], fs: f64, f: f64, level: f64, band: f64) -> Opti
     })
 }
 
+/// Sample index where the least-squares cubic through `points` samples of `y` centred on the
+/// crossing meets `level`; the crossing lies between `y[first]` and `y[last]`, which are on
+/// opposite sides of the band. Falls back to the least-squares line through `y[first..=last]`
+/// when the record is too short for the window or the cubic has no root there (noise can bend a
+/// cubic through few points).
+fn crossing_time(y: &[f64], level: f64, first: usize, last: usize, points: usize) -> f64 {
+    let line = line_crossing(&y[first..=last], level) + first as f64;
+    if y.len() < points || points < 4 {
+        return line;
+    }
+    let start =
+        ((line - (points as f64 - 1.0) / 2.0).round().max(0.0) as usize).min(y.len() - points);
+    let w = &y[start..start + points];
+    // Powers of x = (k − centre)/half-width, in [−1, 1], keep the 4×4 normal equations well
+    // conditioned.
+    let half = (points as f64 - 1.0) / 2.0;
+    let centre = start as f64 + half;
+    let rel = |index: f64| (index - centre) / half;
+    let mut a = [[0.0f64; 5]; 4];
+    for (k, v) in w.iter().enumerate() {
+        let x = (k as f64 - half) / half;
+        let p = [1.0, x, x * x, x * x * x];
+        for r in 0..4 {
+            for c in 0..4 {
+                a[r][c] += p[r] * p[c];
+            }
+            a[r][4] += p[r] * (v - level);
+        }
+    }
+    let Some(c) = solve4(a) else {
+        return line;
+    };
+    let value = |x: f64| c[0] + x * (c[1] + x * (c[2] + x * c[3]));
+    let slope = |x: f64| c[1] + x * (2.0 * c[2] + x * 3.0 * c[3]);
+    // Newton's method from the line's root, kept between the straddling samples.
+    let (lo, hi) = (rel(first as f64), rel(last as f64));
+    let mut x = rel(line);
+    for _ in 0..30 {
+        let d = slope(x);
+        if d == 0.0 || !d.is_finite() {
+            return line;
+        }
+        let step = value(x) / d;
+        x -= step;
+        if !(lo..=hi).contains(&x) {
+            return line;
+        }
+        if step.abs() < 1e-13 {
+            break;
+        }
+    }
+    // a root where the cubic turns back is noise, not a crossing
+    if value(lo) * value(hi) > 0.0 {
+        return line;
+    }
+    centre + x * half
+}
+
+/// Gaussian elimination with partial pivoting on an augmented 4×5 matrix; `None` when singular.
+fn solve4(mut a: [[f64; 5]; 4]) -> Option<[f64; 4]> {
+    for col in 0..4 {
+        let pivot = (col..4).max_by(|&r, &s| a[r][col].abs().total_cmp(&a[s][col].abs()))?;
+        if a[pivot][col].abs() < 1e-300 {
+            return None;
+        }
+        a.swap(col, pivot);
+        let pivot_row = a[col];
+        for row in a.iter_mut().skip(col + 1) {
+            let f = row[col] / pivot_row[col];
+            for (x, p) in row.iter_mut().zip(pivot_row).skip(col) {
+                *x -= f * p;
+            }
+        }
+    }
+    let mut x = [0.0; 4];
+    for r in (0..4).rev() {
+        let tail: f64 = (r + 1..4).map(|c| a[r][c] * x[c]).sum();
+        x[r] = (a[r][4] - tail) / a[r][r];
+    }
+    x.iter().all(|v| v.is_finite()).then_some(x)
+}
+
 /// Sample offset (from the start of `w`) where the line through `w` meets `level`.
-fn crossing_time(w: &[f64], level: f64) -> f64 {
+fn line_crossing(w: &[f64], level: f64) -> f64 {
     let n = w.len();
     if n == 2 {
         let (a, b) = (w[0] - level, w[1] - level);

@@ -25,36 +25,73 @@ const BAND_SHARE: f64 = 0.03;
 
 /// The crossing phase of the fitted series `harmonics` (RMS phasors, index h−1), radians.
 fn model_crossing(harmonics: &[Complex64]) -> Option<f64> {
+    model_crossing_sampled(harmonics, POINTS_PER_CYCLE as f64, 0.0)
+}
+
+/// The crossing phase the detector finds on the fitted series sampled at `per_cycle` samples
+/// per cycle (need not be whole), the first sample `offset` of a sample past phase 0, radians.
+fn model_crossing_sampled(harmonics: &[Complex64], per_cycle: f64, offset: f64) -> Option<f64> {
     let fund = harmonics.first()?.norm();
-    if !(fund.is_finite() && fund > 0.0) {
+    if !(fund.is_finite() && fund > 0.0 && per_cycle >= 4.0) {
         return None;
     }
-    let n = POINTS_PER_CYCLE * CYCLES;
-    let step = Complex64::from_polar(1.0, 2.0 * PI / POINTS_PER_CYCLE as f64);
-    // y_k = Σ_h √2·Re(X_h·e^{j h ψ_k}); the powers e^{jhψ} by recurrence, refreshed every cycle.
-    let mut y = vec![0.0; n];
-    let mut rot = Complex64::new(1.0, 0.0);
-    for (k, yk) in y.iter_mut().enumerate() {
-        if k % POINTS_PER_CYCLE == 0 {
-            rot = Complex64::new(1.0, 0.0);
-        }
-        let mut p = rot;
-        let mut sum = 0.0;
-        for x in harmonics {
-            sum += (x * p).re;
-            p *= rot;
-        }
-        *yk = SQRT_2 * sum;
-        rot *= step;
+    let n = (per_cycle * CYCLES as f64).ceil() as usize;
+    let step = 2.0 * PI / per_cycle;
+    // y_k = Σ_h √2·Re(X_h·e^{j h ψ_k}); the powers e^{jhψ} by recurrence, ψ_k computed afresh.
+    let y: Vec<f64> = (0..n)
+        .map(|k| {
+            let rot = Complex64::from_polar(1.0, (k as f64 + offset) * step);
+            let mut p = rot;
+            let mut sum = 0.0;
+            for x in harmonics {
+                sum += (x * p).re;
+                p *= rot;
+            }
+            SQRT_2 * sum
+        })
+        .collect();
+    crossing_phase(&y, per_cycle, 1.0, 0.0, BAND_SHARE * fund * SQRT_2).map(|c| {
+        // the detector times crossings from the first sample; phase 0 is `offset` before it
+        c.phase_rad + offset * step
+    })
+}
+
+/// Above this many samples per cycle the crossing detector's interpolation error is negligible
+/// (its cubic's error falls as the fourth power of the sample spacing).
+const INTERPOLATION_CHECKED_UP_TO: f64 = 512.0;
+/// Sub-sample starting points tried.
+const OFFSETS: usize = 4;
+
+/// How far the crossing detector's interpolation between samples moves this trace's crossing
+/// phase at `per_cycle` samples per cycle, radians, one signed value for each of [`OFFSETS`]
+/// sub-sample starting points: the detector run on the fitted series sampled that way, against
+/// the same series at 2048 points per cycle. Harmonics no larger than `floor` (RMS) are left
+/// out of the series: fitted noise, whose curvature the detector averages away over the cycles
+/// of a record but a repeated model would not. Empty when the trace has no fundamental, or above
+/// 512 samples per cycle.
+pub fn interpolation_errors(c: &ChannelPhasors, per_cycle: f64, floor: f64) -> Vec<f64> {
+    if !c.has_fundamental || per_cycle > INTERPOLATION_CHECKED_UP_TO {
+        return Vec::new();
     }
-    crossing_phase(
-        &y,
-        POINTS_PER_CYCLE as f64,
-        1.0,
-        0.0,
-        BAND_SHARE * fund * SQRT_2,
-    )
-    .map(|c| c.phase_rad)
+    let harmonics: Vec<Complex64> = c
+        .harmonics
+        .iter()
+        .enumerate()
+        .map(|(k, x)| {
+            if k == 0 || x.norm() > floor {
+                *x
+            } else {
+                Complex64::new(0.0, 0.0)
+            }
+        })
+        .collect();
+    let Some(reference) = model_crossing(&harmonics) else {
+        return Vec::new();
+    };
+    (0..OFFSETS)
+        .filter_map(|k| model_crossing_sampled(&harmonics, per_cycle, k as f64 / OFFSETS as f64))
+        .map(|p| wrap(p - reference))
+        .collect()
 }
 
 /// How far the harmonics move this trace's crossing phase, radians; `None` when the trace has no
