@@ -208,3 +208,25 @@ fn reference_sums_are_right_on_hand_known_cases() {
     assert!((common::rms(&sin) - 0.5f64.sqrt()).abs() < 1e-12);
     assert!(common::mean_power(&cos, &sin).abs() < 1e-12);
 }
+
+/// The naive zero-crossing reference (`common::crossing_phase`) on hand-known cases: a cosine
+/// crosses rising at −90° of its cycle; a current lagging 30° crosses 30° later; and a 5 % third
+/// harmonic moves the crossing of a sine by up to 2.87° over its phase (references §4,
+/// [computed]: the root of sin x + 0.05·sin(3x + φ) at the worst φ).
+#[test]
+fn the_crossing_reference_is_right_on_hand_known_cases() {
+    let deg = |w: &Waveform| common::crossing_phase(w).unwrap().to_degrees();
+    assert!((deg(&Waveform::sine(1.0, 0.0)) + 90.0).abs() < 1e-9);
+    let angle =
+        common::crossing_angle_deg(&Waveform::sine(230.0, 0.0), &Waveform::sine(10.0, -30.0));
+    assert!((angle.unwrap() - 30.0).abs() < 1e-9);
+    // sin x is the cosine at −90°; its third harmonic sin(3x + φ) the cosine at 3·(−90°) + φ
+    let plain = deg(&Waveform::sine(1.0, -90.0));
+    let worst = (0..360)
+        .map(|p| {
+            let w = Waveform::sine(1.0, -90.0).with(3, 0.05, -270.0 + p as f64);
+            (deg(&w) - plain).abs()
+        })
+        .fold(0.0, f64::max);
+    assert!((worst - 2.87).abs() < 0.005, "{worst}");
+}
