@@ -166,7 +166,7 @@ const METHODS: [(&str, &str); 6] = [
     (
         "Zero crossings",
         "crossings of each trace through its DC level, armed by a hysteresis band above the \
-         noise, each placed by a least-squares line through the samples near zero; rising and \
+         noise, each placed by a least-squares cubic through the samples around it; rising and \
          falling edges averaged over all cycles. Harmonics shift zero crossings; the DFT angle \
          belongs to the fundamental.",
     ),
