@@ -456,14 +456,20 @@ fn three_phase_of(
         &samples[2].voltage,
     );
     let line_rms = [rms_diff(va, vb), rms_diff(vb, vc), rms_diff(vc, va)];
+    // a measured neutral: its own true RMS and fundamental, fitted at the phases' frequency
     let neutral = capture.neutral.as_ref().map(|n| {
         let rms = (n.samples[..span].iter().map(|x| x * x).sum::<f64>() / span as f64).sqrt();
-        // the fundamental of the measured neutral: the phasor sum of the line currents'
-        // fundamentals (Kirchhoff), as the record has no separate fit of it
-        let sum = figures3[0].current + figures3[1].current + figures3[2].current;
+        let fundamental = estimate::estimate_at(
+            &samples[0].voltage,
+            &n.samples,
+            capture.sample_rate_hz,
+            phases[0].estimate.order,
+            Some(phases[0].quantities.frequency_hz),
+        )
+        .map_or(rms, |e| e.current.fundamental().norm());
         RmsParts {
             total: rms,
-            fundamental: sum.norm(),
+            fundamental,
         }
     });
     let figures = ThreePhase::new(&ThreePhaseInput {
@@ -618,8 +624,12 @@ impl Analysis {
         Some(e)
     }
 
-    /// Our measurement as the meter check needs it; `None` without a defined PF.
+    /// Our measurement as the meter check needs it; `None` without a defined PF. For a
+    /// three-phase capture, the system's: see [`Analysis::meter_measured_three_phase`].
     pub fn meter_measured(&self) -> Option<Measured> {
+        if self.three_phase.is_some() {
+            return self.meter_measured_three_phase();
+        }
         let q = &self.quantities;
         let u = &self.uncertainty;
         let (v, i) = (q.voltage.rms, q.current.rms);
@@ -653,5 +663,146 @@ impl Analysis {
             u_v: u.voltage.rms,
             u_i: u.current.rms,
         })
+    }
+
+    /// A three-phase capture's measurement as a meter of the whole system registers it (our
+    /// rule, documented in the README): P, Q1, P1 and Budeanu's Q summed over the phases; S the
+    /// arithmetic sum of the phases' V·I (the IEEE 1459 candidates S1 and the vector
+    /// √(P² + Q1²) are offered beside it by the meter check); PF = P/S; the angle and the
+    /// displacement PF those of the total P1 + jQ1; V and I the means of the phases (what a
+    /// meter shows as "V" and "I"). Uncertainties: the phases' probes are independent, so U of
+    /// the sums is the root sum of squares; U of PF by first-order propagation from P and S;
+    /// U of the displacement PF the largest of the phases'.
+    pub fn meter_measured_three_phase(&self) -> Option<Measured> {
+        let ph = &self.phases;
+        let rss =
+            |f: &dyn Fn(&PhaseAnalysis) -> f64| ph.iter().map(|p| f(p).powi(2)).sum::<f64>().sqrt();
+        let sum = |f: &dyn Fn(&PhaseAnalysis) -> f64| ph.iter().map(f).sum::<f64>();
+        let mean = |f: &dyn Fn(&PhaseAnalysis) -> f64| sum(f) / ph.len() as f64;
+        let p = sum(&|x| x.quantities.power.active_w);
+        let q = sum(&|x| x.quantities.power.reactive_var);
+        let p1 = sum(&|x| x.quantities.power.fundamental_active_w);
+        let s = sum(&|x| x.quantities.power.apparent_va);
+        if !(s > 0.0) {
+            return None;
+        }
+        let u_p = rss(&|x| x.uncertainty.power.active_w);
+        let u_q = rss(&|x| x.uncertainty.power.reactive_var);
+        let u_s = rss(&|x| {
+            let (v, i) = (x.quantities.voltage.rms, x.quantities.current.rms);
+            let rel_v = if v > 0.0 {
+                x.uncertainty.voltage.rms / v
+            } else {
+                0.0
+            };
+            let rel_i = if i > 0.0 {
+                x.uncertainty.current.rms / i
+            } else {
+                0.0
+            };
+            x.quantities.power.apparent_va * rel_v.hypot(rel_i)
+        });
+        let pf = p / s;
+        let u_pf = pf.abs() * (if p != 0.0 { u_p / p } else { 0.0 }).hypot(u_s / s);
+        let s1_total = p1.hypot(q);
+        let u_dpf = ph
+            .iter()
+            .filter_map(|x| x.uncertainty.displacement_pf)
+            .fold(None, |m: Option<f64>, u| Some(m.map_or(u, |m| m.max(u))))?;
+        Some(Measured {
+            p_w: p,
+            q_var: q,
+            s_va: s,
+            pf,
+            angle_deg: q.atan2(p1).to_degrees(),
+            p1_w: p1,
+            q_budeanu_var: sum(&|x| {
+                x.quantities
+                    .harmonics
+                    .iter()
+                    .map(|h| h.voltage_rms * h.current_rms * h.angle_deg.to_radians().sin())
+                    .sum()
+            }),
+            nonactive_var: (s * s - p * p).max(0.0).sqrt(),
+            s1_va: sum(&|x| x.quantities.power.fundamental_apparent_va),
+            displacement_pf: if s1_total > 0.0 { p1 / s1_total } else { 1.0 },
+            u_displacement_pf: u_dpf,
+            v1: mean(&|x| x.quantities.voltage.fundamental_rms),
+            i1: mean(&|x| x.quantities.current.fundamental_rms),
+            v_rms: mean(&|x| x.quantities.voltage.rms),
+            i_rms: mean(&|x| x.quantities.current.rms),
+            u_p_w: u_p,
+            u_q_var: u_q,
+            u_s_va: u_s,
+            u_pf,
+            u_v: mean(&|x| x.uncertainty.voltage.rms),
+            u_i: mean(&|x| x.uncertainty.current.rms),
+        })
+    }
+
+    /// For a three-phase capture whose meter reading of P (and Q) is off: which connection of the
+    /// meter's CTs (every assignment to phases, every polarity: 48 for 4-wire, the two-element
+    /// patterns for 3-wire) reproduces the reading, in words with what it would read; empty for
+    /// a single-phase capture or when the correct connection explains the reading as well.
+    pub fn meter_connection_hints(&self, reading_p: f64, reading_q: Option<f64>) -> Vec<String> {
+        let Some(t) = &self.three_phase else {
+            return Vec::new();
+        };
+        let v = [0, 1, 2].map(|k| self.phases[k].quantities.fundamentals.0);
+        let i = [0, 1, 2].map(|k| self.phases[k].quantities.fundamentals.1);
+        let three_wire = t.artificial_star;
+        let ranked = wiring::explain_reading(&v, &i, reading_p, reading_q, three_wire);
+        let Some(best) = ranked.first() else {
+            return Vec::new();
+        };
+        let correct = ranked
+            .iter()
+            .find(|e| e.connection.is_correct())
+            .map_or(f64::INFINITY, |e| e.mismatch);
+        // worth saying when it explains the reading within 2 % of the load's S1 and clearly
+        // better than the correct connection does
+        if best.connection.is_correct()
+            || best.mismatch > 0.02
+            || correct < 2.0 * best.mismatch + 0.01
+        {
+            return Vec::new();
+        }
+        let kw = |w: f64| format!("{:.2} kW", w / 1000.0);
+        let load_p = t.figures.total.fundamental_active_w;
+        // every connection that fits as well, the simplest (fewest faults) first
+        let faults =
+            |c: &wiring::Connection| (0..3).filter(|&k| c.phase[k] != k || c.reversed[k]).count();
+        let mut fits: Vec<&wiring::Explanation> = ranked
+            .iter()
+            .filter(|e| !e.connection.is_correct() && e.mismatch <= best.mismatch + 0.002)
+            .collect();
+        fits.sort_by_key(|e| faults(&e.connection));
+        let fewest = faults(&fits[0].connection);
+        let mut simplest: Vec<&wiring::Explanation> = fits
+            .iter()
+            .copied()
+            .filter(|e| faults(&e.connection) == fewest)
+            .collect();
+        simplest.sort_by(|x, y| x.text.cmp(&y.text));
+        let mut hints = Vec::new();
+        if simplest.len() == 1 {
+            hints.push(format!(
+                "{}: it would read {} where the load takes {}",
+                simplest[0].text,
+                kw(simplest[0].active_w),
+                kw(load_p)
+            ));
+        } else {
+            let texts: Vec<&str> = simplest.iter().take(3).map(|e| e.text.as_str()).collect();
+            hints.push(format!(
+                "the reading fits any of: {} (each would read about {} where the load takes {}); \
+                 the reading alone cannot tell them apart: compare the meter's per-phase \
+                 readings or check the CT connections at the meter",
+                texts.join("; or "),
+                kw(simplest[0].active_w),
+                kw(load_p)
+            ));
+        }
+        hints
     }
 }

@@ -10,24 +10,41 @@ use std::path::Path;
 
 /// The files the generator writes (the TOML sidecars, model files and the meter reading in
 /// `fixtures/` are written by hand).
-const GENERATED: [&str; 6] = [
+const GENERATED: [&str; 7] = [
     "demo-workshop-compressor-before-capacitor.csv",
     "demo-workshop-compressor-after-capacitor.csv",
     "demo-lab-bench-series-rlc-semicolon-decimal-comma.csv",
     "demo-lab-bench-parallel-rl-24bit.wav",
     "demo-plant-feeder-bank-off.csv",
     "demo-plant-feeder-bank-on.csv",
+    "three-phase/demo-riverside-board-ct-reversed.csv",
 ];
+
+/// Every file under `dir`, as paths relative to it with `/` between folders.
+fn files_under(dir: &Path) -> Vec<String> {
+    let mut out = Vec::new();
+    for e in std::fs::read_dir(dir).unwrap() {
+        let e = e.unwrap();
+        let name = e.file_name().to_string_lossy().into_owned();
+        if e.file_type().unwrap().is_dir() {
+            out.extend(
+                files_under(&e.path())
+                    .into_iter()
+                    .map(|f| format!("{name}/{f}")),
+            );
+        } else {
+            out.push(name);
+        }
+    }
+    out
+}
 
 #[test]
 fn make_demo_fixtures_regenerates_the_fixtures_byte_for_byte() {
     let out = tempfile::TempDir::new().unwrap();
     generate::write_all(out.path()).unwrap();
     let fixtures = Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures");
-    let mut written: Vec<String> = std::fs::read_dir(out.path())
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
+    let mut written = files_under(out.path());
     written.sort();
     let mut want: Vec<String> = GENERATED.iter().map(|s| s.to_string()).collect();
     want.sort();

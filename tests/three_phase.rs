@@ -404,3 +404,100 @@ fn single_phase_checks_refuse_a_three_phase_capture() {
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("3-phase 4-wire"), "{err}");
 }
+
+/// A batch summary's row of a three-phase capture carries the system figures: totals, effective
+/// PF, u2 and rotation (the per-phase figures are in `--format json`).
+#[test]
+fn a_batch_row_of_a_three_phase_capture_carries_the_system_figures() {
+    let dir = TempDir::new().unwrap();
+    let site = dir.path().join("site");
+    std::fs::create_dir(&site).unwrap();
+    write_csv(&site, "board.csv", &balanced(230.0, 10.0, 30.0), 10.0, None);
+    let out = dir.path().join("summary.csv");
+    let (code, _, err) = cli(&[
+        "batch",
+        "--out",
+        out.to_str().unwrap(),
+        site.to_str().unwrap(),
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    let mut r = csv::Reader::from_reader(text.as_bytes());
+    let header: Vec<String> = r.headers().unwrap().iter().map(str::to_string).collect();
+    let row = r.records().next().unwrap().unwrap();
+    let cell = |name: &str| {
+        let k = header
+            .iter()
+            .position(|h| h == name)
+            .unwrap_or_else(|| panic!("no column {name} in {header:?}"));
+        row[k].to_string()
+    };
+    assert_eq!(cell("system"), "3-phase 4-wire");
+    let p: f64 = cell("total.active_w").parse().unwrap();
+    assert!(rel(p, 3.0 * 230.0 * 10.0 * 30f64.to_radians().cos()) < 1e-6);
+    let pfe: f64 = cell("effective.pf").parse().unwrap();
+    assert!((pfe - 30f64.to_radians().cos()).abs() < 1e-6);
+    let u2: f64 = cell("sequence.voltage.unbalance_percent").parse().unwrap();
+    assert!(u2 < 1e-3);
+    assert_eq!(cell("rotation"), "abc");
+}
+
+/// The commissioning check: a 4-wire meter on an unbalanced load reads low; of the 48
+/// connections of its CTs, the one that reproduces the reading is named with what it would read
+/// (references §9: a reversed CT registers −Pk for its phase; the truth is computed here from
+/// the phasors the file was written from).
+#[test]
+fn a_meter_reading_low_is_explained_by_the_ct_connection_that_reproduces_it() {
+    let dir = TempDir::new().unwrap();
+    let cols = vec![
+        col("Va", 230.0, 0.0),
+        col("Vb", 230.0, -120.0),
+        col("Vc", 230.0, 120.0),
+        col("Ia", 10.0, -20.0),
+        col("Ib", 8.0, -120.0 - 30.0),
+        col("Ic", 12.0, 120.0 - 25.0),
+    ];
+    let path = write_csv(dir.path(), "shop.csv", &cols, 10.0, Some(70.0));
+    let p_phase = |k: usize| {
+        let (v, i) = (&cols[k], &cols[k + 3]);
+        v.rms * i.rms * (v.deg - i.deg).to_radians().cos()
+    };
+    let load = p_phase(0) + p_phase(1) + p_phase(2);
+    let reading = p_phase(0) - p_phase(1) + p_phase(2);
+    let (code, out, err) = cli(&[
+        "meter",
+        path.to_str().unwrap(),
+        "--reading",
+        &format!("p={:.1}W", reading),
+        "--class",
+        "1",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, Some(1), "the meter fails: {err}");
+    let v: serde_json::Value = serde_json::from_str(out.lines().next().unwrap()).unwrap();
+    let hints = v["wiring_hints"].as_array().unwrap();
+    let first = hints[0].as_str().unwrap();
+    assert!(
+        first.starts_with(&format!(
+            "the meter's phase b CT is reversed: it would read {:.2} kW where the load takes {:.2} kW",
+            reading / 1000.0,
+            load / 1000.0
+        )),
+        "{hints:?}"
+    );
+    // a reading that is right gets no such hint
+    let (code, out, err) = cli(&[
+        "meter",
+        path.to_str().unwrap(),
+        "--reading",
+        &format!("p={:.1}W", load),
+        "--class",
+        "1",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    let v: serde_json::Value = serde_json::from_str(out.lines().next().unwrap()).unwrap();
+    assert!(v["wiring_hints"].as_array().unwrap().is_empty(), "{v}");
+}

@@ -66,10 +66,6 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
             return Outcome::InputErrors;
         }
     };
-    if let Err(e) = analysis.single_phase_only("the meter check") {
-        let _ = writeln!(err, "error: {e}");
-        return Outcome::InputErrors;
-    }
     let Some(m) = analysis.meter_measured() else {
         let _ = writeln!(
             err,
@@ -78,7 +74,13 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
         );
         return Outcome::InputErrors;
     };
-    let r = meter::check(&reading, &m, &spec, &analysis.warnings);
+    let mut r = meter::check(&reading, &m, &spec, &analysis.warnings);
+    if let Some(p) = reading.p_w {
+        // three phases: which connection of the meter's CTs reproduces the reading, first
+        let mut hints = analysis.meter_connection_hints(p, reading.q_var);
+        hints.append(&mut r.wiring_hints);
+        r.wiring_hints = hints;
+    }
     if report::meter::write(out, &r, &analysis, format(a.format)).is_err() {
         let _ = writeln!(
             err,

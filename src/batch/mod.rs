@@ -408,7 +408,6 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
     };
     let wants_single = [
         (setup.expect.is_some(), "the model comparison"),
-        (setup.meter.is_some(), "the meter check"),
         (setup.bank.is_some(), "the bank check"),
     ];
     for (wanted, what) in wants_single {
@@ -425,7 +424,12 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
     let mut result = serde_json::to_value(AnalysisRecord::from(&a)).unwrap_or(Value::Null);
     if let (Some(spec), Some(m)) = (&setup.meter, a.meter_measured()) {
         let meter = spec.meter();
-        let r = meter::check(&spec.reading, &m, &meter, &a.warnings);
+        let mut r = meter::check(&spec.reading, &m, &meter, &a.warnings);
+        if let Some(p) = spec.reading.p_w {
+            let mut hints = a.meter_connection_hints(p, spec.reading.q_var);
+            hints.append(&mut r.wiring_hints);
+            r.wiring_hints = hints;
+        }
         let failed: Vec<&str> = r
             .checks
             .iter()

@@ -402,38 +402,57 @@ pub fn flatten(value: &serde_json::Value) -> Vec<(String, String)> {
 }
 
 /// The keys of an [`AnalysisRecord`] flattened with dots (the spectrum left out), in order: the
-/// CSV columns of `analyze --format csv` and of batch summaries. Taken from the record of a small
-/// synthetic capture, so they always match what the records hold.
+/// CSV columns of `analyze --format csv` and of batch summaries. Taken from the records of small
+/// synthetic captures, so they always match what the records hold: a single-phase capture's
+/// keys, then a three-phase capture's system keys (`total.*`, `effective.*`, `sequence.*`,
+/// `rotation`...; its per-phase figures are in JSON only).
 pub fn analysis_columns() -> Vec<String> {
     use crate::capture::{Capture, SourceFormat, Trace};
     use crate::synth::{Spec, Waveform, synthesize};
-    let (v, i) = synthesize(&Spec::clean(
-        5_000.0,
-        50.0,
-        1_000,
-        Waveform::sine(230.0, 0.0).with(3, 2.0, 0.0),
-        Waveform::sine(10.0, -30.0).with(3, 1.0, 0.0),
-    ));
-    let trace = |name: &str, column, samples| Trace::plain(name, column, samples);
-    let capture = Capture {
-        path: "synthetic".into(),
-        format: SourceFormat::Csv {
-            delimiter: b',',
-            decimal_comma: false,
-        },
-        sample_rate_hz: 5_000.0,
-        system: System::Single,
-        voltages: vec![trace("v", 1, v)],
-        currents: vec![trace("i", 2, i)],
-        neutral: None,
-        time: None,
-        skew_s: 0.0,
-        warnings: Vec::new(),
+    let record_keys = |system: System, pairs: &[(f64, f64)]| -> Vec<String> {
+        let (mut voltages, mut currents) = (Vec::new(), Vec::new());
+        for (k, &(shift, lag)) in pairs.iter().enumerate() {
+            let (v, i) = synthesize(&Spec::clean(
+                5_000.0,
+                50.0,
+                1_000,
+                Waveform::sine(230.0, shift).with(3, 2.0, 0.0),
+                Waveform::sine(10.0, shift - lag).with(3, 1.0, 0.0),
+            ));
+            voltages.push(Trace::plain("v", k + 1, v));
+            currents.push(Trace::plain("i", k + 4, i));
+        }
+        let capture = Capture {
+            path: "synthetic".into(),
+            format: SourceFormat::Csv {
+                delimiter: b',',
+                decimal_comma: false,
+            },
+            sample_rate_hz: 5_000.0,
+            system,
+            voltages,
+            currents,
+            neutral: None,
+            time: None,
+            skew_s: 0.0,
+            warnings: Vec::new(),
+        };
+        match crate::analysis::analyze(capture, &crate::analysis::Settings::default()) {
+            Ok(a) => serde_json::to_value(AnalysisRecord::from(&a))
+                .map(|v| flatten(&v).into_iter().map(|(k, _)| k).collect())
+                .unwrap_or_default(),
+            Err(_) => Vec::new(),
+        }
     };
-    match crate::analysis::analyze(capture, &crate::analysis::Settings::default()) {
-        Ok(a) => serde_json::to_value(AnalysisRecord::from(&a))
-            .map(|v| flatten(&v).into_iter().map(|(k, _)| k).collect())
-            .unwrap_or_default(),
-        Err(_) => Vec::new(),
+    let mut keys = record_keys(System::Single, &[(0.0, 30.0)]);
+    let three = record_keys(
+        System::FourWire,
+        &[(0.0, 30.0), (-120.0, 30.0), (120.0, 30.0)],
+    );
+    for k in three {
+        if !k.starts_with("phases.") && !keys.contains(&k) {
+            keys.push(k);
+        }
     }
+    keys
 }
