@@ -501,3 +501,102 @@ fn a_meter_reading_low_is_explained_by_the_ct_connection_that_reproduces_it() {
     let v: serde_json::Value = serde_json::from_str(out.lines().next().unwrap()).unwrap();
     assert!(v["wiring_hints"].as_array().unwrap().is_empty(), "{v}");
 }
+
+/// Writes the columns with a logger's date-time stamps instead of seconds: `start` plus k·step
+/// nanoseconds, formatted by `stamp`.
+fn write_stamped(
+    dir: &Path,
+    file: &str,
+    cols: &[Col],
+    samples: usize,
+    stamp: impl Fn(i64) -> String,
+) -> PathBuf {
+    let mut text = String::from("Timestamp");
+    for c in cols {
+        text.push(',');
+        text.push_str(c.name);
+    }
+    text.push('\n');
+    for k in 0..samples {
+        let t = k as f64 / RATE;
+        text.push_str(&stamp(k as i64));
+        for c in cols {
+            let x = c.rms * SQRT_2 * (2.0 * PI * F * t + c.deg.to_radians()).cos();
+            text.push_str(&format!(",{x:.6}"));
+        }
+        text.push('\n');
+    }
+    let path = dir.join(file);
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+/// `2020-02-24 18:15:21.499998208` + k·100 µs, written as a logger writes it: nanoseconds, the
+/// date and the time of day rolling over (the test formats them itself).
+fn iso(k: i64, with_t: bool, zone: &str) -> String {
+    iso_at(k * 100_000, with_t, zone)
+}
+
+/// The stamp `offset_ns` after 2020-02-24 18:15:21.499998208.
+fn iso_at(offset_ns: i64, with_t: bool, zone: &str) -> String {
+    let ns = 18 * 3_600_000_000_000i64 + 15 * 60_000_000_000 + 21_499_998_208 + offset_ns;
+    let (s, frac) = (ns / 1_000_000_000, ns % 1_000_000_000);
+    format!(
+        "2020-02-24{}{:02}:{:02}:{:02}.{frac:09}{zone}",
+        if with_t { 'T' } else { ' ' },
+        s / 3600,
+        s / 60 % 60,
+        s % 60
+    )
+}
+
+/// Date-time time columns as data loggers write them (ISO 8601, fractions to the nanosecond,
+/// with or without `T` and a zone): the sample interval comes from the stamps.
+#[test]
+fn date_time_stamps_give_the_sample_interval() {
+    let dir = TempDir::new().unwrap();
+    let cols = balanced(230.0, 10.0, 30.0);
+    for (name, with_t, zone) in [("plain.csv", false, ""), ("zoned.csv", true, "+01:00")] {
+        let path = write_stamped(dir.path(), name, &cols, 2000, |k| iso(k, with_t, zone));
+        let c = capture::load(&path, &LoadOptions::default()).unwrap_or_else(|e| panic!("{e}"));
+        assert!(
+            (c.sample_rate_hz - RATE).abs() < 1e-6,
+            "{}",
+            c.sample_rate_hz
+        );
+        assert_eq!(c.time.as_ref().unwrap().name, "Timestamp");
+        assert!(
+            c.warnings.iter().all(|w| w.code() != "time-jitter"),
+            "{:?}",
+            c.warnings
+        );
+        let a = analyze(c, &Settings::default()).unwrap();
+        assert!((a.quantities.frequency_hz - F).abs() < 1e-6);
+        assert_eq!(a.system, System::FourWire);
+    }
+    // one late stamp (the logger's clock nudged by 30 µs once) is a warning, not an error
+    let path = write_stamped(dir.path(), "nudged.csv", &cols, 2000, |k| {
+        iso_at(k * 100_000 + if k == 1000 { 30_000 } else { 0 }, false, "")
+    });
+    let c = capture::load(&path, &LoadOptions::default()).unwrap_or_else(|e| panic!("{e}"));
+    assert!(
+        c.warnings.iter().any(|w| w.code() == "time-jitter"),
+        "{:?}",
+        c.warnings
+    );
+    // a stamp that is not one is an error naming the line
+    let path = write_stamped(dir.path(), "broken.csv", &cols, 200, |k| {
+        if k == 150 {
+            "2020-02-24 18:15:2x.0".into()
+        } else {
+            iso(k, false, "")
+        }
+    });
+    let e = capture::load(&path, &LoadOptions::default())
+        .unwrap_err()
+        .to_string();
+    assert!(
+        e.contains("line 152") && e.contains("expected a date-time"),
+        "{e}"
+    );
+}

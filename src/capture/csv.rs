@@ -10,9 +10,10 @@
 //! The time unit and the timestamps' resolution are applied to the whole record's interval once,
 //! after parsing: nothing is added per cell.
 
-use super::channel::{Channel, Content, PLAIN_TIME_WORDS, Role, SECONDS_WORDS};
+use super::channel::{Channel, Content, PLAIN_TIME_WORDS, Role, SECONDS_WORDS, Unit};
 use super::{Capture, CaptureHead, LoadError, LoadErrorKind, LoadOptions, SourceFormat, pick_set};
 use crate::warning::Warning;
+use datetime::{fraction_digits, parse_datetime};
 use std::fs::File;
 use std::io::{BufReader, Read, Seek, SeekFrom};
 use std::path::Path;
@@ -42,6 +43,9 @@ pub(crate) struct Layout {
     time_col: Option<usize>,
     /// How finely the time column is written, as seen in the first rows.
     time_digits: Digits,
+    /// When the time column holds date-times: the first data row's, in nanoseconds since 1970
+    /// (every time is read relative to it, so differences stay exact).
+    time_base_ns: Option<i128>,
     /// Sample rate from a preamble, if any.
     preamble_rate_hz: Option<f64>,
     /// Average bytes per data row in the sample, to pre-size the columns.
@@ -274,9 +278,30 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
             }
         })
         .collect();
-    // A time-named column without numbers (date-times) is not the time base.
-    for c in &mut channels {
-        if c.role == Role::Time && c.content != Content::Numbers {
+    // A column of date-times (a data logger's ISO 8601 time stamps) is the time base: the one
+    // named like time, else the first such column.
+    let is_datetime_col = |k: usize| {
+        col_content[k] == Content::Text
+            && !full.is_empty()
+            && full.iter().all(|c| parse_datetime(c[k]).is_some())
+    };
+    let datetime_col = channels
+        .iter()
+        .position(|c| c.role == Role::Time && is_datetime_col(c.column - 1))
+        .or_else(|| (0..width).find(|&k| is_datetime_col(k)));
+    if let Some(k) = datetime_col {
+        let c = &mut channels[k];
+        c.role = Role::Time;
+        c.unknown_unit = None;
+        c.unit = Some(Unit {
+            role: Role::Time,
+            symbol: "date-time".into(),
+            scale: 1.0,
+        });
+    }
+    // A time-named column without numbers or date-times is not the time base.
+    for (k, c) in channels.iter_mut().enumerate() {
+        if c.role == Role::Time && c.content != Content::Numbers && Some(k) != datetime_col {
             c.role = Role::Unknown;
         }
     }
@@ -323,10 +348,19 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         channels[tc].role = Role::Time;
     }
     let mut time_digits = Digits::default();
+    let mut time_base_ns = None;
     if let Some(tc) = time_col {
         for l in &data_lines {
             if let Some(cell) = split(l, delimiter).nth(tc) {
-                time_digits.see(cell, decimal_comma);
+                if Some(tc) == datetime_col {
+                    // the resolution of a time stamp is its last fraction digit
+                    if let Some(d) = fraction_digits(cell) {
+                        time_digits.fixed = Some(time_digits.fixed.map_or(d, |f| f.min(d)));
+                    }
+                    time_base_ns = time_base_ns.or_else(|| parse_datetime(cell));
+                } else {
+                    time_digits.see(cell, decimal_comma);
+                }
             }
         }
     }
@@ -341,6 +375,7 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         channels,
         time_col,
         time_digits,
+        time_base_ns,
         preamble_rate_hz,
         bytes_per_row: data_bytes as f64 / data_lines.len().max(1) as f64,
     })
@@ -432,6 +467,8 @@ struct RowSpec {
     plan: Vec<Option<u8>>,
     /// Which of the used columns holds time (when there is one).
     pick_time: Option<u8>,
+    /// The time column holds date-times, read relative to this instant (ns since 1970).
+    time_base_ns: Option<i128>,
     /// Which of the used columns holds each wanted data column.
     pick: Vec<u8>,
 }
@@ -475,6 +512,7 @@ fn row_spec(layout: &Layout, cols: &[usize]) -> RowSpec {
         cols: cols.to_vec(),
         plan,
         pick_time: layout.time_col.map(ordinal),
+        time_base_ns: layout.time_base_ns,
         pick: cols.iter().map(|&c| ordinal(c)).collect(),
     }
 }
@@ -674,7 +712,21 @@ fn read_with_csv(
             }
         };
         if let Some(tc) = spec.time_col {
-            let t = cell(tc)?;
+            let t = match spec.time_base_ns {
+                None => cell(tc)?,
+                Some(base) => match parse_datetime(&rec[tc]) {
+                    Some(ns) => (ns - base) as f64 * 1e-9,
+                    None => {
+                        return Err(err(
+                            line_of(&rec),
+                            LoadErrorKind::NotADateTime {
+                                column: layout.names[tc].clone(),
+                                text: shorten(&rec[tc]),
+                            },
+                        ));
+                    }
+                },
+            };
             time.push(t).map_err(|k| err(line_of(&rec), k))?;
         }
         for (col, &c) in data.iter_mut().zip(&spec.cols) {
@@ -828,6 +880,7 @@ pub(crate) fn decimal(s: &[u8]) -> Option<(f64, usize)> {
 }
 
 /// The fast reader (see its module note).
+mod datetime;
 mod fast;
 
 #[cfg(test)]

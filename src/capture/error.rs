@@ -111,6 +111,17 @@ pub enum LoadErrorKind {
         /// The offending text (shortened).
         text: String,
     },
+    /// A cell of a date-time time column is not a date-time.
+    #[error(
+        "column '{column}' holds '{text}', expected a date-time like the rows before it \
+         (2020-02-24 18:15:21.5)"
+    )]
+    NotADateTime {
+        /// Column name.
+        column: String,
+        /// The offending text (shortened).
+        text: String,
+    },
     /// A cell parses as NaN or infinity.
     #[error("column '{column}' holds '{text}', which is not a finite number")]
     NotFinite {

@@ -73,6 +73,9 @@ pub(super) fn read(
     layout: &Layout,
     tuning: Tuning,
 ) -> Option<Columns> {
+    if spec.time_base_ns.is_some() {
+        return None; // date-time stamps: the reference reader parses them
+    }
     let region = file_len.saturating_sub(data_start);
     let parts = (region / tuning.min_part_bytes.max(1)).clamp(1, tuning.max_parts.max(1) as u64);
     let bounds = cut(file, data_start, file_len, parts as usize).ok()?;
