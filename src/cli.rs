@@ -317,9 +317,6 @@ pub struct BatchArgs {
     /// Settings that override every sidecar file.
     #[command(flatten)]
     pub overrides: OverrideArgs,
-    /// Monte Carlo settings for circuit models.
-    #[command(flatten)]
-    pub monte_carlo: MonteCarloArgs,
 }
 
 /// Summary formats of `batch`.
@@ -331,7 +328,8 @@ pub enum SummaryFormatArg {
     Json,
 }
 
-/// Settings given on the command line of `batch`: each overrides the sidecar files.
+/// Settings given on the command line of `batch`: each overrides the sidecar files, where the
+/// same settings go by the same names with `_` for `-` (`i_ratio_accuracy = 1.5`).
 #[derive(Debug, Args, Clone, Default)]
 #[command(next_help_heading = "Settings (override tracephase.toml sidecars)")]
 pub struct OverrideArgs {
@@ -343,6 +341,13 @@ pub struct OverrideArgs {
     /// column included (WAV: channel number).
     #[arg(long, value_name = "COL")]
     pub current: Option<String>,
+    /// Use --voltage and --current even where the header's unit or name says the channel is the
+    /// other quantity (a mislabelled export); the rows then carry a warning.
+    #[arg(long)]
+    pub force_channels: bool,
+    /// COMTRADE records: values on the secondary side of the CTs and VTs instead of primary.
+    #[arg(long)]
+    pub secondary: bool,
     /// Sample rate, Hz.
     #[arg(long, value_name = "HZ")]
     pub rate: Option<f64>,
@@ -379,6 +384,25 @@ pub struct OverrideArgs {
     /// Sample clock accuracy, ± ppm.
     #[arg(long, value_name = "PPM")]
     pub clock_ppm: Option<f64>,
+    /// Converter bits (with --v-full-scale and --i-full-scale, here or in a sidecar)
+    /// [default: the step seen in the data].
+    #[arg(long, value_name = "BITS")]
+    pub adc_bits: Option<u32>,
+    /// Full-scale peak of the voltage channel, volts (after --v-scale).
+    #[arg(long, value_name = "V")]
+    pub v_full_scale: Option<f64>,
+    /// Full-scale peak of the current channel, amperes (after --i-scale).
+    #[arg(long, value_name = "A")]
+    pub i_full_scale: Option<f64>,
+    /// Random circuits drawn within a model's tolerances (1 to 10 000 000) [default: 100000].
+    #[arg(long, value_name = "N")]
+    pub draws: Option<usize>,
+    /// Seed of the random draws [default: 1].
+    #[arg(long, value_name = "N")]
+    pub seed: Option<u64>,
+    /// How part values are drawn within their tolerance [default: uniform].
+    #[arg(long, value_enum)]
+    pub distribution: Option<DistributionArg>,
 }
 
 /// Arguments of `report`.

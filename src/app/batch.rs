@@ -1,13 +1,13 @@
 //! `batch`: find the captures, resolve their settings, analyse them in parallel, write the
 //! summary row by row in sorted order as each row is ready, resume, shard, and report on stderr.
 
-use super::{Outcome, resolve_monte_carlo};
+use super::Outcome;
 use crate::batch::ordered::{Stopped, ordered_map};
-use crate::batch::sidecar::{Layer, UncertaintyLayer};
+use crate::batch::sidecar::Layer;
 use crate::batch::summary::{self, PastRow, Status, SummaryFormat};
 use crate::batch::walk::{self, Discovery, Found};
 use crate::batch::{self, Job};
-use crate::cli::{BatchArgs, OverrideArgs, SummaryFormatArg};
+use crate::cli::{BatchArgs, DistributionArg, OverrideArgs, SummaryFormatArg};
 use crate::report::html::{BatchRow, Digest, Entry, capture_html};
 use indicatif::ProgressBar;
 use std::collections::HashMap;
@@ -21,39 +21,55 @@ use std::time::{Duration, Instant};
 /// lets a slow capture hold back only this many finished ones.
 const WINDOW_PER_JOB: usize = 32;
 
-/// The command-line layer of settings.
+/// The command-line layer of settings: the same keys as a sidecar's.
 pub fn layer_from(o: &OverrideArgs) -> Layer {
     Layer {
         voltage: o.voltage.clone(),
         current: o.current.clone(),
-        rate_hz: o.rate,
+        force_channels: o.force_channels.then_some(true),
+        secondary: o.secondary.then_some(true),
+        rate: o.rate,
         v_scale: o.v_scale,
         i_scale: o.i_scale,
-        skew_s: o.skew,
+        skew: o.skew,
         harmonics: o.harmonics,
         pf_threshold: o.pf_threshold,
         expect: o.expect.clone(),
-        uncertainty: UncertaintyLayer {
-            v_ratio_percent: o.v_ratio_accuracy,
-            i_ratio_percent: o.i_ratio_accuracy,
-            phase_error_deg: o.phase_error,
-            skew_s: o.skew_uncertainty,
-            clock_ppm: o.clock_ppm,
-        },
+        draws: o.draws,
+        seed: o.seed,
+        distribution: o.distribution.map(|d| {
+            match d {
+                DistributionArg::Uniform => "uniform",
+                DistributionArg::Normal => "normal",
+            }
+            .to_string()
+        }),
+        v_ratio_accuracy: o.v_ratio_accuracy,
+        i_ratio_accuracy: o.i_ratio_accuracy,
+        phase_error: o.phase_error,
+        skew_uncertainty: o.skew_uncertainty,
+        clock_ppm: o.clock_ppm,
+        adc_bits: o.adc_bits,
+        v_full_scale: o.v_full_scale,
+        i_full_scale: o.i_full_scale,
         meter: Default::default(),
         bank: Default::default(),
     }
 }
 
-/// What one capture gave: a new row, or an earlier row kept as it was.
+/// What one capture gave: a new row, an earlier row kept as it was, or nothing (the file is
+/// not a capture); each with the lines its job has to tell ([`Job::announce`]).
 enum Outcome1 {
-    New(Box<Done>),
-    Kept(PastRow),
+    New(Box<Done>, Vec<String>),
+    Kept(PastRow, Vec<String>),
+    NotACapture(String, Vec<String>),
 }
 
 /// A capture analysed in this run, its row already written out as a line by the worker (so the
 /// thread that writes the summary only writes).
 struct Done {
+    /// Its error was told already (a settings error, told once for every capture it stops).
+    told: bool,
     file: String,
     status: Status,
     message: String,
@@ -192,7 +208,6 @@ pub fn run_batch(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
 
 fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcome, String> {
     let started = Instant::now();
-    let mc = resolve_monte_carlo(&a.monte_carlo).map_err(|e| e.to_string())?;
     let plot_options = super::resolve_plot_options(&a.pcc).map_err(|e| e.to_string())?;
     let jobs_n = match a.jobs {
         Some(0) => return Err("--jobs must be at least 1".into()),
@@ -203,6 +218,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         SummaryFormatArg::Csv => SummaryFormat::Csv,
         SummaryFormatArg::Json => SummaryFormat::Json,
     };
+    crate::batch::sidecar::check_options(&layer_from(&a.overrides))?;
     let mut discovery = if a.roots.len() == 1 && a.roots[0].as_os_str() == "-" {
         list_from_stdin()
     } else {
@@ -216,7 +232,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         let _ = writeln!(err, "error: {}: cannot read: {e}", p.display());
     }
     let cli_layer = layer_from(&a.overrides);
-    let mut planner = batch::Planner::new(&cli_layer, &mc);
+    let mut planner = batch::Planner::new(&cli_layer);
     let columns = match format {
         SummaryFormat::Csv => batch::csv_columns(),
         SummaryFormat::Json => Vec::new(),
@@ -288,11 +304,14 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
             && p.settings_hash == job.settings_hash
             && batch::fingerprint_file(&job.path).ok().as_deref() == Some(p.content_hash.as_str())
         {
-            return Outcome1::Kept(p.clone());
+            return Outcome1::Kept(p.clone(), job.announce);
         }
         let t = Instant::now();
         let (row, analysis) = batch::process_keeping(&job);
         let took = t.elapsed();
+        if row.not_a_capture {
+            return Outcome1::NotACapture(row.message, job.announce);
+        }
         let line = row.line(format, &columns).map_err(|e| e.to_string());
         let report = keep.then(|| {
             let entry = match &analysis {
@@ -310,26 +329,47 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                 Digest::of(anchor, &entry),
             )
         });
-        Outcome1::New(Box::new(Done {
-            report,
-            checks: row.checks(),
-            line,
-            file: row.file,
-            status: row.status,
-            message: row.message,
-            verdict_failed: row.verdict_failed,
-            took,
-        }))
+        Outcome1::New(
+            Box::new(Done {
+                told: job.setup.is_err(),
+                report,
+                checks: row.checks(),
+                line,
+                file: row.file,
+                status: row.status,
+                message: row.message,
+                verdict_failed: row.verdict_failed,
+                took,
+            }),
+            job.announce,
+        )
     };
+    let mut not_captures = 0usize;
     let take = |r: Outcome1| -> Result<(), String> {
         progress.inc(1);
+        let announce = match &r {
+            Outcome1::New(_, a) | Outcome1::Kept(_, a) | Outcome1::NotACapture(_, a) => a,
+        };
+        if !announce.is_empty() {
+            progress.suspend(|| {
+                for line in announce {
+                    let _ = writeln!(err, "{line}");
+                }
+            });
+        }
         match r {
-            Outcome1::Kept(p) => {
+            Outcome1::NotACapture(why, _) => {
+                not_captures += 1;
+                progress.suspend(|| {
+                    let _ = writeln!(err, "note: {why}: skipped, no row");
+                });
+            }
+            Outcome1::Kept(p, _) => {
                 tally.kept += 1;
                 tally.count(&p.status, p.verdict_failed);
                 spans.push(p.span);
             }
-            Outcome1::New(done) => {
+            Outcome1::New(done, _) => {
                 let row = *done;
                 if let (Some((section, digest)), Some(spool)) = (row.report, spool.as_mut()) {
                     spool
@@ -343,7 +383,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                         checks: row.checks.clone(),
                     });
                 }
-                if row.status == Status::Error {
+                if row.status == Status::Error && !row.told {
                     progress.suspend(|| {
                         let _ = writeln!(err, "error: {}", row.message);
                     });
@@ -432,10 +472,10 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         }
     }
     let total = started.elapsed().as_secs_f64();
-    let n = discovery.files.len();
+    let n = discovery.files.len() - not_captures;
     let _ = writeln!(
         err,
-        "batch: {n} files in {total:.2} s ({:.0} files/s): {} ok, {} warning, {} error{}; {} other files skipped{}",
+        "batch: {n} files in {total:.2} s ({:.0} files/s): {} ok, {} warning, {} error{}; {} other files skipped{}{}",
         n as f64 / total.max(1e-9),
         tally.ok,
         tally.warning,
@@ -445,7 +485,12 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         } else {
             String::new()
         },
-        discovery.skipped,
+        discovery.skipped + not_captures,
+        if not_captures > 0 {
+            format!(" ({not_captures} of them not captures)")
+        } else {
+            String::new()
+        },
         tally
             .slowest
             .map(|(f, t)| format!("; slowest: {f} ({:.3} s)", t.as_secs_f64()))

@@ -20,13 +20,13 @@ use crate::check::bank::{self, BankReport, BankVerdict, KeyNames, Nameplate, Nam
 use crate::check::circuit::Circuit;
 use crate::check::expected::Expectation;
 use crate::check::meter::{self, AccuracyClass, MeterVerdict, PfSign, Reading};
-use crate::check::tolerance::MonteCarloConfig;
-use crate::quantity::uncertainty::UncertaintyInputs;
+use crate::check::tolerance::{Distribution, MAX_DRAWS, MonteCarloConfig};
+use crate::quantity::uncertainty::{Adc, UncertaintyInputs};
 use crate::report::wire::AnalysisRecord;
 use crate::warning::Severity;
 use serde_json::Value;
 use sidecar::{Layer, SIDECAR, Sidecar};
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
 use std::io::Read;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
@@ -99,11 +99,16 @@ pub struct Job {
     pub settings_json: String,
     /// Fingerprint of the settings.
     pub settings_hash: String,
+    /// Lines to tell when this capture's row is written (`note: ...`, `error: ...`): a
+    /// sidecar's note on old key names and a settings error, each told with the first capture
+    /// it concerns and never again. A settings error of this job's own is among them, or was
+    /// told before, so its row needs no line of its own.
+    pub announce: Vec<String>,
 }
 
 /// Resolves the settings of every capture: sidecars from the root down, then `cli`.
-pub fn plan(found: &[Found], cli: &Layer, monte_carlo: &MonteCarloConfig) -> Vec<Job> {
-    let mut planner = Planner::new(cli, monte_carlo);
+pub fn plan(found: &[Found], cli: &Layer) -> Vec<Job> {
+    let mut planner = Planner::new(cli);
     found.iter().map(|f| planner.job(f)).collect()
 }
 
@@ -112,9 +117,10 @@ pub fn plan(found: &[Found], cli: &Layer, monte_carlo: &MonteCarloConfig) -> Vec
 /// and kept.
 pub struct Planner<'a> {
     cli: &'a Layer,
-    monte_carlo: &'a MonteCarloConfig,
     sidecars: HashMap<PathBuf, Option<Result<Arc<Sidecar>, String>>>,
     files: FileCache,
+    /// Settings errors already told (each is told once, however many captures it stops).
+    told: HashSet<String>,
 }
 
 /// The files settings refer to (circuit models, nameplates, bank-out captures), each read once,
@@ -138,12 +144,12 @@ impl FileCache {
 
 impl<'a> Planner<'a> {
     /// A planner with the command line's settings on top of every sidecar.
-    pub fn new(cli: &'a Layer, monte_carlo: &'a MonteCarloConfig) -> Self {
+    pub fn new(cli: &'a Layer) -> Self {
         Planner {
             cli,
-            monte_carlo,
             sidecars: HashMap::new(),
             files: FileCache::default(),
+            told: HashSet::new(),
         }
     }
 
@@ -156,11 +162,18 @@ impl<'a> Planner<'a> {
             .unwrap_or_default();
         let mut layer = Layer::default();
         let mut trouble = None;
+        let mut announce = Vec::new();
         for dir in folders_between(&f.root, &f.path) {
             let entry = self.sidecars.entry(dir.clone()).or_insert_with(|| {
                 let p = dir.join(SIDECAR);
-                p.is_file()
-                    .then(|| Sidecar::load(&p).map(Arc::new).map_err(|e| e.to_string()))
+                let s = p
+                    .is_file()
+                    .then(|| Sidecar::load(&p).map(Arc::new).map_err(|e| e.to_string()));
+                // told when first read: once per sidecar, whatever the captures under it
+                if let Some(note) = s.as_ref().and_then(|s| s.as_ref().ok()?.note.clone()) {
+                    announce.push(format!("note: {note}"));
+                }
+                s
             });
             match entry {
                 Some(Ok(s)) => s.layers_for(&name).for_each(|l| layer.apply(l)),
@@ -172,8 +185,15 @@ impl<'a> Planner<'a> {
         let settings_json = serde_json::to_string(&layer).unwrap_or_default();
         let setup = match trouble {
             Some(e) => Err(e),
-            None => resolve(&layer, &f.path, self.monte_carlo, &mut self.files),
+            None => resolve(&layer, &f.path, &mut self.files),
         };
+        if let Err(e) = &setup
+            && self.told.insert(e.clone())
+        {
+            announce.push(format!(
+                "error: {e} (no capture these settings apply to is analysed)"
+            ));
+        }
         let mut referenced = String::new();
         let before = setup
             .as_ref()
@@ -187,14 +207,13 @@ impl<'a> Planner<'a> {
             referenced.push('|');
             referenced.push_str(&self.files.fingerprint(&p));
         }
-        let settings_hash = summary::fingerprint(
-            format!("{settings_json}|{:?}{referenced}", self.monte_carlo).as_bytes(),
-        );
+        let settings_hash = summary::fingerprint(format!("{settings_json}{referenced}").as_bytes());
         Job {
             path: f.path.clone(),
             setup,
             settings_json,
             settings_hash,
+            announce,
         }
     }
 }
@@ -229,13 +248,9 @@ fn limit(x: Option<f64>, default: f64, name: &str) -> Result<f64, String> {
     }
 }
 
-/// Turns a resolved layer into a [`Setup`].
-fn resolve(
-    l: &Layer,
-    capture: &Path,
-    monte_carlo: &MonteCarloConfig,
-    files: &mut FileCache,
-) -> Result<Setup, String> {
+/// Turns a resolved layer into a [`Setup`]. Each value was checked where it was written (a
+/// sidecar's line, or the command line); what is checked here is how they go together.
+fn resolve(l: &Layer, capture: &Path, files: &mut FileCache) -> Result<Setup, String> {
     let d = Settings::default();
     let du = UncertaintyInputs::default();
     let nonzero = |x: Option<f64>, name: &str| match x {
@@ -243,20 +258,42 @@ fn resolve(
         Some(v) if v.is_finite() && v != 0.0 => Ok(v),
         Some(v) => Err(format!("{name} must be a finite, non-zero number, not {v}")),
     };
-    let rate_hz = match l.rate_hz {
+    let rate_hz = match l.rate {
         None => None,
-        Some(r) => Some(positive(Some(r), 0.0, "rate_hz")?),
+        Some(r) => Some(positive(Some(r), 0.0, "rate")?),
     };
-    let skew_s = l.skew_s.unwrap_or(0.0);
+    let skew_s = l.skew.unwrap_or(0.0);
     if !skew_s.is_finite() {
-        return Err("skew_s must be a finite number of seconds".into());
+        return Err("skew must be a finite number of seconds".into());
     }
     let harmonics = l.harmonics.unwrap_or(d.harmonics);
     if harmonics == 0 {
         return Err("harmonics must be at least 1".into());
     }
     let pf_threshold = positive(l.pf_threshold, d.pf_threshold, "pf_threshold")?;
-    let u = &l.uncertainty;
+    if pf_threshold > 1.0 {
+        return Err(format!(
+            "pf_threshold must be above 0 and at most 1, not {pf_threshold}"
+        ));
+    }
+    let adc = match (l.adc_bits, l.v_full_scale, l.i_full_scale) {
+        (None, None, None) => None,
+        (Some(bits), Some(v), Some(i)) => {
+            if !(1..=32).contains(&bits) {
+                return Err(format!("adc_bits must be 1 to 32, not {bits}"));
+            }
+            Some(Adc {
+                bits,
+                v_full_scale: positive(Some(v), 0.0, "v_full_scale")?,
+                i_full_scale: positive(Some(i), 0.0, "i_full_scale")?,
+            })
+        }
+        _ => {
+            return Err(
+                "adc_bits, v_full_scale and i_full_scale go together: give all three".into(),
+            );
+        }
+    };
     let settings = Settings {
         v_scale: nonzero(l.v_scale, "v_scale")?,
         i_scale: nonzero(l.i_scale, "i_scale")?,
@@ -264,12 +301,32 @@ fn resolve(
         harmonics,
         pf_threshold,
         uncertainty: UncertaintyInputs {
-            v_ratio_percent: limit(u.v_ratio_percent, du.v_ratio_percent, "v_ratio_percent")?,
-            i_ratio_percent: limit(u.i_ratio_percent, du.i_ratio_percent, "i_ratio_percent")?,
-            phase_error_deg: limit(u.phase_error_deg, du.phase_error_deg, "phase_error_deg")?,
-            skew_s: limit(u.skew_s, du.skew_s, "uncertainty skew_s")?,
-            clock_ppm: limit(u.clock_ppm, du.clock_ppm, "clock_ppm")?,
-            adc: None,
+            v_ratio_percent: limit(l.v_ratio_accuracy, du.v_ratio_percent, "v_ratio_accuracy")?,
+            i_ratio_percent: limit(l.i_ratio_accuracy, du.i_ratio_percent, "i_ratio_accuracy")?,
+            phase_error_deg: limit(l.phase_error, du.phase_error_deg, "phase_error")?,
+            skew_s: limit(l.skew_uncertainty, du.skew_s, "skew_uncertainty")?,
+            clock_ppm: limit(l.clock_ppm, du.clock_ppm, "clock_ppm")?,
+            adc,
+        },
+    };
+    let dm = MonteCarloConfig::default();
+    let monte_carlo = MonteCarloConfig {
+        draws: match l.draws {
+            Some(n) if n == 0 || n > MAX_DRAWS => {
+                return Err(format!("draws must be from 1 to {MAX_DRAWS}, not {n}"));
+            }
+            n => n.unwrap_or(dm.draws),
+        },
+        seed: l.seed.unwrap_or(dm.seed),
+        distribution: match l.distribution.as_deref() {
+            None => dm.distribution,
+            Some("uniform") => Distribution::Uniform,
+            Some("normal") => Distribution::Normal,
+            Some(other) => {
+                return Err(format!(
+                    "distribution must be \"uniform\" or \"normal\", not \"{other}\""
+                ));
+            }
         },
     };
     let expect = match &l.expect {
@@ -346,11 +403,12 @@ fn resolve(
             voltage: l.voltage.as_deref().map(ChannelSel::parse),
             current: l.current.as_deref().map(ChannelSel::parse),
             rate_hz,
-            ..LoadOptions::default()
+            force_channels: l.force_channels.unwrap_or(false),
+            secondary_values: l.secondary.unwrap_or(false),
         },
         settings,
         expect,
-        monte_carlo: monte_carlo.clone(),
+        monte_carlo,
         meter,
         bank,
     })
@@ -388,6 +446,7 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
         settings: job.settings_json.clone(),
         result: None,
         verdict_failed: false,
+        not_a_capture: false,
     };
     let setup = match &job.setup {
         Ok(s) => s,
@@ -396,9 +455,18 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
             return (row, None);
         }
     };
-    let analysed = capture::load(&job.path, &setup.load)
-        .map_err(|e| e.to_string())
-        .and_then(|c| analysis::analyze(c, &setup.settings).map_err(|e| e.to_string()));
+    let analysed = match capture::load(&job.path, &setup.load) {
+        Ok(c) => analysis::analyze(c, &setup.settings).map_err(|e| e.to_string()),
+        Err(e) => {
+            // only a `.txt` is taken for notes: a `.csv` or `.wav` of no use is a failed export
+            row.not_a_capture = e.kind.is_not_a_capture()
+                && job
+                    .path
+                    .extension()
+                    .is_some_and(|x| x.eq_ignore_ascii_case("txt"));
+            Err(e.to_string())
+        }
+    };
     let mut a = match analysed {
         Ok(a) => a,
         Err(e) => {

@@ -7,23 +7,27 @@
 //! then its `[[files]]` sections whose `pattern` matches the file name (in file order), and last
 //! the command line.
 //!
+//! The keys are the command-line options' long names with `_` for `-` ([`keys::KEYS`]); a value
+//! is read as the option reads it and checked where it stands, so a mistake is reported once,
+//! with the sidecar and the line, before any capture is analysed.
+//!
 //! ```toml
 //! # tracephase.toml (our own schema; every key optional)
-//! voltage = "CH1"              # channel by name or 1-based number
+//! voltage = "CH1"              # channel by name, or number: voltage = 2
 //! current = "CH2"
-//! rate_hz = 10000
+//! rate = 10000
 //! v_scale = 100                # volts per unit
 //! i_scale = 10                 # amperes per unit
-//! skew_s = 2e-6
+//! skew = 2e-6
 //! harmonics = 50
 //! pf_threshold = 0.9
 //! expect = "rlc.toml"          # circuit model, relative to this file
-//! [uncertainty]
-//! v_ratio_percent = 1
-//! i_ratio_percent = 2
-//! phase_error_deg = 0.5
-//! skew_s = 0
-//! clock_ppm = 50
+//! v_ratio_accuracy = 1
+//! i_ratio_accuracy = 2
+//! phase_error = 0.5
+//! adc_bits = 12                # with v_full_scale and i_full_scale
+//! v_full_scale = 400
+//! i_full_scale = 20
 //! [meter]                      # meter reading checked against each capture
 //! reading = "pf=0.87,p=12.4kW"
 //! class = "1"
@@ -40,13 +44,19 @@
 //! i_scale = 100
 //! ```
 
-use crate::check::bank::NameplateFile;
-use serde::{Deserialize, Serialize};
-use std::path::{Path, PathBuf};
+pub mod keys;
 
-/// One layer of settings: every field optional.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize)]
-#[serde(deny_unknown_fields)]
+use crate::check::bank::NameplateFile;
+use keys::{Bound, Kind, OLD_KEYS, Table};
+use serde::Serialize;
+use std::borrow::Cow;
+use std::ops::Range;
+use std::path::{Path, PathBuf};
+use toml::Spanned;
+use toml::de::{DeTable, DeValue};
+
+/// One layer of settings: every field optional, named as the command-line option.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct Layer {
     /// Voltage channel (name or 1-based number).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -54,9 +64,15 @@ pub struct Layer {
     /// Current channel (name or 1-based number).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub current: Option<String>,
+    /// Use the channels chosen even against their unit or name.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub force_channels: Option<bool>,
+    /// COMTRADE values on the secondary side.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub secondary: Option<bool>,
     /// Sample rate, Hz.
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub rate_hz: Option<f64>,
+    pub rate: Option<f64>,
     /// Volts per unit.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub v_scale: Option<f64>,
@@ -65,7 +81,7 @@ pub struct Layer {
     pub i_scale: Option<f64>,
     /// Current-channel delay, seconds.
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub skew_s: Option<f64>,
+    pub skew: Option<f64>,
     /// Highest harmonic order.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub harmonics: Option<usize>,
@@ -75,21 +91,50 @@ pub struct Layer {
     /// Circuit model file (a relative path is relative to the sidecar that names it).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub expect: Option<PathBuf>,
-    /// Instrument limits.
-    #[serde(default, skip_serializing_if = "UncertaintyLayer::is_empty")]
-    pub uncertainty: UncertaintyLayer,
+    /// Monte Carlo draws for the model.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub draws: Option<usize>,
+    /// Monte Carlo seed.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seed: Option<u64>,
+    /// Monte Carlo distribution of part values (`uniform`, `normal`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub distribution: Option<String>,
+    /// Voltage probe ratio accuracy, ± % of reading.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub v_ratio_accuracy: Option<f64>,
+    /// Current clamp or shunt ratio accuracy, ± % of reading.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub i_ratio_accuracy: Option<f64>,
+    /// Probe pair phase error, ± degrees.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub phase_error: Option<f64>,
+    /// Remaining skew uncertainty, ± seconds.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub skew_uncertainty: Option<f64>,
+    /// Sample clock accuracy, ± ppm.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clock_ppm: Option<f64>,
+    /// Converter bits.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub adc_bits: Option<u32>,
+    /// Full-scale peak of the voltage channel, V.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub v_full_scale: Option<f64>,
+    /// Full-scale peak of the current channel, A.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub i_full_scale: Option<f64>,
     /// A meter reading to check against the capture.
-    #[serde(default, skip_serializing_if = "MeterLayer::is_empty")]
+    #[serde(skip_serializing_if = "MeterLayer::is_empty")]
     pub meter: MeterLayer,
     /// A capacitor bank check: this capture is the bank switched in.
-    #[serde(default, skip_serializing_if = "BankLayer::is_empty")]
+    #[serde(skip_serializing_if = "BankLayer::is_empty")]
     pub bank: BankLayer,
 }
 
 /// A capacitor bank check in a layer: the capture it applies to is the one with the bank
 /// switched in (or with more steps in), `before` the one with it out.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize)]
-#[serde(deny_unknown_fields)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct BankLayer {
     /// Nameplate file (a relative path is relative to the sidecar that names it).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -98,7 +143,7 @@ pub struct BankLayer {
     /// checked (a relative path from there).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub before: Option<PathBuf>,
-    /// Nameplate values given here, over the nameplate file's (the same keys).
+    /// Nameplate values given here, over the nameplate file's.
     #[serde(flatten)]
     pub values: NameplateFile,
 }
@@ -109,36 +154,8 @@ impl BankLayer {
     }
 }
 
-/// Instrument limits in a layer.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize)]
-#[serde(deny_unknown_fields)]
-pub struct UncertaintyLayer {
-    /// ± % of reading.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub v_ratio_percent: Option<f64>,
-    /// ± % of reading.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub i_ratio_percent: Option<f64>,
-    /// ± degrees.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub phase_error_deg: Option<f64>,
-    /// ± seconds.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub skew_s: Option<f64>,
-    /// ± ppm.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub clock_ppm: Option<f64>,
-}
-
-impl UncertaintyLayer {
-    fn is_empty(&self) -> bool {
-        *self == UncertaintyLayer::default()
-    }
-}
-
 /// A meter reading in a layer.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize)]
-#[serde(deny_unknown_fields)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct MeterLayer {
     /// What the meter shows, as for `meter --reading`.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -176,17 +193,30 @@ impl Layer {
     /// Lays `over` on top of `self`: every key `over` sets wins.
     pub fn apply(&mut self, over: &Layer) {
         take!(
-            self, over, voltage, current, rate_hz, v_scale, i_scale, skew_s, harmonics
+            self,
+            over,
+            voltage,
+            current,
+            force_channels,
+            secondary,
+            rate,
+            v_scale,
+            i_scale,
+            skew,
+            harmonics
         );
-        take!(self, over, pf_threshold, expect);
+        take!(self, over, pf_threshold, expect, draws, seed, distribution);
         take!(
-            self.uncertainty,
-            over.uncertainty,
-            v_ratio_percent,
-            i_ratio_percent,
-            phase_error_deg,
-            skew_s,
-            clock_ppm
+            self,
+            over,
+            v_ratio_accuracy,
+            i_ratio_accuracy,
+            phase_error,
+            skew_uncertainty,
+            clock_ppm,
+            adc_bits,
+            v_full_scale,
+            i_full_scale
         );
         take!(
             self.meter,
@@ -215,27 +245,90 @@ impl Layer {
             transformer_z_percent
         );
     }
+
+    /// Sets the key `name` of `table` (one of [`keys::KEYS`]) to `v`; false for a key this
+    /// layer does not know (a programmer error the unit tests catch).
+    fn set(&mut self, table: Table, name: &str, v: Value) -> bool {
+        let (m, b) = (&mut self.meter, &mut self.bank);
+        match (table, name, v) {
+            (Table::Top, "voltage", Value::Text(t)) => self.voltage = Some(t),
+            (Table::Top, "current", Value::Text(t)) => self.current = Some(t),
+            (Table::Top, "force_channels", Value::Flag(f)) => self.force_channels = Some(f),
+            (Table::Top, "secondary", Value::Flag(f)) => self.secondary = Some(f),
+            (Table::Top, "rate", Value::Number(x)) => self.rate = Some(x),
+            (Table::Top, "v_scale", Value::Number(x)) => self.v_scale = Some(x),
+            (Table::Top, "i_scale", Value::Number(x)) => self.i_scale = Some(x),
+            (Table::Top, "skew", Value::Number(x)) => self.skew = Some(x),
+            (Table::Top, "harmonics", Value::Whole(n)) => self.harmonics = Some(n as usize),
+            (Table::Top, "pf_threshold", Value::Number(x)) => self.pf_threshold = Some(x),
+            (Table::Top, "expect", Value::Text(t)) => self.expect = Some(t.into()),
+            (Table::Top, "draws", Value::Whole(n)) => self.draws = Some(n as usize),
+            (Table::Top, "seed", Value::Whole(n)) => self.seed = Some(n),
+            (Table::Top, "distribution", Value::Text(t)) => self.distribution = Some(t),
+            (Table::Top, "v_ratio_accuracy", Value::Number(x)) => self.v_ratio_accuracy = Some(x),
+            (Table::Top, "i_ratio_accuracy", Value::Number(x)) => self.i_ratio_accuracy = Some(x),
+            (Table::Top, "phase_error", Value::Number(x)) => self.phase_error = Some(x),
+            (Table::Top, "skew_uncertainty", Value::Number(x)) => self.skew_uncertainty = Some(x),
+            (Table::Top, "clock_ppm", Value::Number(x)) => self.clock_ppm = Some(x),
+            (Table::Top, "adc_bits", Value::Whole(n)) => self.adc_bits = Some(n as u32),
+            (Table::Top, "v_full_scale", Value::Number(x)) => self.v_full_scale = Some(x),
+            (Table::Top, "i_full_scale", Value::Number(x)) => self.i_full_scale = Some(x),
+            (Table::Meter, "reading", Value::Text(t)) => m.reading = Some(t),
+            (Table::Meter, "class", Value::Text(t)) => m.class = Some(t),
+            (Table::Meter, "pf_sign", Value::Text(t)) => m.pf_sign = Some(t),
+            (Table::Meter, "rated_current", Value::Number(x)) => m.rated_current = Some(x),
+            (Table::Bank, "nameplate", Value::Text(t)) => b.nameplate = Some(t.into()),
+            (Table::Bank, "before", Value::Text(t)) => b.before = Some(t.into()),
+            (Table::Bank, "rated_kvar", Value::Number(x)) => b.values.rated_kvar = Some(x),
+            (Table::Bank, "rated_voltage", Value::Number(x)) => b.values.rated_voltage = Some(x),
+            (Table::Bank, "rated_frequency", Value::Number(x)) => {
+                b.values.rated_frequency_hz = Some(x)
+            }
+            (Table::Bank, "steps", Value::Whole(n)) => b.values.steps = Some(n as usize),
+            (Table::Bank, "step_kvar", Value::Numbers(v)) => b.values.step_kvar = Some(v),
+            (Table::Bank, "three_phase", Value::Flag(f)) => b.values.three_phase = Some(f),
+            (Table::Bank, "standard", Value::Text(t)) => b.values.standard = Some(t),
+            (Table::Bank, "target_pf", Value::Number(x)) => b.values.target_pf = Some(x),
+            (Table::Bank, "supply_mva", Value::Number(x)) => b.values.supply_mva = Some(x),
+            (Table::Bank, "transformer_kva", Value::Number(x)) => {
+                b.values.transformer_kva = Some(x)
+            }
+            (Table::Bank, "transformer_z_percent", Value::Number(x)) => {
+                b.values.transformer_z_percent = Some(x)
+            }
+            _ => return false,
+        }
+        true
+    }
+}
+
+/// A value as read for its key.
+#[derive(Debug, Clone, PartialEq)]
+enum Value {
+    Text(String),
+    Number(f64),
+    Whole(u64),
+    Flag(bool),
+    Numbers(Vec<f64>),
 }
 
 /// A sidecar file: a layer for its folder, and layers for file-name patterns.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct Sidecar {
     /// The folder-wide settings.
-    #[serde(flatten)]
     pub base: Layer,
     /// Per file-name pattern settings.
-    #[serde(default)]
     pub files: Vec<PatternLayer>,
+    /// A note on old key names found in the file (one line for the whole file), if any.
+    pub note: Option<String>,
 }
 
 /// Settings for the files whose name matches `pattern`.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct PatternLayer {
     /// Glob on the file name: `*` any run of characters, `?` one character.
     pub pattern: String,
     /// The settings.
-    #[serde(flatten)]
     pub layer: Layer,
 }
 
@@ -254,25 +347,263 @@ pub struct SidecarError {
     pub message: String,
 }
 
-impl Sidecar {
-    /// Reads a sidecar; relative `expect` paths are made relative to its folder.
-    pub fn load(path: &Path) -> Result<Sidecar, SidecarError> {
-        let err = |line, message| SidecarError {
-            path: path.to_path_buf(),
-            line,
+/// The sidecar's text while it is read: turns spans into lines and collects old key names.
+struct Reader<'t> {
+    path: &'t Path,
+    text: &'t str,
+    old: Vec<String>,
+}
+
+type Key<'i> = Spanned<Cow<'i, str>>;
+type Val<'i> = Spanned<DeValue<'i>>;
+
+impl Reader<'_> {
+    fn line(&self, span: &Range<usize>) -> usize {
+        self.text[..span.start.min(self.text.len())]
+            .matches('\n')
+            .count()
+            + 1
+    }
+
+    fn error(&self, span: &Range<usize>, message: String) -> SidecarError {
+        SidecarError {
+            path: self.path.to_path_buf(),
+            line: Some(self.line(span)),
             message,
+        }
+    }
+
+    /// The file's own spelling of a value, for messages.
+    fn shown(&self, v: &Val<'_>) -> String {
+        let span = v.span();
+        let raw = self.text.get(span).unwrap_or("").trim();
+        let mut s: String = raw.chars().take(40).collect();
+        if raw.chars().count() > 40 {
+            s.push('…');
+        }
+        s
+    }
+
+    /// One key of a layer's table (`table` says which: the top level or `[meter]`/`[bank]`).
+    fn entry(
+        &mut self,
+        layer: &mut Layer,
+        table: Table,
+        key: &Key<'_>,
+        value: &Val<'_>,
+    ) -> Result<(), SidecarError> {
+        let name = key.get_ref().as_ref();
+        let sub = match (table, name) {
+            (Table::Top, "meter") => Some(Table::Meter),
+            (Table::Top, "bank") => Some(Table::Bank),
+            _ => None,
         };
-        let text = std::fs::read_to_string(path)
-            .map_err(|e| err(None, format!("cannot read the file: {e}")))?;
-        let mut s: Sidecar = toml::from_str(&text).map_err(|e: toml::de::Error| {
-            let message = e.message().trim().to_string();
-            // Flattened tables lose the parser's position of an unknown key: find the key.
-            let line = unknown_key_line(&text, &message).or_else(|| {
-                e.span()
-                    .map(|sp| text[..sp.start.min(text.len())].matches('\n').count() + 1)
-            });
-            err(line, message)
+        if let Some(sub) = sub {
+            let DeValue::Table(t) = value.get_ref() else {
+                return Err(self.error(
+                    &key.span(),
+                    format!("`{name}` must be a table: [{name}] with its keys on the lines below"),
+                ));
+            };
+            for (k, v) in in_file_order(t) {
+                self.entry(layer, sub, k, v)?;
+            }
+            return Ok(());
+        }
+        if table == Table::Top && name == "uncertainty" {
+            let DeValue::Table(t) = value.get_ref() else {
+                return Err(self.error(&key.span(), "`uncertainty` must be a table".into()));
+            };
+            for (k, v) in in_file_order(t) {
+                let old = OLD_KEYS
+                    .iter()
+                    .find(|o| o.table == "uncertainty" && o.name == k.get_ref().as_ref());
+                match old {
+                    Some(o) => self.read(layer, Table::Top, o.now, k, v, Some(o))?,
+                    None => return Err(self.unknown(Table::Top, k, Some("uncertainty"))),
+                }
+            }
+            return Ok(());
+        }
+        if keys::find(table, name).is_some() {
+            return self.read(layer, table, name, key, value, None);
+        }
+        let old = OLD_KEYS
+            .iter()
+            .find(|o| o.table == table.name() && o.name == name);
+        match old {
+            Some(o) => self.read(layer, table, o.now, key, value, Some(o)),
+            None => Err(self.unknown(table, key, None)),
+        }
+    }
+
+    fn unknown(&self, table: Table, key: &Key<'_>, written_in: Option<&str>) -> SidecarError {
+        let name = key.get_ref().as_ref();
+        let place = match (written_in, table) {
+            (Some(t), _) => format!(" in [{t}]"),
+            (None, Table::Top) => String::new(),
+            (None, t) => format!(" in [{}]", t.name()),
+        };
+        let near = keys::KEYS
+            .iter()
+            .filter(|k| k.table == table)
+            .map(|k| (edit_distance(k.name, name), k.name))
+            .min();
+        let hint = match near {
+            Some((d, k)) if d <= 2 => format!("; did you mean `{k}`?"),
+            _ => String::new(),
+        };
+        self.error(
+            &key.span(),
+            format!(
+                "unknown key `{name}`{place}: keys are the options' long names with _ for - \
+                 (the README lists them){hint}"
+            ),
+        )
+    }
+
+    /// Reads `value` as the key `now` of `table` into `layer`; `old` when it was written under
+    /// an earlier name.
+    fn read(
+        &mut self,
+        layer: &mut Layer,
+        table: Table,
+        now: &str,
+        key: &Key<'_>,
+        value: &Val<'_>,
+        old: Option<&keys::OldKey>,
+    ) -> Result<(), SidecarError> {
+        let k = keys::find(table, now)
+            .ok_or_else(|| self.error(&key.span(), format!("unknown key `{now}`")))?;
+        let v = convert(k.kind, value).ok_or_else(|| {
+            self.error(
+                &value.span(),
+                format!(
+                    "`{}` must be {}, not {}",
+                    key.get_ref(),
+                    k.kind.looks_like(),
+                    self.shown(value)
+                ),
+            )
         })?;
+        if let Some(o) = old.filter(|o| o.deprecated) {
+            let place = if o.table.is_empty() {
+                String::new()
+            } else {
+                format!("[{}] ", o.table)
+            };
+            self.old.push(format!(
+                "line {} `{place}{}` as `{}`",
+                self.line(&key.span()),
+                o.name,
+                o.now
+            ));
+        }
+        if !layer.set(table, now, v) {
+            return Err(self.error(&key.span(), format!("`{now}` cannot be set here")));
+        }
+        Ok(())
+    }
+}
+
+/// `value` read as `kind`, or `None` when it is not one.
+fn convert(kind: Kind, value: &Val<'_>) -> Option<Value> {
+    let number = |v: &DeValue<'_>| -> Option<f64> {
+        let text = match v {
+            DeValue::Integer(i) if i.radix() == 10 => i.as_str(),
+            DeValue::Float(f) => f.as_str(),
+            _ => return None,
+        };
+        text.replace('_', "").parse::<f64>().ok()
+    };
+    let v = value.get_ref();
+    Some(match kind {
+        Kind::Channel => match v {
+            DeValue::String(s) if !s.trim().is_empty() => Value::Text(s.trim().to_string()),
+            DeValue::Integer(i) if i.radix() == 10 => {
+                let n: u64 = i.as_str().replace('_', "").parse().ok()?;
+                (n >= 1).then(|| Value::Text(n.to_string()))?
+            }
+            _ => return None,
+        },
+        Kind::Text | Kind::Path => match v {
+            DeValue::String(s) if !s.trim().is_empty() => Value::Text(s.to_string()),
+            _ => return None,
+        },
+        Kind::Choice(words) => match v {
+            DeValue::String(s) => {
+                let w = s.trim().to_ascii_lowercase();
+                words.contains(&w.as_str()).then_some(Value::Text(w))?
+            }
+            _ => return None,
+        },
+        Kind::Flag => match v {
+            DeValue::Boolean(b) => Value::Flag(*b),
+            _ => return None,
+        },
+        Kind::Number(bound) => {
+            let x = number(v)?;
+            let ok = x.is_finite()
+                && match bound {
+                    Bound::Finite => true,
+                    Bound::NonZero => x != 0.0,
+                    Bound::Positive => x > 0.0,
+                    Bound::NonNegative => x >= 0.0,
+                    Bound::Fraction => x > 0.0 && x <= 1.0,
+                };
+            ok.then_some(Value::Number(x))?
+        }
+        Kind::Whole(lo, hi) => match v {
+            DeValue::Integer(i) if i.radix() == 10 => {
+                let n: u64 = i.as_str().replace('_', "").parse().ok()?;
+                (lo..=hi).contains(&n).then_some(Value::Whole(n))?
+            }
+            _ => return None,
+        },
+        Kind::Numbers => match v {
+            DeValue::Array(items) => {
+                let xs: Option<Vec<f64>> = items
+                    .iter()
+                    .map(|x| number(x.get_ref()).filter(|x| x.is_finite() && *x > 0.0))
+                    .collect();
+                Value::Numbers(xs.filter(|xs| !xs.is_empty())?)
+            }
+            _ => return None,
+        },
+    })
+}
+
+fn in_file_order<'a, 'i>(table: &'a DeTable<'i>) -> Vec<(&'a Key<'i>, &'a Val<'i>)> {
+    let mut entries: Vec<_> = table.iter().collect();
+    entries.sort_by_key(|(k, _)| k.span().start);
+    entries
+}
+
+/// Levenshtein distance, for "did you mean".
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut row: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut prev = row[0];
+        row[0] = i + 1;
+        for (j, &cb) in b.iter().enumerate() {
+            let cur = row[j + 1];
+            row[j + 1] = (prev + usize::from(ca != cb)).min(row[j] + 1).min(cur + 1);
+            prev = cur;
+        }
+    }
+    row[b.len()]
+}
+
+impl Sidecar {
+    /// Reads a sidecar; relative `expect` and `nameplate` paths are made relative to its folder.
+    pub fn load(path: &Path) -> Result<Sidecar, SidecarError> {
+        let text = std::fs::read_to_string(path).map_err(|e| SidecarError {
+            path: path.to_path_buf(),
+            line: None,
+            message: format!("cannot read the file: {e}"),
+        })?;
+        let mut s = Sidecar::parse(&text, path)?;
         let dir = path.parent().unwrap_or(Path::new("."));
         let anchor = |l: &mut Layer| {
             for p in [&mut l.expect, &mut l.bank.nameplate].into_iter().flatten() {
@@ -288,6 +619,91 @@ impl Sidecar {
         Ok(s)
     }
 
+    /// Reads sidecar text; `path` is named in messages.
+    pub fn parse(text: &str, path: &Path) -> Result<Sidecar, SidecarError> {
+        let mut r = Reader {
+            path,
+            text,
+            old: Vec::new(),
+        };
+        let doc = DeTable::parse(text).map_err(|e| {
+            let message = e
+                .message()
+                .lines()
+                .map(str::trim)
+                .filter(|l| !l.is_empty())
+                .collect::<Vec<_>>()
+                .join("; ");
+            SidecarError {
+                path: path.to_path_buf(),
+                line: e.span().map(|sp| r.line(&sp)),
+                message,
+            }
+        })?;
+        let mut s = Sidecar::default();
+        for (key, value) in in_file_order(doc.get_ref()) {
+            if key.get_ref().as_ref() != "files" {
+                r.entry(&mut s.base, Table::Top, key, value)?;
+                continue;
+            }
+            let sections: Vec<&Val<'_>> = match value.get_ref() {
+                DeValue::Array(items) => items.iter().collect(),
+                _ => Vec::new(),
+            };
+            if sections.is_empty() {
+                return Err(r.error(
+                    &key.span(),
+                    "`files` must be [[files]] sections, each with a pattern".into(),
+                ));
+            }
+            for section in sections {
+                let DeValue::Table(t) = section.get_ref() else {
+                    return Err(r.error(
+                        &section.span(),
+                        "a [[files]] section must be a table".into(),
+                    ));
+                };
+                let mut p = PatternLayer::default();
+                let mut pattern = None;
+                for (k, v) in in_file_order(t) {
+                    if k.get_ref().as_ref() == "pattern" {
+                        match v.get_ref() {
+                            DeValue::String(text) if !text.is_empty() => {
+                                pattern = Some(text.to_string())
+                            }
+                            _ => {
+                                return Err(r.error(
+                                    &v.span(),
+                                    "`pattern` must be a file name pattern in quotes, like \
+                                     \"*clamp-b*\""
+                                        .into(),
+                                ));
+                            }
+                        }
+                    } else {
+                        r.entry(&mut p.layer, Table::Top, k, v)?;
+                    }
+                }
+                p.pattern = pattern.ok_or_else(|| {
+                    r.error(
+                        &section.span(),
+                        "a [[files]] section needs a `pattern`, like pattern = \"*clamp-b*\""
+                            .into(),
+                    )
+                })?;
+                s.files.push(p);
+            }
+        }
+        if !r.old.is_empty() {
+            s.note = Some(format!(
+                "{}: old key names read as today's: {}; rename them (the README lists the keys)",
+                path.display(),
+                r.old.join(", ")
+            ));
+        }
+        Ok(s)
+    }
+
     /// The layers this sidecar gives a file named `name`, in the order they apply.
     pub fn layers_for<'a>(&'a self, name: &str) -> impl Iterator<Item = &'a Layer> {
         std::iter::once(&self.base).chain(
@@ -299,16 +715,24 @@ impl Sidecar {
     }
 }
 
-/// The line of the key named in an "unknown field `x`" message, if it stands at a line start.
-fn unknown_key_line(text: &str, message: &str) -> Option<usize> {
-    let key = message.split('`').nth(1)?;
-    text.lines()
-        .position(|l| {
-            l.trim_start()
-                .strip_prefix(key)
-                .is_some_and(|rest| rest.trim_start().starts_with('='))
-        })
-        .map(|k| k + 1)
+/// Checks the command line's settings by the rules a sidecar's keys follow (the same kinds and
+/// limits), naming the option: `--draws must be a whole number from 1 to 10000000, not 0`.
+pub fn check_options(layer: &Layer) -> Result<(), String> {
+    let text = toml::to_string(layer).map_err(|e| format!("the options cannot be read: {e}"))?;
+    match Sidecar::parse(&text, Path::new("the command line")) {
+        Ok(_) => Ok(()),
+        Err(e) => {
+            let m = e.message;
+            Err(match m.split('`').nth(1) {
+                Some(key) if m.starts_with('`') => m.replacen(
+                    &format!("`{key}`"),
+                    &format!("--{}", key.replace('_', "-")),
+                    1,
+                ),
+                _ => m,
+            })
+        }
+    }
 }
 
 /// Glob match of a whole file name: `*` any run of characters (also none), `?` one character.
@@ -363,15 +787,12 @@ mod tests {
         };
         resolved.apply(&Layer {
             i_scale: Some(20.0),
-            uncertainty: UncertaintyLayer {
-                phase_error_deg: Some(0.1),
-                ..Default::default()
-            },
+            phase_error: Some(0.1),
             ..Default::default()
         });
         assert_eq!(resolved.v_scale, Some(100.0));
         assert_eq!(resolved.i_scale, Some(20.0));
-        assert_eq!(resolved.uncertainty.phase_error_deg, Some(0.1));
+        assert_eq!(resolved.phase_error, Some(0.1));
     }
 
     #[test]

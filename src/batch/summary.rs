@@ -38,6 +38,9 @@ pub struct Row {
     pub result: Option<Value>,
     /// Some verdict was `outside` or `fail`.
     pub verdict_failed: bool,
+    /// The file is not a capture at all (text with no table of numbers, like notes): a batch
+    /// skips it with a note instead of writing the row.
+    pub not_a_capture: bool,
 }
 
 /// The columns every CSV summary starts with.
@@ -403,6 +406,7 @@ mod tests {
             settings: "{\"v_scale\":100}".into(),
             result: None,
             verdict_failed: false,
+            not_a_capture: false,
         };
         let text = format!(
             "{}{}",

@@ -187,10 +187,24 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
             break;
         }
     }
+    // Text with no line holding two numbers at all (notes, prose): not a capture, rather than a
+    // capture in a layout we do not read.
+    let text_only = || {
+        content.iter().all(|&k| {
+            lines[k]
+                .1
+                .split(|b| matches!(b, b'\t' | b';' | b',' | b' '))
+                .filter(|t| parse_f64(t, false).is_some())
+                .nth(1)
+                .is_none()
+        })
+    };
     let Some((delimiter, width)) = chosen else {
         let numeric_single = tail.iter().all(|l| parse_f64(l, false).is_some());
         return Err(if numeric_single {
             LoadErrorKind::OneChannel
+        } else if text_only() {
+            LoadErrorKind::TextOnly
         } else {
             LoadErrorKind::NotACapture("no delimited columns of numbers found".into())
         });
@@ -220,7 +234,12 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         .collect();
     let numeric_cols: Vec<bool> = col_content.iter().map(|c| *c == Content::Numbers).collect();
     if !numeric_cols.contains(&true) {
-        return Err(LoadErrorKind::HeaderOnly);
+        // one line of names is a capture's header with no rows; more lines of text are notes
+        return Err(if content.len() > 1 && text_only() {
+            LoadErrorKind::TextOnly
+        } else {
+            LoadErrorKind::HeaderOnly
+        });
     }
     // First data line: the first row of full width with numbers in every number column.
     let numeric: Vec<bool> = content

@@ -36,6 +36,14 @@ impl fmt::Display for LoadError {
     }
 }
 
+impl LoadErrorKind {
+    /// The file is not a capture at all (text with no table of numbers), rather than a capture
+    /// that cannot be read: a batch skips it with a note.
+    pub fn is_not_a_capture(&self) -> bool {
+        matches!(self, LoadErrorKind::TextOnly)
+    }
+}
+
 impl std::error::Error for LoadError {
     fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
         match &self.kind {
@@ -66,6 +74,9 @@ pub enum LoadErrorKind {
     /// A header and perhaps a preamble, but no rows of numbers.
     #[error("no rows of numbers after the header")]
     HeaderOnly,
+    /// Lines of text and no table of numbers anywhere: notes, a list, prose.
+    #[error("not a capture: lines of text with no table of numbers (notes?)")]
+    TextOnly,
     /// Only one data channel in the file.
     #[error("only one data channel: a voltage and a current trace are needed")]
     OneChannel,
