@@ -814,6 +814,87 @@ mod tests {
         assert!(e.contains("line 2: ") && e.contains("i_scael"), "{e}");
     }
 
+    /// Every key of the table lands in a field of the layer (a key added to the table without
+    /// its field would be read and then lost).
+    #[test]
+    fn every_key_sets_a_field() {
+        for k in keys::KEYS {
+            let v = match k.kind {
+                Kind::Channel | Kind::Text | Kind::Path | Kind::Choice(_) => {
+                    Value::Text("x".into())
+                }
+                Kind::Flag => Value::Flag(true),
+                Kind::Number(_) => Value::Number(1.0),
+                Kind::Whole(..) => Value::Whole(1),
+                Kind::Numbers => Value::Numbers(vec![1.0]),
+            };
+            let mut l = Layer::default();
+            assert!(l.set(k.table, k.name, v), "{k:?}");
+            assert_ne!(l, Layer::default(), "{k:?}");
+        }
+    }
+
+    /// Every mistake names its line: a TOML syntax error, a value of the wrong kind in a
+    /// `[[files]]` section, a key of the wrong table, a section without its pattern.
+    #[test]
+    fn mistakes_name_their_line_wherever_they_stand() {
+        let line_of = |text: &str| {
+            let e = Sidecar::parse(text, Path::new("t.toml")).unwrap_err();
+            (e.line, e.message)
+        };
+        let (line, m) = line_of(
+            "i_scale = 10
+v_scale = = 3
+",
+        );
+        assert_eq!(line, Some(2), "{m}");
+        let (line, m) = line_of(
+            "i_scale = 10
+[[files]]
+pattern = \"*-b*\"
+adc_bits = 40
+",
+        );
+        assert_eq!(line, Some(4), "{m}");
+        assert!(m.contains("whole number from 1 to 32, not 40"), "{m}");
+        let (line, m) = line_of(
+            "[meter]
+class = \"1\"
+harmonics = 40
+",
+        );
+        assert_eq!(line, Some(3), "{m}");
+        assert!(m.contains("unknown key `harmonics` in [meter]"), "{m}");
+        let (line, m) = line_of(
+            "v_scale = 2
+
+[[files]]
+i_scale = 3
+",
+        );
+        assert_eq!(line, Some(3), "{m}");
+        assert!(m.contains("needs a `pattern`"), "{m}");
+        let (line, m) = line_of(
+            "voltage = 0
+",
+        );
+        assert_eq!(line, Some(1), "{m}");
+        // numbers where the option takes them: an integer for a float, a channel by number
+        let s = Sidecar::parse(
+            "v_scale = 100
+voltage = 2
+rate = 1e4
+",
+            Path::new("t"),
+        )
+        .unwrap();
+        assert_eq!(
+            (s.base.v_scale, s.base.voltage.as_deref(), s.base.rate),
+            (Some(100.0), Some("2"), Some(1e4))
+        );
+        assert_eq!(s.note, None);
+    }
+
     /// A `[bank]` table: the nameplate path is anchored to the sidecar, nameplate keys sit beside
     /// it, a pattern's table overrides key by key, and a misspelt key is named with its line.
     #[test]
