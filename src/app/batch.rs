@@ -2,7 +2,7 @@
 //! summary row by row in sorted order as each row is ready, resume, shard, and report on stderr.
 
 use super::Outcome;
-use crate::batch::ordered::{Stopped, ordered_map};
+use crate::batch::ordered::{Stopped, ordered_map_until};
 use crate::batch::sidecar::Layer;
 use crate::batch::summary::{self, PastRow, Status, SummaryFormat};
 use crate::batch::walk::{self, Discovery, Found};
@@ -61,8 +61,15 @@ pub fn layer_from(o: &OverrideArgs) -> Layer {
 /// not a capture); each with the lines its job has to tell ([`Job::announce`]).
 enum Outcome1 {
     New(Box<Done>, Vec<String>),
-    Kept(PastRow, Vec<String>),
+    Kept(PastRow, Option<Box<ReportPart>>, Vec<String>),
     NotACapture(String, Vec<String>),
+}
+
+/// A capture's part of the report: its section, its digest and its summary row.
+struct ReportPart {
+    section: String,
+    digest: Digest,
+    row: BatchRow,
 }
 
 /// A capture analysed in this run, its row already written out as a line by the worker (so the
@@ -74,13 +81,11 @@ struct Done {
     status: Status,
     message: String,
     verdict_failed: bool,
-    /// The checks' verdicts in a few words, for the report.
-    checks: String,
     /// The summary line, or why it could not be made.
     line: Result<String, String>,
     took: Duration,
-    /// For `--report`: the capture's section of the report, already written, and its digest.
-    report: Option<(String, Digest)>,
+    /// For `--report`: the capture's part of the report, already written.
+    report: Option<Box<ReportPart>>,
 }
 
 /// The report's capture sections, spooled to a hidden file beside the report while the batch
@@ -90,21 +95,54 @@ struct Spool {
     path: PathBuf,
 }
 
+/// The spool file's folder and its name's start (`.REPORT.`): it ends `PID.sections`.
+fn spool_place(report: &Path) -> std::io::Result<(PathBuf, String)> {
+    let name = report
+        .file_name()
+        .ok_or_else(|| std::io::Error::other("the report path names no file"))?;
+    let dir = report
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    Ok((dir.to_path_buf(), format!(".{}.", name.to_string_lossy())))
+}
+
+/// Removes the spool files of `report` that a run killed outright (no chance to clean up) left
+/// behind: those whose process is gone. Gives the files removed. Where the system does not show
+/// its processes (no `/proc`), a spool file of another process is left alone.
+fn remove_stale_spools(report: &Path) -> Vec<PathBuf> {
+    let Ok((dir, start)) = spool_place(report) else {
+        return Vec::new();
+    };
+    let Ok(entries) = std::fs::read_dir(&dir) else {
+        return Vec::new();
+    };
+    let proc_shown = Path::new("/proc/self").exists();
+    let mut removed = Vec::new();
+    for e in entries.flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        let Some(pid) = name
+            .strip_prefix(&start)
+            .and_then(|r| r.strip_suffix(".sections"))
+            .filter(|p| !p.is_empty() && p.bytes().all(|b| b.is_ascii_digit()))
+        else {
+            continue;
+        };
+        let gone = proc_shown && !Path::new("/proc").join(pid).exists();
+        if gone && std::fs::remove_file(e.path()).is_ok() {
+            removed.push(e.path());
+        }
+    }
+    removed.sort();
+    removed
+}
+
 impl Spool {
     fn create(report: &Path) -> std::io::Result<Spool> {
-        let name = report
-            .file_name()
-            .ok_or_else(|| std::io::Error::other("the report path names no file"))?;
-        let dir = report
-            .parent()
-            .filter(|p| !p.as_os_str().is_empty())
-            .unwrap_or(Path::new("."));
-        let path = dir.join(format!(
-            ".{}.{}.sections",
-            name.to_string_lossy(),
-            std::process::id()
-        ));
+        let (dir, start) = spool_place(report)?;
+        let path = dir.join(format!("{start}{}.sections", std::process::id()));
         let file = std::io::BufWriter::new(File::create(&path)?);
+        interrupt::spool_created(&path);
         Ok(Spool { file, path })
     }
 
@@ -124,6 +162,7 @@ impl Drop for Spool {
     fn drop(&mut self) {
         if !self.path.as_os_str().is_empty() {
             let _ = std::fs::remove_file(&self.path);
+            interrupt::spool_removed(&self.path);
         }
     }
 }
@@ -140,7 +179,91 @@ impl SpoolFile {
 impl Drop for SpoolFile {
     fn drop(&mut self) {
         let _ = std::fs::remove_file(&self.0);
+        interrupt::spool_removed(&self.0);
     }
+}
+
+/// Ctrl-C during a batch. The first press asks the run to wind down: nothing new is started, the
+/// captures in hand finish and their rows are written, the spool file is removed, and the run says
+/// what was kept and how to resume. A second press stops at once (the summary is valid to its last
+/// whole line; the spool file is removed on the way out).
+mod interrupt {
+    use std::path::{Path, PathBuf};
+    use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
+    use std::sync::{Mutex, Once};
+
+    /// Set by the first Ctrl-C: the batch winds down.
+    pub static CANCEL: AtomicBool = AtomicBool::new(false);
+    static PRESSES: AtomicUsize = AtomicUsize::new(0);
+    /// Spool files to remove if a second Ctrl-C stops the process at once.
+    static SPOOLS: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+
+    /// Installs the handler (once per process) and clears any earlier run's state.
+    pub fn arm() {
+        static ONCE: Once = Once::new();
+        CANCEL.store(false, Ordering::SeqCst);
+        PRESSES.store(0, Ordering::SeqCst);
+        ONCE.call_once(|| {
+            // Another handler already in place (a host program's) leaves Ctrl-C to it.
+            let _ = ctrlc::set_handler(|| {
+                CANCEL.store(true, Ordering::SeqCst);
+                if PRESSES.fetch_add(1, Ordering::SeqCst) == 0 {
+                    eprintln!(
+                        "\ninterrupted: finishing the captures in hand, then stopping \
+                         (Ctrl-C again to stop at once)"
+                    );
+                } else {
+                    for p in SPOOLS.lock().unwrap_or_else(|e| e.into_inner()).iter() {
+                        let _ = std::fs::remove_file(p);
+                    }
+                    eprintln!(
+                        "stopped at once: the summary holds the rows written so far; run the \
+                         same command with --resume to finish"
+                    );
+                    std::process::exit(130);
+                }
+            });
+        });
+    }
+
+    pub fn spool_created(p: &Path) {
+        SPOOLS
+            .lock()
+            .unwrap_or_else(|e| e.into_inner())
+            .push(p.to_path_buf());
+    }
+
+    pub fn spool_removed(p: &Path) {
+        SPOOLS
+            .lock()
+            .unwrap_or_else(|e| e.into_inner())
+            .retain(|q| q != p);
+    }
+
+    pub fn cancelled() -> bool {
+        CANCEL.load(Ordering::SeqCst)
+    }
+}
+
+/// The command to type to finish an interrupted run: this one, with `--resume`.
+fn resume_command() -> String {
+    let quote = |a: &str| {
+        if !a.is_empty()
+            && a.bytes()
+                .all(|b| b.is_ascii_alphanumeric() || b"-_./=,:@%+".contains(&b))
+        {
+            a.to_string()
+        } else {
+            format!("'{}'", a.replace('\'', "'\\''"))
+        }
+    };
+    let mut words = vec!["tracephase".to_string()];
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    words.extend(args.iter().map(|a| quote(a)));
+    if !args.iter().any(|a| a == "--resume") {
+        words.push("--resume".into());
+    }
+    words.join(" ")
 }
 
 /// Counts for the end-of-run report.
@@ -243,6 +366,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     };
     let past: HashMap<String, PastRow> = match (&a.out, a.resume) {
         (Some(p), true) => {
+            summary::check_resumable(p, format, &columns)?;
             drop_partial_line(p).map_err(|e| format!("{}: {e}", p.display()))?;
             summary::read_past(p, format, &columns)
         }
@@ -287,6 +411,16 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     // the report as rows are written; the rest of the report needs only a digest and a summary
     // row of each capture, so memory stays flat here too.
     let keep = a.report.is_some();
+    if let Some(p) = &a.report {
+        for stale in remove_stale_spools(p) {
+            let _ = writeln!(
+                err,
+                "note: removed {}, the spool file of a run that was stopped",
+                stale.display()
+            );
+        }
+    }
+    interrupt::arm();
     let mut spool = match &a.report {
         Some(p) => Some(
             Spool::create(p)
@@ -298,13 +432,47 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     let mut report_rows: Vec<BatchRow> = Vec::new();
     // Captures are planned, analysed on the pool and written back in order, each row as soon as
     // it and every row before it are done; at most WINDOW captures are in between.
+    // A capture's part of the report, from its row and its analysis.
+    let report_part = |anchor: usize,
+                       row: &summary::Row,
+                       analysis: &Option<(
+        crate::analysis::Analysis,
+        Option<crate::check::expected::Expectation>,
+    )>| {
+        let entry = match analysis {
+            Some((a, x)) => Entry::Analysed {
+                analysis: a,
+                expectation: x.as_ref(),
+            },
+            None => Entry::Failed {
+                file: row.file.clone(),
+                message: row.message.clone(),
+            },
+        };
+        Box::new(ReportPart {
+            section: capture_html(anchor, &entry, &plot_options),
+            digest: Digest::of(anchor, &entry),
+            row: BatchRow {
+                file: row.file.clone(),
+                status: row.status,
+                message: row.message.clone(),
+                checks: row.checks(),
+            },
+        })
+    };
     let work = |(anchor, job): (usize, Job)| {
         let file = job.path.display().to_string();
         if let Some(p) = past.get(&file)
             && p.settings_hash == job.settings_hash
             && batch::fingerprint_file(&job.path).ok().as_deref() == Some(p.content_hash.as_str())
         {
-            return Outcome1::Kept(p.clone(), job.announce);
+            // The row is kept as it was; a report still needs the capture's section, so the
+            // capture is read and analysed again for it (same file, same settings: same figures).
+            let part = keep.then(|| {
+                let (row, analysis) = batch::process_keeping(&job);
+                report_part(anchor, &row, &analysis)
+            });
+            return Outcome1::Kept(p.clone(), part, job.announce);
         }
         let t = Instant::now();
         let (row, analysis) = batch::process_keeping(&job);
@@ -313,42 +481,27 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
             return Outcome1::NotACapture(row.message, job.announce);
         }
         let line = row.line(format, &columns).map_err(|e| e.to_string());
-        let report = keep.then(|| {
-            let entry = match &analysis {
-                Some((a, x)) => Entry::Analysed {
-                    analysis: a,
-                    expectation: x.as_ref(),
-                },
-                None => Entry::Failed {
-                    file: row.file.clone(),
-                    message: row.message.clone(),
-                },
-            };
-            (
-                capture_html(anchor, &entry, &plot_options),
-                Digest::of(anchor, &entry),
-            )
-        });
+        let report = keep.then(|| report_part(anchor, &row, &analysis));
         Outcome1::New(
             Box::new(Done {
                 told: job.setup.is_err(),
                 report,
-                checks: row.checks(),
                 line,
                 file: row.file,
                 status: row.status,
-                message: row.message,
                 verdict_failed: row.verdict_failed,
+                message: row.message,
                 took,
             }),
             job.announce,
         )
     };
     let mut not_captures = 0usize;
+    let mut rows_new = 0usize;
     let take = |r: Outcome1| -> Result<(), String> {
         progress.inc(1);
         let announce = match &r {
-            Outcome1::New(_, a) | Outcome1::Kept(_, a) | Outcome1::NotACapture(_, a) => a,
+            Outcome1::New(_, a) | Outcome1::Kept(_, _, a) | Outcome1::NotACapture(_, a) => a,
         };
         if !announce.is_empty() {
             progress.suspend(|| {
@@ -364,24 +517,26 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                     let _ = writeln!(err, "note: {why}: skipped, no row");
                 });
             }
-            Outcome1::Kept(p, _) => {
+            Outcome1::Kept(p, part, _) => {
+                if let (Some(part), Some(spool)) = (part, spool.as_mut()) {
+                    spool
+                        .write(&part.section)
+                        .map_err(|e| format!("cannot write the report's spool file: {e}"))?;
+                    digests.push(part.digest);
+                    report_rows.push(part.row);
+                }
                 tally.kept += 1;
                 tally.count(&p.status, p.verdict_failed);
                 spans.push(p.span);
             }
             Outcome1::New(done, _) => {
                 let row = *done;
-                if let (Some((section, digest)), Some(spool)) = (row.report, spool.as_mut()) {
+                if let (Some(part), Some(spool)) = (row.report, spool.as_mut()) {
                     spool
-                        .write(&section)
+                        .write(&part.section)
                         .map_err(|e| format!("cannot write the report's spool file: {e}"))?;
-                    digests.push(digest);
-                    report_rows.push(BatchRow {
-                        file: row.file.clone(),
-                        status: row.status,
-                        message: row.message.clone(),
-                        checks: row.checks.clone(),
-                    });
+                    digests.push(part.digest);
+                    report_rows.push(part.row);
                 }
                 if row.status == Status::Error && !row.told {
                     progress.suspend(|| {
@@ -400,13 +555,15 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                     spans.push(written..end);
                 }
                 written = end;
+                rows_new += 1;
             }
         }
         Ok(())
     };
     let window = WINDOW_PER_JOB * jobs_n;
     let mut anchor = 0;
-    ordered_map(
+    ordered_map_until(
+        &interrupt::CANCEL,
         &pool,
         jobs_n,
         window,
@@ -428,6 +585,48 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     })?;
     progress.finish_and_clear();
     drop(sink);
+    if interrupt::cancelled() {
+        // The spool goes; the summary stays as written: with --resume its rows are not put in
+        // order now (rows of the earlier run not reached yet would be lost), the next run does.
+        drop(spool);
+        let reached = tally.ok + tally.warning + tally.error + not_captures;
+        let n = discovery.files.len();
+        let kept = if tally.kept > 0 {
+            format!(" ({} of them kept from the earlier summary)", tally.kept)
+        } else {
+            String::new()
+        };
+        let _ = writeln!(
+            err,
+            "stopped: {reached} of {n} captures done, {} rows written{kept}; {} not analysed",
+            rows_new + tally.kept,
+            n - reached
+        );
+        match &a.out {
+            Some(p) => {
+                let _ = writeln!(
+                    err,
+                    "the summary {} is complete to its last row; to finish, run: {}",
+                    p.display(),
+                    resume_command()
+                );
+            }
+            None => {
+                let _ = writeln!(
+                    err,
+                    "the rows went to standard output; to be able to resume a run, give --out FILE"
+                );
+            }
+        }
+        if a.report.is_some() {
+            let _ = writeln!(
+                err,
+                "the report was not written (its spool file is removed); the resumed run writes \
+                 it with every capture"
+            );
+        }
+        return Ok(Outcome::Interrupted);
+    }
     if let (Some(p), true) = (&a.out, a.resume) {
         // the same rows as an uninterrupted run, in sorted order, swapped in at once
         let tmp = p.with_extension("tmp-resume");
@@ -463,13 +662,6 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         );
         drop(sections);
         saved?;
-        if tally.kept > 0 {
-            let _ = writeln!(
-                err,
-                "note: the report holds only the captures analysed in this run, not the {} kept",
-                tally.kept
-            );
-        }
     }
     let total = started.elapsed().as_secs_f64();
     let n = discovery.files.len() - not_captures;

@@ -29,15 +29,18 @@ pub enum Outcome {
     VerdictFailed,
     /// Some input could not be read or analysed (exit code 2).
     InputErrors,
+    /// A batch was interrupted by Ctrl-C and wound down (exit code 130, the shells' 128 + SIGINT).
+    Interrupted,
 }
 
 impl Outcome {
-    /// The process exit code: 0, 1 or 2.
+    /// The process exit code: 0, 1, 2, or 130 after Ctrl-C.
     pub fn code(self) -> u8 {
         match self {
             Outcome::Ok => 0,
             Outcome::VerdictFailed => 1,
             Outcome::InputErrors => 2,
+            Outcome::Interrupted => 130,
         }
     }
 

@@ -31,6 +31,30 @@ pub fn ordered_map<S, J, T>(
     workers: usize,
     window: usize,
     sources: &[S],
+    plan: impl FnMut(&S) -> J + Send,
+    work: impl Fn(J) -> T + Sync,
+    take: impl FnMut(T) -> Result<(), String>,
+) -> Result<(), Stopped>
+where
+    S: Sync,
+    J: Send,
+    T: Send,
+{
+    let never = AtomicBool::new(false);
+    ordered_map_until(&never, pool, workers, window, sources, plan, work, take)
+}
+
+/// [`ordered_map`] that winds down once `cancel` is set (by a Ctrl-C handler): nothing more is
+/// planned or started, the jobs already running finish, and their results are handed to `take`
+/// as far as they follow on from the last one handed back without a gap. Returns `Ok` then too:
+/// the caller knows it cancelled.
+#[allow(clippy::too_many_arguments)]
+pub fn ordered_map_until<S, J, T>(
+    cancel: &AtomicBool,
+    pool: &rayon::ThreadPool,
+    workers: usize,
+    window: usize,
+    sources: &[S],
     mut plan: impl FnMut(&S) -> J + Send,
     work: impl Fn(J) -> T + Sync,
     mut take: impl FnMut(T) -> Result<(), String>,
@@ -66,7 +90,7 @@ where
                     while !g.1 && i >= g.0 + window {
                         g = moved.wait(g).unwrap_or_else(|e| e.into_inner());
                     }
-                    if g.1 {
+                    if g.1 || cancel.load(Ordering::Relaxed) {
                         break;
                     }
                 }
@@ -83,7 +107,7 @@ where
                         loop {
                             let next = job_rx.lock().unwrap_or_else(|e| e.into_inner()).recv();
                             let Ok((i, job)) = next else { break };
-                            if stop.load(Ordering::Relaxed) {
+                            if stop.load(Ordering::Relaxed) || cancel.load(Ordering::Relaxed) {
                                 break;
                             }
                             let done =
@@ -122,7 +146,9 @@ where
                 moved.notify_all();
             }
         }
-        // Workers see a closed channel (or the stop flag) and finish; the planner sees the stop.
+        // Workers see a closed channel (or the stop flag) and finish; the planner sees the stop
+        // (it may be waiting for room in the window after a cancel that left a gap).
+        halt();
         drop(res_rx);
         result?;
         match *panicked.lock().unwrap_or_else(|e| e.into_inner()) {
@@ -229,6 +255,44 @@ mod tests {
             |_| Ok(()),
         );
         assert_eq!(r, Err(Stopped::Panicked(37)));
+    }
+
+    /// A cancel (Ctrl-C) mid-run: the run winds down without hanging, what was handed back is a
+    /// gap-free prefix in order, and the planner stopped within a window of the cancel.
+    #[test]
+    fn a_cancel_winds_down_to_a_prefix_without_hanging() {
+        for workers in [1, 3] {
+            let sources: Vec<usize> = (0..10_000).collect();
+            let cancel = AtomicBool::new(false);
+            let planned = AtomicUsize::new(0);
+            let mut got = Vec::new();
+            let r = ordered_map_until(
+                &cancel,
+                &pool(workers),
+                workers,
+                8,
+                &sources,
+                |&i| {
+                    planned.fetch_add(1, Ordering::SeqCst);
+                    i
+                },
+                |i| {
+                    std::thread::sleep(Duration::from_micros(((i * 7919) % 7) as u64 * 50));
+                    i
+                },
+                |t| {
+                    got.push(t);
+                    if t == 20 {
+                        cancel.store(true, Ordering::SeqCst);
+                    }
+                    Ok(())
+                },
+            );
+            assert_eq!(r, Ok(()));
+            assert!(got.len() > 20 && got.len() < 10_000, "{}", got.len());
+            assert_eq!(got, (0..got.len()).collect::<Vec<_>>());
+            assert!(planned.load(Ordering::SeqCst) <= 21 + 8 + workers);
+        }
     }
 
     #[test]

@@ -270,6 +270,66 @@ fn failed_verdict(expected: &str, meter: &str, bank: &str) -> bool {
     expected == "outside" || meter == "fail" || bank == "fail"
 }
 
+/// Checks that an earlier summary can be resumed in `format` with these CSV `columns`: a file of
+/// the other format, or a CSV summary with other columns (another version's), is refused, since
+/// resuming would have to start it afresh and lose its rows. A missing or empty file is fine.
+pub fn check_resumable(
+    path: &Path,
+    format: SummaryFormat,
+    columns: &[String],
+) -> Result<(), String> {
+    let mut head = Vec::new();
+    match std::fs::File::open(path) {
+        Ok(f) => {
+            use std::io::Read;
+            f.take(64 * 1024)
+                .read_to_end(&mut head)
+                .map_err(|e| format!("{}: cannot read the summary: {e}", path.display()))?;
+        }
+        Err(e) if e.kind() == io::ErrorKind::NotFound => return Ok(()),
+        Err(e) => return Err(format!("{}: cannot read the summary: {e}", path.display())),
+    }
+    let Some(&first) = head.iter().find(|b| !b.is_ascii_whitespace()) else {
+        return Ok(());
+    };
+    let found = if first == b'{' {
+        SummaryFormat::Json
+    } else {
+        SummaryFormat::Csv
+    };
+    let word = |f: SummaryFormat| match f {
+        SummaryFormat::Csv => "csv",
+        SummaryFormat::Json => "json",
+    };
+    if found != format {
+        return Err(format!(
+            "{}: this summary is in --format {}, not {}: resume with --format {}, or write to \
+             another --out",
+            path.display(),
+            word(found),
+            word(format),
+            word(found)
+        ));
+    }
+    if format == SummaryFormat::Csv {
+        let mut rdr = ::csv::ReaderBuilder::new()
+            .has_headers(true)
+            .from_reader(head.as_slice());
+        let same = rdr
+            .headers()
+            .map(|h| h.iter().eq(columns.iter().map(String::as_str)))
+            .unwrap_or(false);
+        if !same {
+            return Err(format!(
+                "{}: this summary's columns are not this version's: resume it with the version \
+                 that wrote it, or write to another --out",
+                path.display()
+            ));
+        }
+    }
+    Ok(())
+}
+
 /// Reads an earlier summary for `--resume`: rows by file. A file that is missing, empty, of the
 /// other format or with other columns gives nothing to reuse. A last line cut short is dropped.
 pub fn read_past(
