@@ -276,6 +276,8 @@ impl Layer {
             (Table::Meter, "class", Value::Text(t)) => m.class = Some(t),
             (Table::Meter, "pf_sign", Value::Text(t)) => m.pf_sign = Some(t),
             (Table::Meter, "rated_current", Value::Number(x)) => m.rated_current = Some(x),
+            (Table::Meter, "connection", Value::Text(t)) => m.connection = Some(t),
+            (Table::Meter, "reactive_class", Value::Text(t)) => m.reactive_class = Some(t),
             (Table::Bank, "nameplate", Value::Text(t)) => b.nameplate = Some(t.into()),
             (Table::Bank, "before", Value::Text(t)) => b.before = Some(t.into()),
             (Table::Bank, "rated_kvar", Value::Number(x)) => b.values.rated_kvar = Some(x),

@@ -124,6 +124,7 @@ use Table::*;
 pub const DISTRIBUTIONS: &[&str] = &["uniform", "normal"];
 
 /// Every key a sidecar accepts, in the order the README lists them.
+#[rustfmt::skip]
 pub const KEYS: &[Key] = &[
     key(Top, "voltage", Channel, "--voltage"),
     key(Top, "current", Channel, "--current"),
@@ -139,25 +140,10 @@ pub const KEYS: &[Key] = &[
     key(Top, "draws", Whole(1, MAX_DRAWS as u64), "--draws"),
     key(Top, "seed", Whole(0, u64::MAX), "--seed"),
     key(Top, "distribution", Choice(DISTRIBUTIONS), "--distribution"),
-    key(
-        Top,
-        "v_ratio_accuracy",
-        Number(NonNegative),
-        "--v-ratio-accuracy",
-    ),
-    key(
-        Top,
-        "i_ratio_accuracy",
-        Number(NonNegative),
-        "--i-ratio-accuracy",
-    ),
+    key(Top, "v_ratio_accuracy", Number(NonNegative), "--v-ratio-accuracy"),
+    key(Top, "i_ratio_accuracy", Number(NonNegative), "--i-ratio-accuracy"),
     key(Top, "phase_error", Number(NonNegative), "--phase-error"),
-    key(
-        Top,
-        "skew_uncertainty",
-        Number(NonNegative),
-        "--skew-uncertainty",
-    ),
+    key(Top, "skew_uncertainty", Number(NonNegative), "--skew-uncertainty"),
     key(Top, "clock_ppm", Number(NonNegative), "--clock-ppm"),
     key(Top, "adc_bits", Whole(1, 32), "--adc-bits"),
     key(Top, "v_full_scale", Number(Positive), "--v-full-scale"),
@@ -165,45 +151,22 @@ pub const KEYS: &[Key] = &[
     key(Meter, "reading", Text, "meter --reading"),
     key(Meter, "class", Text, "meter --class"),
     key(Meter, "pf_sign", Text, "meter --pf-sign"),
-    key(
-        Meter,
-        "rated_current",
-        Number(Positive),
-        "meter --rated-current",
-    ),
+    key(Meter, "rated_current", Number(Positive), "meter --rated-current"),
+    key(Meter, "connection", Text, "meter --connection"),
+    key(Meter, "reactive_class", Text, "meter --reactive-class"),
     key(Bank, "nameplate", Path, "bank --nameplate"),
     key(Bank, "before", Path, "bank --before"),
     key(Bank, "rated_kvar", Number(Positive), "bank --rated-kvar"),
-    key(
-        Bank,
-        "rated_voltage",
-        Number(Positive),
-        "bank --rated-voltage",
-    ),
-    key(
-        Bank,
-        "rated_frequency",
-        Number(Positive),
-        "bank --rated-frequency",
-    ),
+    key(Bank, "rated_voltage", Number(Positive), "bank --rated-voltage"),
+    key(Bank, "rated_frequency", Number(Positive), "bank --rated-frequency"),
     key(Bank, "steps", Whole(1, u64::MAX), "bank --steps"),
     key(Bank, "step_kvar", Numbers, "bank --step-kvar"),
     key(Bank, "three_phase", Flag, "bank --three-phase"),
     key(Bank, "standard", Text, "bank --standard"),
     key(Bank, "target_pf", Number(Fraction), "bank --target-pf"),
     key(Bank, "supply_mva", Number(Positive), "bank --supply-mva"),
-    key(
-        Bank,
-        "transformer_kva",
-        Number(Positive),
-        "bank --transformer-kva",
-    ),
-    key(
-        Bank,
-        "transformer_z_percent",
-        Number(Positive),
-        "bank --transformer-z-percent",
-    ),
+    key(Bank, "transformer_kva", Number(Positive), "bank --transformer-kva"),
+    key(Bank, "transformer_z_percent", Number(Positive), "bank --transformer-z-percent"),
 ];
 
 /// A key of an earlier version, still read as the key it became.
