@@ -334,13 +334,20 @@ pub enum SummaryFormatArg {
 #[command(next_help_heading = "Settings (override tracephase.toml sidecars)")]
 pub struct OverrideArgs {
     /// Voltage channel: header name, or number counting the file's columns from 1 with the time
-    /// column included (WAV: channel number).
-    #[arg(long, value_name = "COL")]
+    /// column included (WAV: channel number); three-phase: a list in phase order (`Va,Vb,Vc`).
+    #[arg(long, value_name = "COL[,COL,COL]")]
     pub voltage: Option<String>,
     /// Current channel: header name, or number counting the file's columns from 1 with the time
-    /// column included (WAV: channel number).
-    #[arg(long, value_name = "COL")]
+    /// column included (WAV: channel number); three-phase: a list in phase order (`Ia,Ib,Ic`).
+    #[arg(long, value_name = "COL[,COL,COL]")]
     pub current: Option<String>,
+    /// The measured neutral current of a 4-wire capture.
+    #[arg(long, value_name = "COL")]
+    pub neutral: Option<String>,
+    /// How the circuit is connected: single, 4-wire or 3-wire [default: what the channels'
+    /// names say].
+    #[arg(long, value_name = "SYSTEM", value_parser = parse_system)]
+    pub system: Option<System>,
     /// Use --voltage and --current even where the header's unit or name says the channel is the
     /// other quantity (a mislabelled export); the rows then carry a warning.
     #[arg(long)]

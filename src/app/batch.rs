@@ -26,6 +26,8 @@ pub fn layer_from(o: &OverrideArgs) -> Layer {
     Layer {
         voltage: o.voltage.clone(),
         current: o.current.clone(),
+        neutral: o.neutral.clone(),
+        system: o.system.map(|s| s.as_str().to_string()),
         force_channels: o.force_channels.then_some(true),
         secondary: o.secondary.then_some(true),
         rate: o.rate,

@@ -402,6 +402,8 @@ fn resolve(l: &Layer, capture: &Path, files: &mut FileCache) -> Result<Setup, St
         load: LoadOptions {
             voltage: l.voltage.as_deref().map(ChannelSel::parse),
             current: l.current.as_deref().map(ChannelSel::parse),
+            neutral: l.neutral.as_deref().map(ChannelSel::parse),
+            system: l.system.as_deref().and_then(crate::capture::System::parse),
             rate_hz,
             force_channels: l.force_channels.unwrap_or(false),
             secondary_values: l.secondary.unwrap_or(false),

@@ -63,6 +63,12 @@ pub struct Layer {
     /// Current channel (name or 1-based number).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub current: Option<String>,
+    /// Neutral current channel of a 4-wire capture.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub neutral: Option<String>,
+    /// How the circuit is connected (`single`, `4-wire`, `3-wire`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub system: Option<String>,
     /// Use the channels chosen even against their unit or name.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub force_channels: Option<bool>,
@@ -196,6 +202,8 @@ impl Layer {
             over,
             voltage,
             current,
+            neutral,
+            system,
             force_channels,
             secondary,
             rate,
@@ -252,6 +260,8 @@ impl Layer {
         match (table, name, v) {
             (Table::Top, "voltage", Value::Text(t)) => self.voltage = Some(t),
             (Table::Top, "current", Value::Text(t)) => self.current = Some(t),
+            (Table::Top, "neutral", Value::Text(t)) => self.neutral = Some(t),
+            (Table::Top, "system", Value::Text(t)) => self.system = Some(t),
             (Table::Top, "force_channels", Value::Flag(f)) => self.force_channels = Some(f),
             (Table::Top, "secondary", Value::Flag(f)) => self.secondary = Some(f),
             (Table::Top, "rate", Value::Number(x)) => self.rate = Some(x),
@@ -493,7 +503,7 @@ mod tests {
     fn every_key_sets_a_field() {
         for k in keys::KEYS {
             let v = match k.kind {
-                Kind::Channel | Kind::Text | Kind::Path | Kind::Choice(_) => {
+                Kind::Channel | Kind::Text | Kind::Path | Kind::Choice(_) | Kind::System => {
                     Value::Text("x".into())
                 }
                 Kind::Flag => Value::Flag(true),
@@ -515,49 +525,25 @@ mod tests {
             let e = Sidecar::parse(text, Path::new("t.toml")).unwrap_err();
             (e.line, e.message)
         };
-        let (line, m) = line_of(
-            "i_scale = 10
-v_scale = = 3
-",
-        );
+        let (line, m) = line_of("i_scale = 10\nv_scale = = 3\n");
         assert_eq!(line, Some(2), "{m}");
-        let (line, m) = line_of(
-            "i_scale = 10
-[[files]]
-pattern = \"*-b*\"
-adc_bits = 40
-",
-        );
+        let (line, m) = line_of("i_scale = 10\n[[files]]\npattern = \"*-b*\"\nadc_bits = 40\n");
         assert_eq!(line, Some(4), "{m}");
         assert!(m.contains("whole number from 1 to 32, not 40"), "{m}");
-        let (line, m) = line_of(
-            "[meter]
-class = \"1\"
-harmonics = 40
-",
-        );
+        let (line, m) = line_of("[meter]\nclass = \"1\"\nharmonics = 40\n");
         assert_eq!(line, Some(3), "{m}");
         assert!(m.contains("unknown key `harmonics` in [meter]"), "{m}");
-        let (line, m) = line_of(
-            "v_scale = 2
-
-[[files]]
-i_scale = 3
-",
-        );
+        let (line, m) = line_of("v_scale = 2\n\n[[files]]\ni_scale = 3\n");
         assert_eq!(line, Some(3), "{m}");
         assert!(m.contains("needs a `pattern`"), "{m}");
-        let (line, m) = line_of(
-            "voltage = 0
-",
-        );
+        let (line, m) = line_of("voltage = 0\n");
         assert_eq!(line, Some(1), "{m}");
+        let (line, m) = line_of("voltage = \"Va,Vb,Vc\"\nsystem = \"two-phase\"\n");
+        assert_eq!(line, Some(2), "{m}");
+        assert!(m.contains(r#"one of "single", "4-wire", "3-wire""#), "{m}");
         // numbers where the option takes them: an integer for a float, a channel by number
         let s = Sidecar::parse(
-            "v_scale = 100
-voltage = 2
-rate = 1e4
-",
+            "v_scale = 100\nvoltage = 2\nrate = 1e4\nsystem = \"delta\"\n",
             Path::new("t"),
         )
         .unwrap();
@@ -565,6 +551,7 @@ rate = 1e4
             (s.base.v_scale, s.base.voltage.as_deref(), s.base.rate),
             (Some(100.0), Some("2"), Some(1e4))
         );
+        assert_eq!(s.base.system.as_deref(), Some("delta"));
         assert_eq!(s.note, None);
     }
 

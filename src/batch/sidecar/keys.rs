@@ -64,6 +64,8 @@ pub enum Kind {
     Whole(u64, u64),
     /// A list of positive numbers.
     Numbers,
+    /// How the circuit is connected, as `--system` reads it.
+    System,
 }
 
 impl Kind {
@@ -90,6 +92,7 @@ impl Kind {
             Kind::Whole(lo, hi) if hi == u64::MAX => format!("a whole number, {lo} or more"),
             Kind::Whole(lo, hi) => format!("a whole number from {lo} to {hi}"),
             Kind::Numbers => "a list of numbers above zero, like [25, 25, 50]".into(),
+            Kind::System => "one of \"single\", \"4-wire\", \"3-wire\"".into(),
         }
     }
 }
@@ -128,6 +131,8 @@ pub const DISTRIBUTIONS: &[&str] = &["uniform", "normal"];
 pub const KEYS: &[Key] = &[
     key(Top, "voltage", Channel, "--voltage"),
     key(Top, "current", Channel, "--current"),
+    key(Top, "neutral", Channel, "--neutral"),
+    key(Top, "system", System, "--system"),
     key(Top, "force_channels", Flag, "--force-channels"),
     key(Top, "secondary", Flag, "--secondary"),
     key(Top, "rate", Number(Positive), "--rate"),

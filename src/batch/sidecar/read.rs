@@ -200,6 +200,12 @@ fn convert(kind: Kind, value: &Val<'_>) -> Option<Value> {
             }
             _ => return None,
         },
+        Kind::System => match v {
+            DeValue::String(s) if crate::capture::System::parse(s).is_some() => {
+                Value::Text(s.trim().to_string())
+            }
+            _ => return None,
+        },
         Kind::Flag => match v {
             DeValue::Boolean(b) => Value::Flag(*b),
             _ => return None,
