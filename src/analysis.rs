@@ -536,7 +536,8 @@ impl Analysis {
             v1: q.voltage.fundamental_rms,
             u_v1_type_a,
             frequency_hz: q.frequency_hz,
-            u_frequency_hz: self.uncertainty.frequency_hz / self.uncertainty.coverage_factor,
+            u_frequency_hz: self.uncertainty.frequency_hz
+                / self.uncertainty.coverage.frequency_hz.k,
             angle_deg: q.phase_angle_dft_deg?,
             instrument: self.settings.uncertainty,
             current_harmonics: q.harmonics.iter().map(|h| h.current_rms).collect(),

@@ -391,6 +391,9 @@ pub struct OverrideArgs {
     /// Sample clock accuracy, ± ppm.
     #[arg(long, value_name = "PPM")]
     pub clock_ppm: Option<f64>,
+    /// Frequency response for harmonics, % of reading [default: 5].
+    #[arg(long, value_name = "PCT")]
+    pub harmonic_accuracy: Option<f64>,
     /// Converter bits (with --v-full-scale and --i-full-scale, here or in a sidecar)
     /// [default: the step seen in the data].
     #[arg(long, value_name = "BITS")]
@@ -592,6 +595,10 @@ pub struct UncertaintyArgs {
     /// Sample clock accuracy, parts per million.
     #[arg(long, default_value_t = 50.0, value_name = "PPM")]
     pub clock_ppm: f64,
+    /// Frequency response of probe and instrument for harmonics, % of each harmonic's reading
+    /// (moves THD by the same share; default 5: IEC 61000-4-7 class I).
+    #[arg(long, default_value_t = 5.0, value_name = "PCT")]
+    pub harmonic_accuracy: f64,
     /// Converter bits (with --v-full-scale and --i-full-scale); default: the step seen in the data.
     #[arg(long, value_name = "BITS", requires_all = ["v_full_scale", "i_full_scale"])]
     pub adc_bits: Option<u32>,

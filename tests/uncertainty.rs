@@ -249,6 +249,8 @@ fn no_instrument_errors() -> UncertaintyInputs {
         phase_error_deg: 0.0,
         skew_s: 0.0,
         clock_ppm: 0.0,
+        // the Monte Carlo draws no harmonic response error
+        harmonic_percent: 0.0,
         adc: None,
     }
 }
@@ -305,6 +307,8 @@ fn u_covers_noise_and_small_instrument_errors_together() {
         phase_error_deg: 0.01,
         skew_s: 0.5e-6,
         clock_ppm: 0.5,
+        // the Monte Carlo draws no harmonic response error
+        harmonic_percent: 0.0,
         adc: None,
     };
     let case = long_case("small instrument errors", inputs, 30.0, 22);
@@ -329,6 +333,8 @@ fn u_matches_the_monte_carlo_spread_of_the_bench_probes() {
         phase_error_deg: 0.5,
         skew_s: 0.0,
         clock_ppm: 50.0,
+        // the Monte Carlo draws no harmonic response error
+        harmonic_percent: 0.0,
         adc: None,
     };
     let case = long_case("bench probes", inputs, 10.0, 33);
@@ -385,6 +391,8 @@ fn power_factor_uncertainty_is_honest_at_unity_and_away_from_it() {
         phase_error_deg: 0.5,
         skew_s: 0.0,
         clock_ppm: 0.0,
+        // the Monte Carlo draws no harmonic response error
+        harmonic_percent: 0.0,
         adc: None,
     };
     for angle in [0.0, 2.0, 30.0] {

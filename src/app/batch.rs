@@ -51,6 +51,7 @@ pub fn layer_from(o: &OverrideArgs) -> Layer {
         phase_error: o.phase_error,
         skew_uncertainty: o.skew_uncertainty,
         clock_ppm: o.clock_ppm,
+        harmonic_accuracy: o.harmonic_accuracy,
         adc_bits: o.adc_bits,
         v_full_scale: o.v_full_scale,
         i_full_scale: o.i_full_scale,

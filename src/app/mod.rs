@@ -184,6 +184,7 @@ pub fn resolve_uncertainty(u: &UncertaintyArgs) -> Result<UncertaintyInputs, Con
         phase_error_deg: limit(u.phase_error, "--phase-error")?,
         skew_s: limit(u.skew_uncertainty, "--skew-uncertainty")?,
         clock_ppm: limit(u.clock_ppm, "--clock-ppm")?,
+        harmonic_percent: limit(u.harmonic_accuracy, "--harmonic-accuracy")?,
         adc,
     })
 }

@@ -306,6 +306,11 @@ fn resolve(l: &Layer, capture: &Path, files: &mut FileCache) -> Result<Setup, St
             phase_error_deg: limit(l.phase_error, du.phase_error_deg, "phase_error")?,
             skew_s: limit(l.skew_uncertainty, du.skew_s, "skew_uncertainty")?,
             clock_ppm: limit(l.clock_ppm, du.clock_ppm, "clock_ppm")?,
+            harmonic_percent: limit(
+                l.harmonic_accuracy,
+                du.harmonic_percent,
+                "harmonic_accuracy",
+            )?,
             adc,
         },
     };

@@ -25,6 +25,7 @@
 //! v_ratio_accuracy = 1
 //! i_ratio_accuracy = 2
 //! phase_error = 0.5
+//! harmonic_accuracy = 5        # ± % of each harmonic's reading (THD)
 //! adc_bits = 12                # with v_full_scale and i_full_scale
 //! v_full_scale = 400
 //! i_full_scale = 20
@@ -120,6 +121,9 @@ pub struct Layer {
     /// Sample clock accuracy, ± ppm.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub clock_ppm: Option<f64>,
+    /// Frequency response for harmonics, ± % of each harmonic's reading.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub harmonic_accuracy: Option<f64>,
     /// Converter bits.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub adc_bits: Option<u32>,
@@ -221,6 +225,7 @@ impl Layer {
             phase_error,
             skew_uncertainty,
             clock_ppm,
+            harmonic_accuracy,
             adc_bits,
             v_full_scale,
             i_full_scale
@@ -279,6 +284,9 @@ impl Layer {
             (Table::Top, "phase_error", Value::Number(x)) => self.phase_error = Some(x),
             (Table::Top, "skew_uncertainty", Value::Number(x)) => self.skew_uncertainty = Some(x),
             (Table::Top, "clock_ppm", Value::Number(x)) => self.clock_ppm = Some(x),
+            (Table::Top, "harmonic_accuracy", Value::Number(x)) => {
+                self.harmonic_accuracy = Some(x)
+            }
             (Table::Top, "adc_bits", Value::Whole(n)) => self.adc_bits = Some(n as u32),
             (Table::Top, "v_full_scale", Value::Number(x)) => self.v_full_scale = Some(x),
             (Table::Top, "i_full_scale", Value::Number(x)) => self.i_full_scale = Some(x),

@@ -383,7 +383,9 @@ pub fn estimate_at(
     };
     let (voltage, current) = both(|| channel(v, &vd), || channel(i, &id));
     let ((voltage, windows_v), (current, windows_i)) = (voltage?, current?);
-    // Cramér-Rao bound for the frequency (Kay, vol. I; references §4), in cycles per sample.
+    // The frequency's standard uncertainty from the estimator used: the phase slope across the
+    // sub-records, each sub-record's phase with var(φ) ≈ 1/(η·L), η = RMS²/σ² (Kay, vol. I;
+    // references §4). The Cramér-Rao bound of the whole record is the floor under it.
     let src = if source == Trace::Voltage {
         &voltage
     } else {
@@ -391,10 +393,12 @@ pub fn estimate_at(
     };
     let nd = vd.len() as f64;
     let eta = src.fundamental().norm_sqr() / src.residual_rms.powi(2).max(f64::MIN_POSITIVE);
-    let var_f = 12.0 / ((2.0 * PI).powi(2) * eta * nd * (nd * nd - 1.0));
+    let crb_hz = (12.0 / ((2.0 * PI).powi(2) * eta * nd * (nd * nd - 1.0))).sqrt() * fsd;
+    let segment_phase_sigma = 1.0 / (eta * refined.segment_len.max(1) as f64).sqrt();
+    let sigma_f = refined.sigma_hz(segment_phase_sigma).max(crb_hz);
     Ok(Estimate {
         frequency_hz: f,
-        frequency_sigma_hz: var_f.sqrt() * fsd,
+        frequency_sigma_hz: sigma_f,
         frequency_source: source,
         cycles,
         order,

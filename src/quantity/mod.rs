@@ -12,6 +12,7 @@
 //! A known current-channel delay (`skew`) is removed per harmonic by rotating each current phasor
 //! by `2π·h·f·skew`; P is corrected by the change of Σ Re(Vh·Ih*) that rotation makes.
 
+pub mod coverage;
 pub mod crossing_shift;
 pub mod power;
 pub mod three_phase;

@@ -1,6 +1,8 @@
-//! Expanded uncertainty (k = 2) of every reported figure, by the GUM law of propagation
-//! (JCGM 100:2008): independent components, each a standard uncertainty times its sensitivity,
-//! added in quadrature.
+//! Expanded uncertainty of every reported figure, by the GUM law of propagation (JCGM 100:2008):
+//! independent components, each a standard uncertainty times its sensitivity, added in
+//! quadrature. The coverage factor comes from each figure's effective degrees of freedom
+//! (Welch-Satterthwaite, [`super::coverage`]): k = 2 when no Type A part rests on few windows,
+//! t_95.45(ν_eff) when one does (ν = M − 1 for a spread over M windows; 3.31 at ν = 3).
 //!
 //! Type A (statistical, from the capture itself):
 //! - the spread of each figure across sub-records of about 200 ms (the IEC 61000-4-7 window):
@@ -20,8 +22,16 @@
 //!   noise σ², whichever is larger, adds to the mean square, a bias of RMS (and of true PF
 //!   through S) left uncorrected and added to U whole; q from the bits and full scale, or the
 //!   smallest step seen in the samples (the random part of quantisation is in the Type A spread);
-//! - sample clock accuracy (ppm) on the frequency.
+//! - sample clock accuracy (ppm) on the frequency;
+//! - the frequency response of probe and instrument on THD (± % of each harmonic's reading; the
+//!   default 5 % is what IEC 61000-4-7 class I allows for harmonics, from memory): the
+//!   distortion ratio moves by the same share, u = THD·limit/√3.
+//!
+//! The frequency's Type A part is that of the estimator used ([`crate::estimate::frequency`]):
+//! the phase slope across sub-records, each sub-record's phase with the noise of its own length,
+//! never below the Cramér-Rao bound of the whole record.
 
+use super::coverage::Coverage;
 use super::crossing_shift::interpolation_errors;
 use super::{Quantities, TraceFigures};
 use crate::estimate::frequency::wrap;
@@ -30,8 +40,12 @@ use rustfft::num_complex::Complex64;
 use serde::Serialize;
 use std::f64::consts::PI;
 
-/// Coverage factor of every reported uncertainty (about 95 % for a normal distribution).
+/// Coverage factor with infinitely many degrees of freedom (95.45 % for a normal distribution);
+/// a figure whose Type A part rests on few windows gets a larger one ([`Coverage`]).
 pub const COVERAGE_FACTOR: f64 = 2.0;
+/// The default limit of the harmonics' readings, ± % (IEC 61000-4-7 class I for harmonics, from
+/// memory).
+pub const DEFAULT_HARMONIC_PERCENT: f64 = 5.0;
 /// Fewer windows than this give too rough a spread to use alone.
 pub const MIN_WINDOWS_FOR_SPREAD: usize = 4;
 
@@ -49,6 +63,9 @@ pub struct UncertaintyInputs {
     pub skew_s: f64,
     /// Sample clock accuracy, ± ppm.
     pub clock_ppm: f64,
+    /// Frequency response of probe and instrument: ± % of each harmonic's reading, moving THD
+    /// by the same share.
+    pub harmonic_percent: f64,
     /// Converter bits, with full scale (peak, in volts and amperes after scaling); `None`: the
     /// step is taken from the samples.
     pub adc: Option<Adc>,
@@ -74,7 +91,8 @@ impl Adc {
 impl Default for UncertaintyInputs {
     /// Defaults for an ordinary bench set-up (common practice): differential voltage probe ±1 %,
     /// current clamp ±2 % and ±0.5° (a class 0.5 current transformer allows 30′ = 0.5°,
-    /// IEC 61869-2, from memory), no residual skew, a ±50 ppm crystal clock.
+    /// IEC 61869-2, from memory), no residual skew, a ±50 ppm crystal clock, harmonics within
+    /// ±5 % of reading (IEC 61000-4-7 class I, from memory).
     fn default() -> Self {
         UncertaintyInputs {
             v_ratio_percent: 1.0,
@@ -82,16 +100,21 @@ impl Default for UncertaintyInputs {
             phase_error_deg: 0.5,
             skew_s: 0.0,
             clock_ppm: 50.0,
+            harmonic_percent: DEFAULT_HARMONIC_PERCENT,
             adc: None,
         }
     }
 }
 
-/// Expanded uncertainties (k = 2), mirroring the result keys.
+/// Expanded uncertainties, mirroring the result keys, each with its own coverage factor
+/// ([`Coverages`]).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Uncertainty {
-    /// Coverage factor used.
+    /// The largest coverage factor among the figures (2 unless a Type A part rests on few
+    /// windows); each figure's own is in `coverage`.
     pub coverage_factor: f64,
+    /// Each figure's effective degrees of freedom and coverage factor.
+    pub coverage: Coverages,
     /// Number of sub-records the spread was taken over.
     pub windows: usize,
     /// Fundamental frequency, Hz.
@@ -108,6 +131,59 @@ pub struct Uncertainty {
     pub current: TraceUncertainty,
     /// Powers.
     pub power: PowerUncertainty,
+}
+
+/// The effective degrees of freedom and coverage factor of each figure (Welch-Satterthwaite,
+/// JCGM 100:2008 Annex G), keys as in the results.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Coverages {
+    /// Frequency.
+    pub frequency_hz: Coverage,
+    /// DFT phase angle.
+    pub phase_angle_deg: Coverage,
+    /// Displacement PF.
+    pub displacement_pf: Coverage,
+    /// True PF.
+    pub true_pf: Coverage,
+    /// Voltage RMS.
+    pub voltage_rms: Coverage,
+    /// Voltage THD.
+    pub voltage_thd_percent: Coverage,
+    /// Current RMS.
+    pub current_rms: Coverage,
+    /// Current THD.
+    pub current_thd_percent: Coverage,
+    /// P.
+    pub active_w: Coverage,
+    /// Q1.
+    pub reactive_var: Coverage,
+}
+
+impl Coverages {
+    fn all(&self) -> [Coverage; 10] {
+        [
+            self.frequency_hz,
+            self.phase_angle_deg,
+            self.displacement_pf,
+            self.true_pf,
+            self.voltage_rms,
+            self.voltage_thd_percent,
+            self.current_rms,
+            self.current_thd_percent,
+            self.active_w,
+            self.reactive_var,
+        ]
+    }
+}
+
+/// A standard uncertainty with its degrees of freedom (`None`: infinitely many).
+type Part = (f64, Option<f64>);
+
+/// The expanded uncertainty of `parts` and its coverage.
+fn expand(parts: &[Part]) -> (f64, Coverage) {
+    let c = Coverage::from_parts(parts);
+    let u = parts.iter().map(|(u, _)| u * u).sum::<f64>().sqrt();
+    (c.k * u, c)
 }
 
 /// Uncertainty of both angles.
@@ -242,7 +318,6 @@ pub fn uncertainty(
     inputs: &UncertaintyInputs,
 ) -> Uncertainty {
     let f = est.frequency_hz;
-    let k = COVERAGE_FACTOR;
     let rect = |limit: f64| limit / 3f64.sqrt();
     let skew_rot = |h: usize| Complex64::from_polar(1.0, 2.0 * PI * h as f64 * f * skew_s);
     let wins: Vec<WindowFigures> = est
@@ -252,22 +327,28 @@ pub fn uncertainty(
         .collect();
     let spread_ok = wins.len() >= MIN_WINDOWS_FOR_SPREAD;
     let spread = |get: fn(&WindowFigures) -> f64| sd_mean(wins.iter().map(get));
+    // The degrees of freedom of a spread over the windows (GUM G.3.3): M − 1.
+    let window_dof = Some(wins.len().saturating_sub(1) as f64);
     // Type A: the window spread when there are enough windows; otherwise the noise propagated
-    // analytically, or the rough spread of two or three windows if that is larger.
-    let type_a = |get: fn(&WindowFigures) -> f64, noise: f64| {
+    // analytically (over thousands of samples: infinitely many degrees of freedom), or the rough
+    // spread of two or three windows if that is larger.
+    let type_a = |get: fn(&WindowFigures) -> f64, noise: f64| -> Part {
         let s = spread(get);
-        if spread_ok {
-            s
+        if spread_ok || (wins.len() >= 2 && s > noise) {
+            (s, window_dof)
         } else {
-            noise.max(if wins.len() >= 2 { s } else { 0.0 })
+            (noise, None)
         }
     };
+    let b = |u: f64| -> Part { (u, None) };
 
     // Angle: Type B from probe phase error and skew.
     let u_phase_b = rect(inputs.phase_error_deg).hypot(rect(360.0 * f * inputs.skew_s));
     let u_angle_noise = q.phase_angle_dft_sigma_deg;
-    let u_angle_a = type_a(|w| w.angle_deg, u_angle_noise);
-    let u_angle = rss(&[u_angle_a, u_phase_b]);
+    let angle_a = type_a(|w| w.angle_deg, u_angle_noise);
+    let angle_parts = [angle_a, b(u_phase_b)];
+    let (u_angle_expanded, angle_cov) = expand(&angle_parts);
+    let u_angle = u_angle_expanded / angle_cov.k;
     // The crossing detector interpolates between samples; on a distorted wave that misses the
     // crossing by an amount the scatter cannot show (up to 0.1° at 40 samples per cycle), set
     // by where the samples fall in the cycle, which is not known: its root mean square over
@@ -335,83 +416,118 @@ pub fn uncertainty(
         (t.rms * t.rms + quantisation.max(sigma * sigma * d)).sqrt() - t.rms
     };
     let rms_u = |t: &TraceFigures, ratio_pct: f64, noise: f64, get: fn(&WindowFigures) -> f64| {
-        rss(&[t.rms * rect(ratio_pct / 100.0), type_a(get, noise)])
+        expand(&[b(t.rms * rect(ratio_pct / 100.0)), type_a(get, noise)])
     };
-    let u_v = rms_u(&q.voltage, inputs.v_ratio_percent, noise_rms(sv), |w| {
+    let (u_v, cov_v) = rms_u(&q.voltage, inputs.v_ratio_percent, noise_rms(sv), |w| {
         w.v_rms
     });
-    let u_i = rms_u(&q.current, inputs.i_ratio_percent, noise_rms(si), |w| {
+    let (u_i, cov_i) = rms_u(&q.current, inputs.i_ratio_percent, noise_rms(si), |w| {
         w.i_rms
     });
+    let u_v = u_v + rms_bias(&q.voltage, steps.0, sv);
+    let u_i = u_i + rms_bias(&q.current, steps.1, si);
 
     // Powers: ratio errors of both channels, the angle, spread.
     let ratio_rel =
         rect(inputs.v_ratio_percent / 100.0).hypot(rect(inputs.i_ratio_percent / 100.0));
     let s1 = q.power.fundamental_apparent_va;
-    let u_p = rss(&[
-        q.power.active_w.abs() * ratio_rel,
-        s1 * theta.sin().abs() * u_theta_b,
+    let (u_p, cov_p) = expand(&[
+        b(q.power.active_w.abs() * ratio_rel),
+        b(s1 * theta.sin().abs() * u_theta_b),
         type_a(|w| w.p, noise_power(q.voltage.rms, q.current.rms)),
     ]);
-    let u_q = rss(&[
-        q.power.reactive_var.abs() * ratio_rel,
-        s1 * theta.cos().abs() * u_theta_b,
+    let (u_q, cov_q) = expand(&[
+        b(q.power.reactive_var.abs() * ratio_rel),
+        b(s1 * theta.cos().abs() * u_theta_b),
         type_a(
             |w| w.q1,
             noise_power(q.voltage.fundamental_rms, q.current.fundamental_rms),
         ),
     ]);
+    // THD: the harmonics' reading limit (Type B) and the spread or noise (Type A).
+    let thd_u = |t: &TraceFigures, sigma: f64, get: fn(&WindowFigures) -> f64| {
+        t.thd_percent.map(|thd| {
+            expand(&[
+                b(thd * rect(inputs.harmonic_percent / 100.0)),
+                type_a(get, noise_thd(sigma, t)),
+            ])
+        })
+    };
+    let thd_v = thd_u(&q.voltage, sv, |w| w.v_thd);
+    let thd_i = thd_u(&q.current, si, |w| w.i_thd);
+    // Frequency: the estimator's own noise (infinitely many degrees of freedom: the fit's
+    // residual over the whole record) and the clock.
+    let (u_f, cov_f) = expand(&[
+        b(est.frequency_sigma_hz),
+        b(f * rect(inputs.clock_ppm * 1e-6)),
+    ]);
     let s = q.power.apparent_va;
     let defined = q.phase_angle_dft_deg.is_some();
+    // PF1 = cos θ depends on the angle alone, so the angle's whole uncertainty goes through the
+    // cosine, with the angle's degrees of freedom.
+    let displacement_pf =
+        defined.then(|| angle_cov.k * through_cos(theta, u_angle.to_radians(), 1.0));
+    // True PF takes the angle's Type B part through the cosine and its own window spread.
+    let true_pf = defined.then(|| {
+        let scale = s1 / s;
+        // The noise the fit leaves (at the input rate) is in the RMS readings and so in S: PF
+        // reads low by PF·(1 − 1/√((1 + σv²/V²)(1 + σi²/I²))), a bias left uncorrected and added
+        // to U whole, as for RMS (JCGM 100:2008 F.2.4.5, from memory); as a ± limit in
+        // quadrature it covered 84 % of Monte Carlo errors on a 40 dB record.
+        let rel = |sigma: f64, x: f64| {
+            if x > 0.0 {
+                sigma * sigma * d / (x * x)
+            } else {
+                0.0
+            }
+        };
+        let inflation = ((1.0 + rel(sv, q.voltage.rms)) * (1.0 + rel(si, q.current.rms))).sqrt();
+        let noise_bias = q.true_pf.unwrap_or(0.0).abs() * (1.0 - 1.0 / inflation);
+        let (u, c) = expand(&[
+            b(through_cos(theta, u_theta_b, scale)),
+            type_a(|w| w.pf, through_cos(theta, u_theta_noise, scale)),
+        ]);
+        (u + noise_bias, c)
+    });
+    let normal = Coverage::NORMAL;
+    let coverage = Coverages {
+        frequency_hz: cov_f,
+        phase_angle_deg: angle_cov,
+        displacement_pf: angle_cov,
+        true_pf: true_pf.map_or(normal, |t| t.1),
+        voltage_rms: cov_v,
+        voltage_thd_percent: thd_v.map_or(normal, |t| t.1),
+        current_rms: cov_i,
+        current_thd_percent: thd_i.map_or(normal, |t| t.1),
+        active_w: cov_p,
+        reactive_var: cov_q,
+    };
     Uncertainty {
-        coverage_factor: k,
+        coverage_factor: coverage
+            .all()
+            .iter()
+            .map(|c| c.k)
+            .fold(COVERAGE_FACTOR, f64::max),
+        coverage,
         windows: wins.len(),
-        frequency_hz: k * rss(&[est.frequency_sigma_hz, f * rect(inputs.clock_ppm * 1e-6)]),
+        frequency_hz: u_f,
         phase_angle_deg: AngleUncertainty {
-            dft: defined.then_some(k * u_angle),
-            zero_crossing: u_angle_zc.map(|u| k * u),
+            dft: defined.then_some(u_angle_expanded),
+            zero_crossing: u_angle_zc.map(|u| COVERAGE_FACTOR * u),
         },
-        // PF1 = cos θ depends on the angle alone, so the angle's whole uncertainty goes through
-        // the cosine; true PF takes the angle's Type B part that way and its own window spread.
-        displacement_pf: defined.then(|| k * through_cos(theta, u_angle.to_radians(), 1.0)),
-        true_pf: defined.then(|| {
-            let scale = s1 / s;
-            // The noise the fit leaves (at the input rate) is in the RMS readings and so in S:
-            // PF reads low by PF·(1 − 1/√((1 + σv²/V²)(1 + σi²/I²))), a bias left uncorrected
-            // and added to U whole, as for RMS (JCGM 100:2008 F.2.4.5, from memory); as a ± limit
-            // in quadrature it covered 84 % of Monte Carlo errors on a 40 dB record.
-            let rel = |sigma: f64, x: f64| {
-                if x > 0.0 {
-                    sigma * sigma * d / (x * x)
-                } else {
-                    0.0
-                }
-            };
-            let inflation =
-                ((1.0 + rel(sv, q.voltage.rms)) * (1.0 + rel(si, q.current.rms))).sqrt();
-            let noise_bias = q.true_pf.unwrap_or(0.0).abs() * (1.0 - 1.0 / inflation);
-            k * rss(&[
-                through_cos(theta, u_theta_b, scale),
-                type_a(|w| w.pf, through_cos(theta, u_theta_noise, scale)),
-            ]) + noise_bias
-        }),
+        displacement_pf,
+        true_pf: true_pf.map(|t| t.0),
         voltage: TraceUncertainty {
-            rms: k * u_v + rms_bias(&q.voltage, steps.0, sv),
-            thd_percent: q
-                .voltage
-                .thd_percent
-                .map(|_| k * type_a(|w| w.v_thd, noise_thd(sv, &q.voltage))),
+            rms: u_v,
+            thd_percent: thd_v.map(|t| t.0),
         },
         current: TraceUncertainty {
-            rms: k * u_i + rms_bias(&q.current, steps.1, si),
-            thd_percent: q
-                .current
-                .thd_percent
-                .map(|_| k * type_a(|w| w.i_thd, noise_thd(si, &q.current))),
+            rms: u_i,
+            thd_percent: thd_i.map(|t| t.0),
         },
         power: PowerUncertainty {
-            active_w: k * u_p,
-            reactive_var: k * u_q,
+            active_w: u_p,
+            reactive_var: u_q,
         },
     }
 }

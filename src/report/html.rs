@@ -178,7 +178,8 @@ const METHODS: [(&str, &str); 6] = [
     ),
     (
         "Uncertainty",
-        "expanded uncertainty U with coverage factor k = 2 by the GUM law of propagation (JCGM \
+        "expanded uncertainty U with coverage factor k from each figure's effective degrees of \
+         freedom (k = 2 unless a Type A part rests on few windows) by the GUM law of propagation (JCGM \
          100:2008): Type A from the spread over sub-records of about 200 ms or the fit noise, Type \
          B from the instrument limits in the settings, each rectangular.",
     ),
@@ -469,6 +470,10 @@ pub fn settings_rows(s: &Settings) -> Vec<(String, String)> {
         ),
         ("residual skew (± s)".into(), num(u.skew_s, 3)),
         ("sample clock (± ppm)".into(), num(u.clock_ppm, 3)),
+        (
+            "harmonics, frequency response (± % of reading)".into(),
+            num(u.harmonic_percent, 3),
+        ),
     ];
     rows.push((
         "converter resolution".into(),
@@ -629,7 +634,7 @@ fn capture_section(
     writeln!(
         h,
         "<p class=\"note\">{} · {} Hz · {} samples · {} \
-         · {} cycles ({} whole) · harmonics to order {} · U with k = {} over {} sub-records</p>",
+         · {} cycles ({} whole) · harmonics to order {} · U over {} sub-records: {}</p>",
         escape(&a.format.to_string()),
         num(a.sample_rate_hz, 6),
         a.samples,
@@ -640,8 +645,8 @@ fn capture_section(
         num(q.cycles, 4),
         q.whole_cycles,
         q.harmonic_order,
-        u.coverage_factor,
-        u.windows
+        u.windows,
+        escape(&super::coverage_text(u))
     )?;
     if let Some(t) = &a.three_phase {
         row_table_frequency(h, a)?;
@@ -651,7 +656,7 @@ fn capture_section(
     }
     writeln!(
         h,
-        "<table class=\"results\">\n<tr><th>quantity</th><th>value ± U (k = 2)</th></tr>"
+        "<table class=\"results\">\n<tr><th>quantity</th><th>value ± U</th></tr>"
     )?;
     row(
         h,

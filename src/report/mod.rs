@@ -76,3 +76,39 @@ pub fn write_record<T: serde::Serialize>(
         Format::Table => Ok(()),
     }
 }
+
+/// The coverage factors in words: "k = 2 for every figure (ν_eff ∞)", or the figures whose
+/// effective degrees of freedom (Welch-Satterthwaite) give a larger k.
+pub fn coverage_text(u: &crate::quantity::uncertainty::Uncertainty) -> String {
+    let c = &u.coverage;
+    let named = [
+        ("frequency", c.frequency_hz),
+        ("angle and PF1", c.phase_angle_deg),
+        ("true PF", c.true_pf),
+        ("V RMS", c.voltage_rms),
+        ("THD-V", c.voltage_thd_percent),
+        ("I RMS", c.current_rms),
+        ("THD-I", c.current_thd_percent),
+        ("P", c.active_w),
+        ("Q1", c.reactive_var),
+    ];
+    let larger: Vec<String> = named
+        .iter()
+        .filter(|(_, c)| c.k > 2.0)
+        .map(|(name, c)| {
+            format!(
+                "{name} k = {:.2} (ν_eff {})",
+                c.k,
+                c.effective_dof.map_or("∞".into(), |n| format!("{n:.1}"))
+            )
+        })
+        .collect();
+    if larger.is_empty() {
+        "k = 2 for every figure (ν_eff large)".into()
+    } else {
+        format!(
+            "k = 2 (ν_eff large) but {} (Student t at 95.45 %, JCGM 100 Annex G)",
+            larger.join(", ")
+        )
+    }
+}

@@ -310,12 +310,12 @@ impl Exporter for TableExporter {
         }
         writeln!(
             out,
-            "  frequency    {} | {} cycles, {} whole | uncertainties: k = {}, {} windows",
+            "  frequency    {} | {} cycles, {} whole | uncertainties over {} windows: {}",
             pm(Some(q.frequency_hz), Some(u.frequency_hz), " Hz"),
             num(q.cycles, 4),
             q.whole_cycles,
-            u.coverage_factor,
             u.windows,
+            super::coverage_text(u),
         )?;
         match &a.three_phase {
             None => phase_block(out, &a.phases[0])?,

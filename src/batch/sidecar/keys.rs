@@ -150,6 +150,7 @@ pub const KEYS: &[Key] = &[
     key(Top, "phase_error", Number(NonNegative), "--phase-error"),
     key(Top, "skew_uncertainty", Number(NonNegative), "--skew-uncertainty"),
     key(Top, "clock_ppm", Number(NonNegative), "--clock-ppm"),
+    key(Top, "harmonic_accuracy", Number(NonNegative), "--harmonic-accuracy"),
     key(Top, "adc_bits", Whole(1, 32), "--adc-bits"),
     key(Top, "v_full_scale", Number(Positive), "--v-full-scale"),
     key(Top, "i_full_scale", Number(Positive), "--i-full-scale"),
