@@ -1114,10 +1114,12 @@ fn methods_section(h: &mut String, doc: &HtmlDoc) -> std::fmt::Result {
         "<li><strong>Limits.</strong> {}</li>\n</ul>\n</section>",
         escape(&format!(
             "harmonic voltage limits from IEEE 519-2014 ({} row: {} % individual, {} % THD); \
-             current limits from IEEE 519-2014 only when ISC/IL is given.",
+             current limits from IEEE 519-2014 {} only when ISC/IL is given. {}",
             lim.bus,
             num(lim.individual_percent, 2),
-            num(lim.thd_percent, 2)
+            num(lim.thd_percent, 2),
+            plot::spectrum::current_table(doc.plot_options.bus_voltage_v).0,
+            plot::spectrum::STATISTICS_NOTE
         ))
     )
 }

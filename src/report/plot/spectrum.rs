@@ -5,11 +5,16 @@
 //!   individual harmonic / THD in percent, ≤ 1 kV: 5.0 / 8.0; 1-69 kV: 3.0 / 5.0; 69-161 kV:
 //!   1.5 / 2.5; > 161 kV: 1.0 / 1.5. Without a bus voltage the ≤ 1 kV row is used, as for a
 //!   low-voltage capture, and the caption says so.
-//! - Current limits for 120 V to 69 kV (IEEE 519-2014 Table 2), in percent of the maximum demand
-//!   load current IL, by ISC/IL; drawn only when ISC/IL is given. Even orders are limited to 25 %
-//!   of the odd-order limit of their range. The bars are in percent of the captured fundamental,
-//!   which equals percent of IL only when the capture was taken at maximum demand: the caption
-//!   says so.
+//! - Current limits in percent of the maximum demand load current IL, by ISC/IL and bus voltage:
+//!   IEEE 519-2014 Table 2 (120 V to 69 kV, also without a bus voltage), Table 3 (69-161 kV) and
+//!   Table 4 (> 161 kV), the last two from memory; drawn only when ISC/IL is given. Even orders
+//!   are limited to 25 % of the odd-order limit of their range. The bars are in percent of the
+//!   captured fundamental, which equals percent of IL only when the capture was taken at maximum
+//!   demand: the caption says so.
+//! - IEEE 519-2014 assesses its limits on statistics of many windows (the 95th percentile of
+//!   10-minute values, the 99th percentile of 3-second values against 1.5 times the limit, from
+//!   memory): one capture is a snapshot and the comparison is indicative only. The caption and
+//!   the report say so ([`STATISTICS_NOTE`]).
 
 use super::{
     PlotError, PlotOptions, Swatch, TEXT_PX, TITLE_PX, font, font_at, legend, nice_step, palette,
@@ -93,16 +98,73 @@ const CURRENT_ROWS: [(f64, [f64; 6]); 5] = [
     (f64::INFINITY, [15.0, 7.0, 6.0, 2.5, 1.4, 20.0]),
 ];
 
-/// The current limit of order `h` (percent of IL) for a short-circuit ratio `isc_over_il`, or
-/// `None` for orders outside 2-50 or a ratio that is not a positive number.
-pub fn current_limit_percent(isc_over_il: f64, h: usize) -> Option<f64> {
-    if !(isc_over_il.is_finite() && isc_over_il > 0.0 && (2..=50).contains(&h)) {
+/// IEEE 519-2014 Table 3 (69 kV to 161 kV), from memory: the same layout, half of Table 2.
+const CURRENT_ROWS_69_161_KV: [(f64, [f64; 6]); 5] = [
+    (20.0, [2.0, 1.0, 0.75, 0.3, 0.15, 2.5]),
+    (50.0, [3.5, 1.75, 1.25, 0.5, 0.25, 4.0]),
+    (100.0, [5.0, 2.25, 2.0, 0.75, 0.35, 6.0]),
+    (1000.0, [6.0, 2.75, 2.5, 1.0, 0.5, 7.5]),
+    (f64::INFINITY, [7.5, 3.5, 3.0, 1.25, 0.7, 10.0]),
+];
+
+/// IEEE 519-2014 Table 4 (above 161 kV), from memory: rows ISC/IL < 25, 25 to 50, 50 and above.
+const CURRENT_ROWS_ABOVE_161_KV: [(f64, [f64; 6]); 3] = [
+    (25.0, [1.0, 0.5, 0.38, 0.15, 0.1, 1.5]),
+    (50.0, [2.0, 1.0, 0.75, 0.3, 0.15, 2.5]),
+    (f64::INFINITY, [3.0, 1.5, 1.15, 0.45, 0.22, 3.75]),
+];
+
+/// What IEEE 519-2014 assesses its limits on, for captions and reports.
+pub const STATISTICS_NOTE: &str = "IEEE 519-2014 applies its limits to statistics of many \
+    windows (95th percentile of 10-minute values; 99th percentile of 3-second values against \
+    1.5 times the limit, from memory): one capture is a snapshot, so the comparison is \
+    indicative only.";
+
+/// The same, short enough for the plot itself.
+pub const PLOT_NOTE: &str = "IEEE 519 limits apply to 95th/99th percentiles of many windows: \
+    one capture is indicative only";
+
+/// The current table for a bus of `bus_voltage_v` volts (`None`: Table 2, as for a low-voltage
+/// capture), with its name.
+pub fn current_table(bus_voltage_v: Option<f64>) -> (&'static str, &'static [(f64, [f64; 6])]) {
+    let v = bus_voltage_v
+        .filter(|v| v.is_finite() && *v > 0.0)
+        .unwrap_or(0.0);
+    if v > 161_000.0 {
+        (
+            "Table 4 (> 161 kV, from memory)",
+            &CURRENT_ROWS_ABOVE_161_KV,
+        )
+    } else if v > 69_000.0 {
+        ("Table 3 (69-161 kV, from memory)", &CURRENT_ROWS_69_161_KV)
+    } else {
+        ("Table 2 (120 V to 69 kV)", &CURRENT_ROWS)
+    }
+}
+
+fn current_row(isc_over_il: f64, bus_voltage_v: Option<f64>) -> Option<&'static [f64; 6]> {
+    if !(isc_over_il.is_finite() && isc_over_il > 0.0) {
         return None;
     }
-    let row = CURRENT_ROWS
+    current_table(bus_voltage_v)
+        .1
         .iter()
         .find(|(top, _)| isc_over_il < *top)
-        .map(|(_, r)| r)?;
+        .map(|(_, r)| r)
+}
+
+/// The current limit of order `h` (percent of IL) for a short-circuit ratio `isc_over_il` on a
+/// bus of `bus_voltage_v` volts, or `None` for orders outside 2-50 or a ratio that is not a
+/// positive number.
+pub fn current_limit_percent(
+    isc_over_il: f64,
+    h: usize,
+    bus_voltage_v: Option<f64>,
+) -> Option<f64> {
+    if !(2..=50).contains(&h) {
+        return None;
+    }
+    let row = current_row(isc_over_il, bus_voltage_v)?;
     let odd = match h {
         0..11 => row[0],
         11..17 => row[1],
@@ -113,15 +175,9 @@ pub fn current_limit_percent(isc_over_il: f64, h: usize) -> Option<f64> {
     Some(if h.is_multiple_of(2) { odd * 0.25 } else { odd })
 }
 
-/// The TDD limit (percent) for a short-circuit ratio.
-pub fn tdd_limit_percent(isc_over_il: f64) -> Option<f64> {
-    if !(isc_over_il.is_finite() && isc_over_il > 0.0) {
-        return None;
-    }
-    CURRENT_ROWS
-        .iter()
-        .find(|(top, _)| isc_over_il < *top)
-        .map(|(_, r)| r[5])
+/// The TDD limit (percent) for a short-circuit ratio on a bus of `bus_voltage_v` volts.
+pub fn tdd_limit_percent(isc_over_il: f64, bus_voltage_v: Option<f64>) -> Option<f64> {
+    current_row(isc_over_il, bus_voltage_v).map(|r| r[5])
 }
 
 /// The caption of the spectrum plot.
@@ -146,16 +202,21 @@ pub fn caption(a: &Analysis, options: &PlotOptions) -> String {
     );
     match options.isc_over_il {
         Some(r) => s.push_str(&format!(
-            " Current limit marks: IEEE 519-2014 for ISC/IL = {} (TDD {} %), in percent of the \
-             maximum demand load current IL; the bars are in percent of this capture's \
+            " Current limit marks: IEEE 519-2014 {} for ISC/IL = {} (TDD {} %), in percent of \
+             the maximum demand load current IL; the bars are in percent of this capture's \
              fundamental, the same only at maximum demand.",
+            current_table(options.bus_voltage_v).0,
             num(r, 4),
-            tdd_limit_percent(r).map(|t| num(t, 2)).unwrap_or_default(),
+            tdd_limit_percent(r, options.bus_voltage_v)
+                .map(|t| num(t, 2))
+                .unwrap_or_default(),
         )),
         None => s.push_str(
             " Current limits are not drawn: they need ISC/IL at the point of common coupling.",
         ),
     }
+    s.push(' ');
+    s.push_str(STATISTICS_NOTE);
     s
 }
 
@@ -198,7 +259,7 @@ pub fn plot(a: &Analysis, options: &PlotOptions) -> Result<String, PlotError> {
     let lim = voltage_limits(options.bus_voltage_v);
     let current_limits: Vec<(usize, f64)> = match options.isc_over_il {
         Some(r) => (2..=top_order)
-            .filter_map(|h| current_limit_percent(r, h).map(|l| (h, l)))
+            .filter_map(|h| current_limit_percent(r, h, options.bus_voltage_v).map(|l| (h, l)))
             .collect(),
         None => Vec::new(),
     };
@@ -227,6 +288,11 @@ pub fn plot(a: &Analysis, options: &PlotOptions) -> Result<String, PlotError> {
             title.clone(),
             (12, 8),
             font(TITLE_PX, palette::INK),
+        ))?;
+        head.draw(&Text::new(
+            PLOT_NOTE,
+            (12, 28),
+            font(TEXT_PX - 1.0, palette::MUTED),
         ))?;
         let thd = |t: Option<f64>| {
             t.map(|t| format!("{} %", num(t, 3)))
@@ -362,14 +428,37 @@ mod tests {
     #[test]
     fn current_limits_follow_the_table_and_even_orders_take_a_quarter() {
         // IEEE 519-2014 Table 2 (references §3)
-        assert_eq!(current_limit_percent(10.0, 5), Some(4.0));
-        assert_eq!(current_limit_percent(10.0, 4), Some(1.0));
-        assert_eq!(current_limit_percent(35.0, 13), Some(3.5));
-        assert_eq!(current_limit_percent(75.0, 19), Some(4.0));
-        assert_eq!(current_limit_percent(500.0, 25), Some(2.0));
-        assert_eq!(current_limit_percent(2000.0, 49), Some(1.4));
-        assert_eq!(current_limit_percent(2000.0, 51), None);
-        assert_eq!(current_limit_percent(-1.0, 5), None);
-        assert_eq!(tdd_limit_percent(150.0), Some(15.0));
+        assert_eq!(current_limit_percent(10.0, 5, None), Some(4.0));
+        assert_eq!(current_limit_percent(10.0, 4, None), Some(1.0));
+        assert_eq!(current_limit_percent(35.0, 13, None), Some(3.5));
+        assert_eq!(current_limit_percent(75.0, 19, None), Some(4.0));
+        assert_eq!(current_limit_percent(500.0, 25, None), Some(2.0));
+        assert_eq!(current_limit_percent(2000.0, 49, None), Some(1.4));
+        assert_eq!(current_limit_percent(2000.0, 51, None), None);
+        assert_eq!(current_limit_percent(-1.0, 5, None), None);
+        assert_eq!(tdd_limit_percent(150.0, None), Some(15.0));
+        // a 33 kV bus is still Table 2
+        assert_eq!(current_limit_percent(10.0, 5, Some(33_000.0)), Some(4.0));
+    }
+
+    /// IEEE 519-2014 Table 3 (69-161 kV) and Table 4 (> 161 kV), from memory, chosen by the bus
+    /// voltage: a 132 kV bus at ISC/IL 75 allows 5.0 % at h = 5 and TDD 6.0 %; a 400 kV bus at
+    /// ISC/IL 30 allows 2.0 % at h = 5, 0.5 % at h = 4 (a quarter), 0.15 % at h = 37, TDD 2.5 %.
+    #[test]
+    fn high_voltage_buses_take_tables_3_and_4() {
+        assert_eq!(current_limit_percent(75.0, 5, Some(132_000.0)), Some(5.0));
+        assert_eq!(tdd_limit_percent(75.0, Some(132_000.0)), Some(6.0));
+        assert_eq!(current_limit_percent(10.0, 13, Some(132_000.0)), Some(1.0));
+        assert_eq!(
+            current_limit_percent(2000.0, 19, Some(161_000.0)),
+            Some(3.0)
+        );
+        assert_eq!(current_limit_percent(30.0, 5, Some(400_000.0)), Some(2.0));
+        assert_eq!(current_limit_percent(30.0, 4, Some(400_000.0)), Some(0.5));
+        assert_eq!(current_limit_percent(30.0, 37, Some(400_000.0)), Some(0.15));
+        assert_eq!(tdd_limit_percent(30.0, Some(400_000.0)), Some(2.5));
+        assert_eq!(current_limit_percent(10.0, 5, Some(230_000.0)), Some(1.0));
+        assert_eq!(current_limit_percent(60.0, 11, Some(230_000.0)), Some(1.5));
+        assert!(current_table(Some(132_000.0)).0.starts_with("Table 3"));
     }
 }
