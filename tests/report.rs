@@ -192,7 +192,11 @@ fn the_spectrum_says_its_limits_are_for_statistics_and_picks_the_table_by_voltag
         "{}",
         spectrum.caption
     );
-    assert!(spectrum.caption.contains("TDD 6.0 %"), "{}", spectrum.caption);
+    assert!(
+        spectrum.caption.contains("TDD 6.0 %"),
+        "{}",
+        spectrum.caption
+    );
     assert_eq!(
         plot::spectrum::current_limit_percent(75.0, 5, hv.bus_voltage_v),
         Some(5.0)
