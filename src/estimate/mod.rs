@@ -283,17 +283,19 @@ pub fn estimate_at(
     // The two traces are independent until the angle: each gets its own thread.
     let (vd, id) = both(|| decimate(v, decimation), || decimate(i, decimation));
     let fsd = fs / decimation as f64;
-    let f = match known_hz {
-        Some(f) => f,
-        None => {
-            frequency::refine(
-                if source == Trace::Voltage { &vd } else { &id },
-                fsd,
-                coarse_hz,
-                order,
-            )
-            .hz
-        }
+    let refined = match known_hz {
+        Some(_) => None,
+        None => Some(frequency::refine(
+            if source == Trace::Voltage { &vd } else { &id },
+            fsd,
+            coarse_hz,
+            order,
+        )),
+    };
+    let f = match (known_hz, refined) {
+        (Some(f), _) => f,
+        (None, Some(r)) => r.hz,
+        (None, None) => coarse_hz,
     };
     let cycles = v.len() as f64 * f / fs;
     if !(cycles >= 2.0) {
@@ -394,8 +396,11 @@ pub fn estimate_at(
     let nd = vd.len() as f64;
     let eta = src.fundamental().norm_sqr() / src.residual_rms.powi(2).max(f64::MIN_POSITIVE);
     let crb_hz = (12.0 / ((2.0 * PI).powi(2) * eta * nd * (nd * nd - 1.0))).sqrt() * fsd;
-    let segment_phase_sigma = 1.0 / (eta * refined.segment_len.max(1) as f64).sqrt();
-    let sigma_f = refined.sigma_hz(segment_phase_sigma).max(crb_hz);
+    // With the frequency given (another phase's), the bound stands for what this record says.
+    let sigma_f = refined.map_or(crb_hz, |r| {
+        let segment_phase_sigma = 1.0 / (eta * r.segment_len.max(1) as f64).sqrt();
+        r.sigma_hz(segment_phase_sigma).max(crb_hz)
+    });
     Ok(Estimate {
         frequency_hz: f,
         frequency_sigma_hz: sigma_f,
