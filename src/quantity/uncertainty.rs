@@ -329,15 +329,17 @@ pub fn uncertainty(
     let spread = |get: fn(&WindowFigures) -> f64| sd_mean(wins.iter().map(get));
     // The degrees of freedom of a spread over the windows (GUM G.3.3): M − 1.
     let window_dof = Some(wins.len().saturating_sub(1) as f64);
-    // Type A: the window spread when there are enough windows; otherwise the noise propagated
-    // analytically (over thousands of samples: infinitely many degrees of freedom), or the rough
-    // spread of two or three windows if that is larger.
+    // Type A: the window spread when there are enough windows, with M − 1 degrees of freedom;
+    // otherwise the noise propagated analytically (from the fit over the whole record: infinitely
+    // many degrees of freedom), or the rough spread of two or three windows if that is larger, a
+    // guard on the model, not an estimate to weigh by its own degrees of freedom (taken at M − 1
+    // it made U four times the Monte Carlo spread of a 10.3-cycle record).
     let type_a = |get: fn(&WindowFigures) -> f64, noise: f64| -> Part {
         let s = spread(get);
-        if spread_ok || (wins.len() >= 2 && s > noise) {
+        if spread_ok {
             (s, window_dof)
         } else {
-            (noise, None)
+            (noise.max(if wins.len() >= 2 { s } else { 0.0 }), None)
         }
     };
     let b = |u: f64| -> Part { (u, None) };
