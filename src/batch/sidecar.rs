@@ -284,9 +284,7 @@ impl Layer {
             (Table::Top, "phase_error", Value::Number(x)) => self.phase_error = Some(x),
             (Table::Top, "skew_uncertainty", Value::Number(x)) => self.skew_uncertainty = Some(x),
             (Table::Top, "clock_ppm", Value::Number(x)) => self.clock_ppm = Some(x),
-            (Table::Top, "harmonic_accuracy", Value::Number(x)) => {
-                self.harmonic_accuracy = Some(x)
-            }
+            (Table::Top, "harmonic_accuracy", Value::Number(x)) => self.harmonic_accuracy = Some(x),
             (Table::Top, "adc_bits", Value::Whole(n)) => self.adc_bits = Some(n as u32),
             (Table::Top, "v_full_scale", Value::Number(x)) => self.v_full_scale = Some(x),
             (Table::Top, "i_full_scale", Value::Number(x)) => self.i_full_scale = Some(x),
