@@ -600,3 +600,30 @@ fn date_time_stamps_give_the_sample_interval() {
         "{e}"
     );
 }
+
+/// The report of a three-phase capture shows each phase's figures side by side, the system
+/// table with the wiring hint, and one phasor diagram of all three phases.
+#[test]
+fn the_report_shows_every_phase_and_the_system() {
+    let dir = TempDir::new().unwrap();
+    let mut cols = balanced(230.0, 10.0, 25.0);
+    cols[4].deg += 180.0; // Ib reversed
+    let path = write_csv(dir.path(), "db2.csv", &cols, 10.0, Some(70.0));
+    let out = dir.path().join("r.html");
+    let (code, _, err) = cli(&[
+        "report",
+        path.to_str().unwrap(),
+        "--output",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    let html = std::fs::read_to_string(&out).unwrap();
+    for want in [
+        "<th>phase a</th><th>phase b</th><th>phase c</th>",
+        "effective PF (P/Se)",
+        "the current channel &#39;Ib&#39; on phase b looks reversed",
+        "Fundamental phasors, three phases",
+    ] {
+        assert!(html.contains(want), "{want} missing");
+    }
+}

@@ -651,7 +651,10 @@ fn capture_section(
     if let Some(t) = &a.three_phase {
         row_table_frequency(h, a)?;
         three_phase::tables(h, a, t)?;
-        writeln!(h, "<p class=\"note\">The plots below show phase a.</p>")?;
+        writeln!(
+            h,
+            "<p class=\"note\">The phasor diagram shows the three phases; the other plots show phase a.</p>"
+        )?;
         return capture_tail(h, a, expectation, options);
     }
     writeln!(

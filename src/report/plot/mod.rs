@@ -18,6 +18,7 @@
 pub mod band;
 pub mod pf;
 pub mod phasor;
+pub mod phasor3;
 pub mod spectrum;
 pub mod triangle;
 pub mod waveform;
@@ -161,10 +162,18 @@ pub fn plots_with(
             caption: waveform::caption(a),
             svg: waveform::plot(a),
         },
-        Plot {
-            name: "phasor",
-            caption: phasor::caption(a, options),
-            svg: phasor::plot(a, options),
+        match &a.three_phase {
+            // three phases: every phase's V and I in one diagram
+            Some(t) => Plot {
+                name: "phasor",
+                caption: phasor3::caption(a),
+                svg: phasor3::plot(a, t),
+            },
+            None => Plot {
+                name: "phasor",
+                caption: phasor::caption(a, options),
+                svg: phasor::plot(a, options),
+            },
         },
         Plot {
             name: "spectrum",
