@@ -112,6 +112,56 @@ pub struct ThreePhaseAnalysis {
     pub wiring_hints: Vec<String>,
     /// For a 3-wire capture: the per-phase figures refer to the artificial star point.
     pub artificial_star: bool,
+    /// Expanded uncertainties (k = 2) of the system figures.
+    pub uncertainty: SystemUncertainty,
+}
+
+/// Expanded uncertainties (k = 2) of a three-phase capture's system figures, from the phases'
+/// budgets (our rule, stated in the README): the phases are measured by separate probes, so
+/// the U of a sum is the root sum of the phases' U squared; PFe = P/Se takes P's U and Se's,
+/// whose relative U is that of the phases' V and I taken as fully correlated (the mean relative
+/// U of each, the larger and so the safer choice). For a 3-wire capture the per-phase budgets
+/// share their line-to-line channels, so these are estimates.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct SystemUncertainty {
+    /// U of the total P, W.
+    pub active_w: f64,
+    /// U of the total Q (sum of the phases' Q1), var.
+    pub reactive_var: f64,
+    /// U of PFe = P/Se (`None` without a PFe).
+    pub effective_pf: Option<f64>,
+}
+
+impl SystemUncertainty {
+    fn new(phases: &[PhaseAnalysis], figures: &ThreePhase) -> Self {
+        let rss = |f: &dyn Fn(&PhaseAnalysis) -> f64| {
+            phases.iter().map(|p| f(p).powi(2)).sum::<f64>().sqrt()
+        };
+        let active_w = rss(&|p| p.uncertainty.power.active_w);
+        let reactive_var = rss(&|p| p.uncertainty.power.reactive_var);
+        let rel = |u: f64, x: f64| if x > 0.0 { u / x } else { 0.0 };
+        let n = phases.len().max(1) as f64;
+        let rel_v = phases
+            .iter()
+            .map(|p| rel(p.uncertainty.voltage.rms, p.quantities.voltage.rms))
+            .sum::<f64>()
+            / n;
+        let rel_i = phases
+            .iter()
+            .map(|p| rel(p.uncertainty.current.rms, p.quantities.current.rms))
+            .sum::<f64>()
+            / n;
+        let p = figures.total.active_w;
+        let effective_pf = figures.effective.pf.map(|pf| {
+            let rel_p = if p != 0.0 { active_w / p.abs() } else { 0.0 };
+            pf.abs() * rel_p.hypot(rel_v.hypot(rel_i))
+        });
+        SystemUncertainty {
+            active_w,
+            reactive_var,
+            effective_pf,
+        }
+    }
 }
 
 impl std::ops::Deref for Analysis {
@@ -482,6 +532,7 @@ fn three_phase_of(
     let i = figures3.map(|f| f.current);
     let names = [0, 1, 2].map(|k| phases[k].channels.current.name.clone());
     ThreePhaseAnalysis {
+        uncertainty: SystemUncertainty::new(phases, &figures),
         figures,
         wiring_hints: wiring::diagnose(&v, &i, &names),
         artificial_star: capture.system == System::ThreeWire,

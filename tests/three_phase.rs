@@ -265,6 +265,21 @@ fn per_phase_figures_meet_the_accuracy_goal_at_70_db() {
     let u2_true = s[2].norm() / s[1].norm() * 100.0;
     let u2 = t.figures.voltage_sequence.unbalance_percent.unwrap();
     assert!((u2 - u2_true).abs() < 0.05, "{u2} vs {u2_true}");
+    // the total's U is the root sum of the phases' (separate probes: GUM 5.1.2 with no
+    // correlation), and it covers the truth
+    let rss = a
+        .phases
+        .iter()
+        .map(|p| p.uncertainty.power.active_w.powi(2))
+        .sum::<f64>()
+        .sqrt();
+    assert!(rel(t.uncertainty.active_w, rss) < 1e-12);
+    let p_true: f64 = (0..3)
+        .map(|k| cols[k].rms * cols[k + 3].rms * (cols[k].deg - cols[k + 3].deg).to_radians().cos())
+        .sum();
+    assert!((t.figures.total.active_w - p_true).abs() <= t.uncertainty.active_w);
+    let pfe = t.figures.effective.pf.unwrap();
+    assert!(t.uncertainty.effective_pf.unwrap() > 0.0 && pfe > 0.0);
 }
 
 fn cli(args: &[&str]) -> (Option<i32>, String, String) {

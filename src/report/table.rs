@@ -222,9 +222,13 @@ fn system_block(out: &mut dyn Write, t: &ThreePhaseAnalysis) -> io::Result<()> {
     let f = &t.figures;
     writeln!(
         out,
-        "  total        P {} W | Q1 {} var | S arithmetic {} VA | S vector {} VA",
-        num(f.total.active_w, 6),
-        num(f.total.reactive_var, 6),
+        "  total        P {} | Q1 {} | S arithmetic {} VA | S vector {} VA",
+        pm(Some(f.total.active_w), Some(t.uncertainty.active_w), " W"),
+        pm(
+            Some(f.total.reactive_var),
+            Some(t.uncertainty.reactive_var),
+            " var"
+        ),
         num(f.total.arithmetic_apparent_va, 6),
         num(f.total.vector_apparent_va, 6),
     )?;
@@ -237,7 +241,7 @@ fn system_block(out: &mut dyn Write, t: &ThreePhaseAnalysis) -> io::Result<()> {
         num(e.apparent_va, 6),
         num(e.fundamental_apparent_va, 6),
         num(e.nonfundamental_apparent_va, 4),
-        e.pf.map_or_else(|| "n/a".into(), |pf| format!("{pf:.4}")),
+        pm(e.pf, t.uncertainty.effective_pf, ""),
     )?;
     let ps = &f.positive_sequence;
     writeln!(

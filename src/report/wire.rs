@@ -8,7 +8,7 @@
 //! Keys carry their unit (`_hz`, `_deg`, `_w`, `_var`, `_va`, `_percent`); a value that is not
 //! defined (no fundamental, so no angle) is `null`.
 
-use crate::analysis::{Analysis, PhaseAnalysis, Settings, ThreePhaseAnalysis};
+use crate::analysis::{Analysis, PhaseAnalysis, Settings, SystemUncertainty, ThreePhaseAnalysis};
 use crate::capture::{Channel, ChosenBy, System, UsedChannels};
 use crate::check::expected::Expected;
 use crate::quantity::power::Powers;
@@ -142,6 +142,8 @@ pub struct ThreePhaseRecord {
     pub rotation: Rotation,
     /// How our own channels seem to be connected, in plain words (empty when nothing is odd).
     pub wiring_hints: Vec<String>,
+    /// Expanded uncertainties (k = 2) of the total P and Q and of PFe.
+    pub system_uncertainty: SystemUncertainty,
 }
 
 /// Symmetrical components of voltages and currents.
@@ -303,6 +305,7 @@ impl ThreePhaseRecord {
             },
             rotation: f.rotation,
             wiring_hints: t.wiring_hints.clone(),
+            system_uncertainty: t.uncertainty,
         }
     }
 }

@@ -118,11 +118,15 @@ pub(super) fn tables(h: &mut String, a: &Analysis, t: &ThreePhaseAnalysis) -> st
     )?;
     row(
         h,
-        "total P · Q1 (sum of the phases)",
+        "total P · Q1 (sum of the phases), ± U (k = 2)",
         &format!(
-            "{} W · {} var",
-            num(f.total.active_w, 6),
-            num(f.total.reactive_var, 6)
+            "{} · {}",
+            pm(Some(f.total.active_w), Some(t.uncertainty.active_w), " W"),
+            pm(
+                Some(f.total.reactive_var),
+                Some(t.uncertainty.reactive_var),
+                " var"
+            )
         ),
     )?;
     row(
@@ -152,8 +156,8 @@ pub(super) fn tables(h: &mut String, a: &Analysis, t: &ThreePhaseAnalysis) -> st
     )?;
     row(
         h,
-        "effective PF (P/Se)",
-        &e.pf.map_or_else(|| "n/a".into(), |pf| format!("{pf:.4}")),
+        "effective PF (P/Se), ± U (k = 2)",
+        &pm(e.pf, t.uncertainty.effective_pf, ""),
     )?;
     let ps = &f.positive_sequence;
     row(
