@@ -5,8 +5,9 @@
 # Usage: benches/end_to_end.sh [RUNS]        (run by hand from any directory; not run by CI)
 # Needs: cargo, python3 (with venv and pip; PyPI reachable the first time). Uses hyperfine for
 # timing when it is installed, else a timing loop.
-# Environment: ROWS (default 2000000), RATE_HZ (default 1000000), STYLE (fixed or sci),
-# SKIP_PANDAS=1 to leave out the reference script.
+# Environment: ROWS (default 2000000), RATE_HZ (default 1000000), STYLE (fixed, sci, or
+# three-phase: a 7-column time,Va,Vb,Vc,Ia,Ib,Ic file, e.g. ROWS=1000000 RATE_HZ=10000, without
+# the pandas reference), SKIP_PANDAS=1 to leave out the reference script.
 set -euo pipefail
 
 cd "$(dirname "$0")/.."
@@ -17,8 +18,13 @@ STYLE=${STYLE:-fixed}
 DATA_DIR=target/bench-data
 FILE=$DATA_DIR/bench-${ROWS}-${RATE_HZ}-${STYLE}.csv
 VENV=target/bench-venv
-# Peak-memory limit: 2.5 x the f64 size of the two channels.
-LIMIT_BYTES=$((ROWS * 2 * 8 * 5 / 2))
+# Peak-memory limit: 2.5 x the f64 size of the channels (two, or six for three phases).
+CHANNELS=2
+if [ "$STYLE" = three-phase ]; then
+    CHANNELS=6
+    SKIP_PANDAS=1
+fi
+LIMIT_BYTES=$((ROWS * CHANNELS * 8 * 5 / 2))
 
 echo "== build"
 cargo build --release --quiet --bin tracephase --example make-bench-csv

@@ -2,7 +2,7 @@
 //!
 //! Usage: `cargo run --release --example make-bench-csv -- OUT.csv [ROWS] [RATE_HZ] [STYLE]`
 //! (defaults: 2,000,000 rows at 1 MHz, that is 100 cycles of 50 Hz, style `fixed`; `sci` writes
-//! scientific notation).
+//! scientific notation, `three-phase` a 7-column 3-phase 4-wire capture in fixed point).
 
 #[path = "bench_csv.rs"]
 mod bench_csv;
@@ -14,7 +14,7 @@ use std::process::ExitCode;
 fn main() -> ExitCode {
     let args: Vec<String> = std::env::args().skip(1).collect();
     let Some(out) = args.first() else {
-        eprintln!("usage: make-bench-csv OUT.csv [ROWS] [RATE_HZ] [fixed|sci]");
+        eprintln!("usage: make-bench-csv OUT.csv [ROWS] [RATE_HZ] [fixed|sci|three-phase]");
         return ExitCode::from(2);
     };
     let rows: usize = match args.get(1).map(|s| s.parse()) {
@@ -36,8 +36,9 @@ fn main() -> ExitCode {
     let style = match args.get(3).map(String::as_str) {
         None | Some("fixed") => Style::Fixed,
         Some("sci") => Style::Sci,
+        Some("three-phase") => Style::ThreePhase,
         Some(other) => {
-            eprintln!("make-bench-csv: unknown style '{other}' (fixed or sci)");
+            eprintln!("make-bench-csv: unknown style '{other}' (fixed, sci or three-phase)");
             return ExitCode::from(2);
         }
     };
