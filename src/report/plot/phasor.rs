@@ -130,14 +130,15 @@ fn magnification(arrows: &[HarmonicArrow]) -> f64 {
         .unwrap_or(1.0)
 }
 
-type Chart<'a, 'b> = ChartContext<
+/// The phasor plots' chart: plot units on both axes.
+pub(super) type Chart<'a, 'b> = ChartContext<
     'a,
     SVGBackend<'b>,
     Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
 >;
 
 /// An arrow from the origin to `tip` with a filled head.
-fn arrow(
+pub(super) fn arrow(
     chart: &mut Chart,
     tip: (f64, f64),
     colour: RGBColor,

@@ -6,6 +6,7 @@
 //! line current, each to its own quantity's scale. A healthy abc supply shows Vb 120° behind Va
 //! (below) and Vc 120° ahead; each current sits its phase angle behind its own voltage.
 
+use super::phasor::{Chart, arrow};
 use super::{PlotError, Swatch, TEXT_PX, TITLE_PX, font, font_at, legend, palette, svg_document};
 use crate::analysis::{Analysis, ThreePhaseAnalysis, phase_letter};
 use crate::report::table::num;
@@ -101,7 +102,7 @@ pub fn plot(a: &Analysis, t: &ThreePhaseAnalysis) -> Result<String, PlotError> {
             palette::GRID.stroke_width(2),
         )))?;
         let draw = |chart: &mut _, tip: Complex64, colour: RGBColor, label: String| {
-            draw_arrow(chart, (tip.re, tip.im), colour)?;
+            arrow(chart, (tip.re, tip.im), colour, 3)?;
             let r = tip.norm().max(1e-9);
             let at = (tip.re + 0.09 * tip.re / r, tip.im + 0.09 * tip.im / r);
             chart_text(chart, label, at, colour)
@@ -129,12 +130,6 @@ pub fn plot(a: &Analysis, t: &ThreePhaseAnalysis) -> Result<String, PlotError> {
     })
 }
 
-type Chart<'a, 'b> = ChartContext<
-    'a,
-    SVGBackend<'b>,
-    Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
->;
-
 fn chart_text(
     chart: &mut Chart,
     label: String,
@@ -150,30 +145,6 @@ fn chart_text(
             if at.0 >= 0.0 { HPos::Left } else { HPos::Right },
             VPos::Center,
         ),
-    )))?;
-    Ok(())
-}
-
-fn draw_arrow(chart: &mut Chart, tip: (f64, f64), colour: RGBColor) -> Result<(), PlotError> {
-    let len = tip.0.hypot(tip.1);
-    if !(len > 0.0 && len.is_finite()) {
-        return Ok(());
-    }
-    let (ux, uy) = (tip.0 / len, tip.1 / len);
-    let head = (0.08f64).min(0.45 * len);
-    let half = head * 0.45;
-    let base = (tip.0 - ux * head, tip.1 - uy * head);
-    chart.draw_series(std::iter::once(PathElement::new(
-        vec![(0.0, 0.0), base],
-        colour.stroke_width(3),
-    )))?;
-    chart.draw_series(std::iter::once(Polygon::new(
-        vec![
-            tip,
-            (base.0 - uy * half, base.1 + ux * half),
-            (base.0 + uy * half, base.1 - ux * half),
-        ],
-        colour.filled(),
     )))?;
     Ok(())
 }
