@@ -14,6 +14,7 @@ use crate::quantity::three_phase::{PhaseFigures, ThreePhase, ThreePhaseInput, Wi
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
 use crate::quantity::{self, Quantities, QuantitySettings};
 use crate::warning::{Severity, Status, Trace, Warning};
+use rustfft::num_complex::Complex64;
 use std::path::PathBuf;
 
 /// Default highest harmonic order reported (IEEE 519-2014 counts to the 50th).
@@ -366,7 +367,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             preview,
         });
     }
-    let three_phase = many.then(|| three_phase_of(&capture, &samples, &phases));
+    let three_phase = many.then(|| three_phase_of(&capture, &samples, &phases, settings.skew_s));
     // the PF finding: of the system when there is one, else of the phase
     let pf = match &three_phase {
         Some(t) => t.figures.effective.pf,
@@ -471,6 +472,7 @@ fn three_phase_of(
     capture: &Capture,
     samples: &[condition::PhaseSamples<'_>],
     phases: &[PhaseAnalysis],
+    skew_s: f64,
 ) -> ThreePhaseAnalysis {
     let wiring = if capture.system == System::ThreeWire {
         Wiring::ThreeWire
@@ -506,20 +508,25 @@ fn three_phase_of(
         &samples[2].voltage,
     );
     let line_rms = [rms_diff(va, vb), rms_diff(vb, vc), rms_diff(vc, va)];
-    // a measured neutral: its own true RMS and fundamental, fitted at the phases' frequency
+    // a measured neutral: its own true RMS and fundamental phasor, fitted at the phases'
+    // frequency with the current channels' skew removed as theirs is
+    let f1 = phases[0].quantities.frequency_hz;
+    let mut neutral_phasor = None;
     let neutral = capture.neutral.as_ref().map(|n| {
         let rms = (n.samples[..span].iter().map(|x| x * x).sum::<f64>() / span as f64).sqrt();
-        let fundamental = estimate::estimate_at(
+        let turn = Complex64::from_polar(1.0, 2.0 * std::f64::consts::PI * f1 * skew_s);
+        neutral_phasor = estimate::estimate_at(
             &samples[0].voltage,
             &n.samples,
             capture.sample_rate_hz,
             phases[0].estimate.order,
-            Some(phases[0].quantities.frequency_hz),
+            Some(f1),
         )
-        .map_or(rms, |e| e.current.fundamental().norm());
+        .ok()
+        .map(|e| e.current.fundamental() * turn);
         RmsParts {
             total: rms,
-            fundamental,
+            fundamental: neutral_phasor.map_or(rms, |x| x.norm()),
         }
     });
     let figures = ThreePhase::new(&ThreePhaseInput {
@@ -531,10 +538,14 @@ fn three_phase_of(
     let v = figures3.map(|f| f.voltage);
     let i = figures3.map(|f| f.current);
     let names = [0, 1, 2].map(|k| phases[k].channels.current.name.clone());
+    let mut wiring_hints = wiring::diagnose(&v, &i, &names);
+    if let (Some(n), Some(channel)) = (neutral_phasor, capture.neutral.as_ref()) {
+        wiring_hints.extend(wiring::neutral_hint(&i, n, &channel.channel.name));
+    }
     ThreePhaseAnalysis {
         uncertainty: SystemUncertainty::new(phases, &figures),
         figures,
-        wiring_hints: wiring::diagnose(&v, &i, &names),
+        wiring_hints,
         artificial_star: capture.system == System::ThreeWire,
     }
 }

@@ -642,3 +642,55 @@ fn the_report_shows_every_phase_and_the_system() {
         assert!(html.contains(want), "{want} missing");
     }
 }
+
+/// A measured neutral carries the phasor sum of the line currents (Kirchhoff's current law,
+/// textbook); a capture whose line clamp on phase b is reversed disagrees with its own neutral,
+/// and the hint names the phase that, turned round, makes them agree. A healthy capture with
+/// the same neutral gets no such hint.
+#[test]
+fn a_measured_neutral_confirms_which_clamp_is_reversed() {
+    let dir = TempDir::new().unwrap();
+    let lines = [(12.0, -18.0), (9.0, -155.0), (15.0, 115.0)];
+    let sum: rustfft::num_complex::Complex64 = lines
+        .iter()
+        .map(|&(r, d): &(f64, f64)| rustfft::num_complex::Complex64::from_polar(r, d.to_radians()))
+        .sum();
+    let neutral_deg = sum.arg().to_degrees();
+    let set = |ib_deg: f64| {
+        vec![
+            col("Va", 231.0, 0.0),
+            col("Vb", 228.0, -119.0),
+            col("Vc", 233.0, 121.5),
+            col("Ia", lines[0].0, lines[0].1),
+            col("Ib", lines[1].0, ib_deg),
+            col("Ic", lines[2].0, lines[2].1),
+            col("In", sum.norm(), neutral_deg),
+        ]
+    };
+    let healthy = write_csv(
+        dir.path(),
+        "healthy.csv",
+        &set(lines[1].1),
+        10.0,
+        Some(70.0),
+    );
+    let a = load_and_analyze(&healthy, &LoadOptions::default());
+    let hints = &a.three_phase.as_ref().unwrap().wiring_hints;
+    assert!(hints.iter().all(|h| !h.contains("neutral")), "{hints:?}");
+    let reversed = write_csv(
+        dir.path(),
+        "reversed.csv",
+        &set(lines[1].1 + 180.0),
+        10.0,
+        Some(70.0),
+    );
+    let a = load_and_analyze(&reversed, &LoadOptions::default());
+    let hints = &a.three_phase.as_ref().unwrap().wiring_hints;
+    assert!(
+        hints
+            .iter()
+            .any(|h| h.contains("measured neutral 'In'")
+                && h.contains("phase b's current turned round")),
+        "{hints:?}"
+    );
+}

@@ -281,6 +281,38 @@ pub fn diagnose(v: &[Complex64; 3], i: &[Complex64; 3], names: &[String; 3]) -> 
     hints
 }
 
+/// A measured neutral current checked against the line currents (Kirchhoff: in a 4-wire
+/// system the neutral carries the phasor sum of the three line currents): when they disagree by
+/// more than 10 % of the largest line current (our rule: well above a clamp's ratio and phase
+/// errors), one of our current channels is reversed or on another phase, or the neutral clamp
+/// is; the hint says which line channel, turned round, makes them agree, when one does.
+pub fn neutral_hint(i: &[Complex64; 3], neutral: Complex64, neutral_name: &str) -> Option<String> {
+    let largest = i.iter().map(|x| x.norm()).fold(0.0, f64::max);
+    let sum = i[0] + i[1] + i[2];
+    let gap = (sum - neutral).norm();
+    if !(largest > 0.0) || gap <= 0.1 * largest {
+        return None;
+    }
+    let turned = (0..3).find(|&k| (sum - 2.0 * i[k] - neutral).norm() <= 0.1 * largest);
+    let mut hint = format!(
+        "the measured neutral '{neutral_name}' ({:.3} A) does not match the sum of the line \
+         currents ({:.3} A)",
+        neutral.norm(),
+        sum.norm()
+    );
+    match turned {
+        Some(k) => hint.push_str(&format!(
+            ": with phase {}'s current turned round they agree, so that channel is reversed \
+             (or the neutral's clamp and two others are)",
+            PHASES[k]
+        )),
+        None => hint.push_str(
+            ": a line current channel is reversed or on another phase, or the neutral's clamp is",
+        ),
+    }
+    Some(hint)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -396,5 +428,21 @@ mod tests {
         let hints = diagnose(&v, &i, &names);
         assert_eq!(hints.len(), 1, "{hints:?}");
         assert!(hints[0].contains("reverse sequence (acb)"));
+    }
+
+    #[test]
+    fn a_measured_neutral_that_disagrees_with_the_line_currents_names_the_reversed_one() {
+        // Kirchhoff's current law (textbook): the neutral carries Ia + Ib + Ic
+        let (_, i) = balanced(230.0, 10.0, 25.0);
+        let unbalanced = [i[0], i[1] * 0.6, i[2] * 1.3];
+        let true_neutral = unbalanced[0] + unbalanced[1] + unbalanced[2];
+        assert_eq!(neutral_hint(&unbalanced, true_neutral, "In"), None);
+        let mut captured = unbalanced;
+        captured[2] = -captured[2];
+        let hint = neutral_hint(&captured, true_neutral, "In").unwrap();
+        assert!(
+            hint.contains("with phase c's current turned round"),
+            "{hint}"
+        );
     }
 }
