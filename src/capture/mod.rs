@@ -191,6 +191,17 @@ pub struct Trace {
 }
 
 impl Trace {
+    /// The same trace without its samples (to fill with others).
+    fn clone_without_samples(&self) -> Trace {
+        Trace {
+            channel: self.channel.clone(),
+            chosen_by: self.chosen_by,
+            place: self.place,
+            samples: Vec::new(),
+            full_scale: self.full_scale,
+        }
+    }
+
     /// A trace of a channel nothing is known about (synthetic captures, tests).
     pub fn plain(name: &str, column: usize, samples: Vec<f64>) -> Self {
         Trace {
@@ -277,6 +288,32 @@ pub struct Capture {
     pub time: Option<Channel>,
     /// Doubts found while loading (uneven time base, rate mismatch).
     pub warnings: Vec<Warning>,
+    /// The part of the record these traces are, when not the whole of it ([`Capture::span`]).
+    pub span: Option<Span>,
+}
+
+/// A part of a record: samples `first .. first + len` of the traces as loaded.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Span {
+    /// Index of the first sample kept, counted from the record's first sample.
+    pub first: usize,
+    /// Number of samples kept.
+    pub len: usize,
+    /// Number of samples in the whole record.
+    pub of: usize,
+}
+
+impl Span {
+    /// Start of the span, seconds after the record's first sample.
+    pub fn start_s(&self, sample_rate_hz: f64) -> f64 {
+        self.first as f64 / sample_rate_hz
+    }
+
+    /// End of the span (one sample interval after its last sample), seconds after the record's
+    /// first sample.
+    pub fn end_s(&self, sample_rate_hz: f64) -> f64 {
+        (self.first + self.len) as f64 / sample_rate_hz
+    }
 }
 
 impl Capture {
@@ -314,6 +351,40 @@ impl Capture {
             skew_s: head.skew_s,
             time: head.time,
             warnings,
+            span: None,
+        }
+    }
+
+    /// The samples `range` of every trace (indices into this capture), as a capture of its own
+    /// whose [`Capture::span`] places it in the whole record. Copies the samples; a range past
+    /// the end is cut to the end.
+    pub fn span(&self, range: std::ops::Range<usize>) -> Capture {
+        let end = range.end.min(self.len());
+        let start = range.start.min(end);
+        let cut = |t: &Trace| Trace {
+            samples: t.samples[start..end].to_vec(),
+            ..t.clone_without_samples()
+        };
+        let (base, of) = match self.span {
+            Some(s) => (s.first, s.of),
+            None => (0, self.len()),
+        };
+        Capture {
+            path: self.path.clone(),
+            format: self.format.clone(),
+            sample_rate_hz: self.sample_rate_hz,
+            system: self.system,
+            voltages: self.voltages.iter().map(cut).collect(),
+            currents: self.currents.iter().map(cut).collect(),
+            neutral: self.neutral.as_ref().map(cut),
+            skew_s: self.skew_s,
+            time: self.time.clone(),
+            warnings: self.warnings.clone(),
+            span: Some(Span {
+                first: base + start,
+                len: end - start,
+                of,
+            }),
         }
     }
 
@@ -439,6 +510,35 @@ pub fn base_name(name: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_span_of_a_span_is_placed_in_the_whole_record() {
+        let samples: Vec<f64> = (0..100).map(f64::from).collect();
+        let capture = Capture {
+            path: PathBuf::from("x.csv"),
+            format: SourceFormat::Csv {
+                delimiter: b',',
+                decimal_comma: false,
+            },
+            sample_rate_hz: 10.0,
+            system: System::Single,
+            voltages: vec![Trace::plain("v", 1, samples.clone())],
+            currents: vec![Trace::plain("i", 2, samples)],
+            neutral: None,
+            skew_s: 0.0,
+            time: None,
+            warnings: Vec::new(),
+            span: None,
+        };
+        let outer = capture.span(10..90);
+        let inner = outer.span(5..200);
+        assert_eq!(inner.voltage().samples.first(), Some(&15.0));
+        assert_eq!(inner.current().samples.last(), Some(&89.0));
+        let span = inner.span.unwrap();
+        assert_eq!((span.first, span.len, span.of), (15, 75, 100));
+        assert_eq!(span.start_s(10.0), 1.5);
+        assert_eq!(span.end_s(10.0), 9.0);
+    }
 
     #[test]
     fn units_in_header_names_are_ignored() {

@@ -439,6 +439,7 @@ pub fn analysis_columns() -> Vec<String> {
             time: None,
             skew_s: 0.0,
             warnings: Vec::new(),
+            span: None,
         };
         match crate::analysis::analyze(capture, &crate::analysis::Settings::default()) {
             Ok(a) => serde_json::to_value(AnalysisRecord::from(&a))
