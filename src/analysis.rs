@@ -1,6 +1,8 @@
 //! The analysis pipeline for one capture: condition -> estimate -> quantities.
 
-use crate::capture::{Capture, Phase, Place, SourceFormat, System, UsedChannels};
+use crate::capture::{
+    Capture, Phase, Place, RecordTimes, SourceFormat, Span, System, UsedChannels,
+};
 use crate::check::bank::BankSide;
 use crate::check::circuit::Circuit;
 use crate::check::expected::{self, Expectation, Expected};
@@ -70,6 +72,10 @@ pub struct Analysis {
     pub sample_rate_hz: f64,
     /// Samples per trace.
     pub samples: usize,
+    /// The part of the record analysed (the whole of it unless a span was chosen).
+    pub span: Span,
+    /// The start and trigger date-times the file states (COMTRADE).
+    pub times: Option<RecordTimes>,
     /// The connection.
     pub system: System,
     /// Settings used.
@@ -214,12 +220,15 @@ impl Preview {
     }
 }
 
-/// A capture that loaded but could not be analysed.
+/// A capture that loaded but could not be analysed. Displays as `file: why`, or for a chosen
+/// span `file: in the span 0 s to 0.03 s: why`.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
-#[error("{}: {source}", .path.display())]
+#[error("{}: {}{source}", .path.display(), .span.map(|(a, b)| format!("in the span {a} s to {b} s: ")).unwrap_or_default())]
 pub struct AnalysisError {
     /// The file.
     pub path: PathBuf,
+    /// The span analysed, seconds after the record's first sample, when not the whole record.
+    pub span: Option<(f64, f64)>,
     /// Why.
     pub source: EstimateError,
 }
@@ -253,13 +262,15 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         ..*settings
     };
     condition::scale(&mut capture, settings.v_scale, settings.i_scale);
+    let rate = capture.sample_rate_hz;
+    let span = capture.span.unwrap_or(Span::whole(capture.len()));
     let fail = |source| AnalysisError {
         path: capture.path.clone(),
+        span: (!span.is_whole()).then(|| (span.start_s(rate), span.end_s(rate))),
         source,
     };
     let mut warnings = std::mem::take(&mut capture.warnings);
     let many = capture.system.is_three_phase();
-    let rate = capture.sample_rate_hz;
     let samples = condition::per_phase(&capture);
     // the first phase finds the frequency; the others are fitted at it, so every phasor refers
     // to the same instant and the same frequency
@@ -384,6 +395,8 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
     drop(samples);
     Ok(Analysis {
         samples: capture.len(),
+        span,
+        times: capture.times,
         path: capture.path,
         format: capture.format,
         sample_rate_hz: capture.sample_rate_hz,

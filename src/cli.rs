@@ -1,7 +1,7 @@
 //! What the user typed: clap types only. [`crate::app`] turns them into resolved settings; the
 //! rest of the library never sees clap.
 
-use crate::capture::System;
+use crate::capture::{System, TimeZero};
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
 
@@ -413,6 +413,9 @@ pub struct OverrideArgs {
     /// How part values are drawn within their tolerance [default: uniform].
     #[arg(long, value_enum)]
     pub distribution: Option<DistributionArg>,
+    /// The part of each record to analyse.
+    #[command(flatten)]
+    pub span: SpanArgs,
 }
 
 /// Arguments of `report`.
@@ -505,6 +508,32 @@ pub enum DistributionArg {
     Normal,
 }
 
+fn parse_time_zero(text: &str) -> Result<TimeZero, String> {
+    TimeZero::parse(text).ok_or_else(|| {
+        format!("'{text}' is not a time zero: use start (the first sample) or trigger")
+    })
+}
+
+/// Which part of a record to analyse: `--from`/`--to` in seconds, counted from the record's
+/// first sample or from a COMTRADE record's trigger (`--time-zero`). Flattened into every
+/// command that analyses a capture.
+#[derive(Debug, Args, Clone, Default)]
+#[command(next_help_heading = "Span of the record")]
+pub struct SpanArgs {
+    /// Analyse from this time on, seconds after time zero (see --time-zero; negative: before
+    /// the trigger) [default: the first sample].
+    #[arg(long, value_name = "SECONDS", allow_negative_numbers = true)]
+    pub from: Option<f64>,
+    /// Analyse up to this time, seconds after time zero; the sample at it is left out
+    /// [default: the end of the record].
+    #[arg(long, value_name = "SECONDS", allow_negative_numbers = true)]
+    pub to: Option<f64>,
+    /// Where --from and --to count from: start (the record's first sample) or trigger (the
+    /// trigger time a COMTRADE record states) [default: start].
+    #[arg(long, value_name = "ZERO", value_parser = parse_time_zero)]
+    pub time_zero: Option<TimeZero>,
+}
+
 fn parse_system(text: &str) -> Result<System, String> {
     System::parse(text)
         .ok_or_else(|| format!("'{text}' is not a system: use single, 4-wire or 3-wire"))
@@ -574,6 +603,9 @@ pub struct ChannelArgs {
         allow_negative_numbers = true
     )]
     pub skew: f64,
+    /// The part of the record to analyse.
+    #[command(flatten)]
+    pub span: SpanArgs,
 }
 
 /// Instrument limits behind the Type B uncertainty components (each a ± limit).
@@ -611,7 +643,7 @@ pub struct UncertaintyArgs {
 }
 
 /// Options whose value may be a negative number in exponent form.
-const SIGNED_OPTIONS: &[&str] = &["--skew", "--v-scale", "--i-scale"];
+const SIGNED_OPTIONS: &[&str] = &["--skew", "--v-scale", "--i-scale", "--from", "--to"];
 
 /// Joins `--skew -5e-5` into `--skew=-5e-5`: clap reads a negative number with an exponent as
 /// short flags, so such values are attached to their option before parsing.

@@ -2,98 +2,15 @@
 //! and read back to the same figures as a CSV of the same samples; scaling, skew, missing data,
 //! and files that lie or are cut short.
 
+mod common;
+
 use assert_cmd::Command;
+use common::comtrade::{Chan, Fmt, write_record};
 use proptest::prelude::*;
 use serde_json::Value;
 use std::f64::consts::PI;
 use std::path::{Path, PathBuf};
 use tempfile::TempDir;
-
-/// One analog channel of a record to write.
-struct Chan {
-    id: &'static str,
-    ph: &'static str,
-    units: &'static str,
-    a: f64,
-    b: f64,
-    skew_us: f64,
-    ratio: (f64, f64, char),
-    raw: Vec<f64>,
-}
-
-#[derive(Clone, Copy, PartialEq, Debug)]
-enum Fmt {
-    Ascii,
-    Binary,
-    Binary32,
-    Float32,
-}
-
-impl Fmt {
-    fn name(self) -> &'static str {
-        match self {
-            Fmt::Ascii => "ASCII",
-            Fmt::Binary => "BINARY",
-            Fmt::Binary32 => "BINARY32",
-            Fmt::Float32 => "FLOAT32",
-        }
-    }
-}
-
-/// Writes `name.cfg` and `name.dat` (1999 revision, one rate) and returns the cfg's path.
-fn write_record(dir: &Path, name: &str, chans: &[Chan], rate: f64, fmt: Fmt) -> PathBuf {
-    let n = chans[0].raw.len();
-    let mut cfg = format!(
-        "Test bench recorder,unit 1,1999\n{},{}A,0D\n",
-        chans.len(),
-        chans.len()
-    );
-    for (k, c) in chans.iter().enumerate() {
-        cfg.push_str(&format!(
-            "{},{},{},bench,{},{},{},{},-2147483647,2147483647,{},{},{}\n",
-            k + 1,
-            c.id,
-            c.ph,
-            c.units,
-            c.a,
-            c.b,
-            c.skew_us,
-            c.ratio.0,
-            c.ratio.1,
-            c.ratio.2
-        ));
-    }
-    cfg.push_str(&format!(
-        "50\n1\n{rate},{n}\n02/12/2026,08:00:00.000000\n02/12/2026,08:00:00.100000\n{}\n1\n",
-        fmt.name()
-    ));
-    let cfg_path = dir.join(format!("{name}.cfg"));
-    std::fs::write(&cfg_path, cfg).unwrap();
-    let step_us = 1e6 / rate;
-    let mut dat = Vec::new();
-    for s in 0..n {
-        let stamp = (s as f64 * step_us).round() as u32;
-        match fmt {
-            Fmt::Ascii => {
-                let vals: Vec<String> = chans.iter().map(|c| format!("{}", c.raw[s])).collect();
-                dat.extend(format!("{},{},{}\n", s + 1, stamp, vals.join(",")).bytes());
-            }
-            _ => {
-                dat.extend((s as u32 + 1).to_le_bytes());
-                dat.extend(stamp.to_le_bytes());
-                for c in chans {
-                    match fmt {
-                        Fmt::Binary => dat.extend((c.raw[s] as i16).to_le_bytes()),
-                        Fmt::Binary32 => dat.extend((c.raw[s] as i32).to_le_bytes()),
-                        _ => dat.extend((c.raw[s] as f32).to_le_bytes()),
-                    }
-                }
-            }
-        }
-    }
-    std::fs::write(dir.join(format!("{name}.dat")), dat).unwrap();
-    cfg_path
-}
 
 const RATE: f64 = 4000.0;
 const N: usize = 800; // 10 cycles of 50 Hz

@@ -7,13 +7,13 @@ pub mod meter;
 pub mod shell;
 
 use crate::analysis::{self, Settings};
-use crate::capture::{self, ChannelSel, LoadOptions};
+use crate::capture::{self, ChannelSel, LoadOptions, SpanRequest};
 use crate::check::circuit::Circuit;
 use crate::check::expected::expectation;
 use crate::check::tolerance::{Distribution, MAX_DRAWS, MonteCarloConfig};
 use crate::cli::{
     AnalyzeArgs, ChannelArgs, Cli, Command, DistributionArg, ExpectArgs, FormatArg, MonteCarloArgs,
-    PccArgs, UncertaintyArgs,
+    PccArgs, SpanArgs, UncertaintyArgs,
 };
 use crate::quantity::uncertainty::{Adc, UncertaintyInputs};
 use crate::report::plot::PlotOptions;
@@ -116,6 +116,7 @@ pub fn resolve_channels(
             rate_hz: c.rate,
             force_channels: c.force_channels,
             secondary_values: c.secondary,
+            span: resolve_span(&c.span)?,
         },
         Settings {
             v_scale: finite_nonzero(c.v_scale, "--v-scale")?,
@@ -126,6 +127,12 @@ pub fn resolve_channels(
             pf_threshold: analysis::DEFAULT_PF_THRESHOLD,
         },
     ))
+}
+
+/// Checks `--from`, `--to` and `--time-zero` on their own (finite, from before to); whether
+/// the span lies in a record is checked with each file.
+pub fn resolve_span(s: &SpanArgs) -> Result<Option<SpanRequest>, ConfigError> {
+    SpanRequest::new(s.from, s.to, s.time_zero.unwrap_or_default()).map_err(ConfigError)
 }
 
 /// Checks the point-of-common-coupling data and turns it into plot options.

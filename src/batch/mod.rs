@@ -15,7 +15,7 @@ pub mod summary;
 pub mod walk;
 
 use crate::analysis::{self, Settings};
-use crate::capture::{self, ChannelSel, LoadOptions};
+use crate::capture::{self, ChannelSel, LoadOptions, SpanRequest, TimeZero};
 use crate::check::bank::{self, BankReport, BankVerdict, KeyNames, Nameplate, NameplateFile};
 use crate::check::circuit::Circuit;
 use crate::check::expected::Expectation;
@@ -266,6 +266,12 @@ fn resolve(l: &Layer, capture: &Path, files: &mut FileCache) -> Result<Setup, St
     if !skew_s.is_finite() {
         return Err("skew must be a finite number of seconds".into());
     }
+    let zero = match l.time_zero.as_deref() {
+        None => TimeZero::Start,
+        Some(t) => TimeZero::parse(t)
+            .ok_or_else(|| format!("time_zero must be \"start\" or \"trigger\", not \"{t}\""))?,
+    };
+    let span = SpanRequest::new(l.from, l.to, zero)?;
     let harmonics = l.harmonics.unwrap_or(d.harmonics);
     if harmonics == 0 {
         return Err("harmonics must be at least 1".into());
@@ -412,6 +418,7 @@ fn resolve(l: &Layer, capture: &Path, files: &mut FileCache) -> Result<Setup, St
             rate_hz,
             force_channels: l.force_channels.unwrap_or(false),
             secondary_values: l.secondary.unwrap_or(false),
+            span,
         },
         settings,
         expect,

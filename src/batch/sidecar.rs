@@ -19,6 +19,9 @@
 //! v_scale = 100                # volts per unit
 //! i_scale = 10                 # amperes per unit
 //! skew = 2e-6
+//! from = 0                     # the span analysed, seconds (here the first 0.1 s)
+//! to = 0.1
+//! time_zero = "start"          # or "trigger": a COMTRADE record's trigger time
 //! harmonics = 50
 //! pf_threshold = 0.9
 //! expect = "rlc.toml"          # circuit model, relative to this file
@@ -88,6 +91,15 @@ pub struct Layer {
     /// Current-channel delay, seconds.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub skew: Option<f64>,
+    /// Start of the span analysed, seconds after time zero.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub from: Option<f64>,
+    /// End of the span analysed, seconds after time zero.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub to: Option<f64>,
+    /// Where `from` and `to` count from (`start`, `trigger`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_zero: Option<String>,
     /// Highest harmonic order.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub harmonics: Option<usize>,
@@ -214,6 +226,9 @@ impl Layer {
             v_scale,
             i_scale,
             skew,
+            from,
+            to,
+            time_zero,
             harmonics
         );
         take!(self, over, pf_threshold, expect, draws, seed, distribution);
@@ -273,6 +288,9 @@ impl Layer {
             (Table::Top, "v_scale", Value::Number(x)) => self.v_scale = Some(x),
             (Table::Top, "i_scale", Value::Number(x)) => self.i_scale = Some(x),
             (Table::Top, "skew", Value::Number(x)) => self.skew = Some(x),
+            (Table::Top, "from", Value::Number(x)) => self.from = Some(x),
+            (Table::Top, "to", Value::Number(x)) => self.to = Some(x),
+            (Table::Top, "time_zero", Value::Text(t)) => self.time_zero = Some(t),
             (Table::Top, "harmonics", Value::Whole(n)) => self.harmonics = Some(n as usize),
             (Table::Top, "pf_threshold", Value::Number(x)) => self.pf_threshold = Some(x),
             (Table::Top, "expect", Value::Text(t)) => self.expect = Some(t.into()),

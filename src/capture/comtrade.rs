@@ -15,7 +15,7 @@
 
 use super::channel::{Channel, Content, Phase, Role, parse_unit};
 use super::error::LoadErrorKind;
-use super::{Capture, CaptureHead, LoadError, LoadOptions, SourceFormat};
+use super::{Capture, CaptureHead, LoadError, LoadOptions, RecordTimes, SourceFormat};
 use crate::warning::Warning;
 use std::fs::File;
 use std::io::{BufRead, BufReader, Read};
@@ -352,6 +352,66 @@ pub fn parse_cfg(text: &str, cfg: &Path) -> Result<Config, LoadError> {
     })
 }
 
+/// A `.cfg` date-time, `dd/mm/yyyy,hh:mm:ss.ssssss` (1999 and 2013; the 1991 revision writes
+/// `mm/dd/yy`), as days since 1970 and seconds into the day. `None` when it is not one.
+fn date_time(text: &str, revision: u16) -> Option<(i64, f64)> {
+    let (date, time) = text.split_once(',')?;
+    let d: Vec<&str> = date.trim().split('/').collect();
+    let t: Vec<&str> = time.trim().split(':').collect();
+    if d.len() != 3 || t.len() != 3 {
+        return None;
+    }
+    let whole = |s: &str| -> Option<i64> {
+        (!s.is_empty() && s.bytes().all(|b| b.is_ascii_digit()))
+            .then(|| s.parse().ok())
+            .flatten()
+    };
+    let (day, month, year) = if revision == 1991 {
+        (whole(d[1])?, whole(d[0])?, whole(d[2])?)
+    } else {
+        (whole(d[0])?, whole(d[1])?, whole(d[2])?)
+    };
+    // a two-digit year (1991): 1970-2069, the same for both date-times of a record
+    let year = if d[2].len() <= 2 {
+        if year >= 70 { 1900 + year } else { 2000 + year }
+    } else {
+        year
+    };
+    if !(1..=12).contains(&month)
+        || !(1..=super::csv::datetime::days_in_month(year, month)).contains(&day)
+    {
+        return None;
+    }
+    let (h, m) = (whole(t[0])?, whole(t[1])?);
+    let sec = t[2].trim();
+    if !sec.bytes().all(|b| b.is_ascii_digit() || b == b'.') || sec.is_empty() {
+        return None;
+    }
+    let s: f64 = sec.parse().ok()?;
+    if h > 23 || m > 59 || !(0.0..61.0).contains(&s) {
+        return None;
+    }
+    let days = super::csv::datetime::days_from_civil(year, month, day);
+    Some((days, (h * 3600 + m * 60) as f64 + s))
+}
+
+/// The start and trigger times of a record, and the trigger's offset from the first sample.
+fn record_times(cfg: &Config) -> RecordTimes {
+    let offset = match (
+        date_time(&cfg.start, cfg.revision),
+        date_time(&cfg.trigger, cfg.revision),
+    ) {
+        (Some((d0, s0)), Some((d1, s1))) => Some((d1 - d0) as f64 * 86_400.0 + (s1 - s0)),
+        _ => None,
+    };
+    let stated = |s: &str| (!s.trim().is_empty()).then(|| s.trim().to_string());
+    RecordTimes {
+        start: stated(&cfg.start),
+        trigger: stated(&cfg.trigger),
+        trigger_offset_s: offset,
+    }
+}
+
 /// The `.dat` file beside a `.cfg`, whatever the case of its extension.
 fn dat_beside(cfg: &Path) -> Result<PathBuf, LoadError> {
     for ext in ["dat", "DAT", "Dat"] {
@@ -644,6 +704,7 @@ pub(crate) fn load(cfg_path: &Path, opts: &LoadOptions) -> Result<Capture, LoadE
         skew_s,
         time: None,
         warnings,
+        times: Some(record_times(&cfg)),
     };
     Ok(Capture::assemble(head, &channels, &set, columns, None))
 }
@@ -682,6 +743,34 @@ BINARY
         assert_eq!(cfg.rates, vec![(1000.0, 2000)]);
         assert_eq!(cfg.format, DataFormat::Binary);
         assert_eq!(cfg.revision, 1999);
+    }
+
+    #[test]
+    fn the_trigger_is_placed_from_the_two_date_times() {
+        let cfg = parse_cfg(CFG, Path::new("relay.cfg")).unwrap();
+        let t = record_times(&cfg);
+        assert_eq!(t.start.as_deref(), Some("01/03/2026,10:15:00.000000"));
+        assert_eq!(t.trigger.as_deref(), Some("01/03/2026,10:15:00.500000"));
+        assert_eq!(t.trigger_offset_s, Some(0.5));
+        // across midnight at the end of February in a leap year (29/02/2028 exists)
+        let over = CFG
+            .replace("01/03/2026,10:15:00.000000", "29/02/2028,23:59:59.900000")
+            .replace("01/03/2026,10:15:00.500000", "01/03/2028,00:00:00.150000");
+        let t = record_times(&parse_cfg(&over, Path::new("r.cfg")).unwrap());
+        assert!((t.trigger_offset_s.unwrap() - 0.25).abs() < 1e-9, "{t:?}");
+        // the 1991 revision writes the month first and a two-digit year
+        let old = CFG
+            .replace(",1999\n", "\n")
+            .replace("01/03/2026,10:15:00.000000", "12/31/99,23:59:59.000000")
+            .replace("01/03/2026,10:15:00.500000", "01/01/00,00:00:01.000000");
+        let cfg = parse_cfg(&old, Path::new("r.cfg")).unwrap();
+        assert_eq!(cfg.revision, 1991);
+        assert_eq!(record_times(&cfg).trigger_offset_s, Some(2.0));
+        // a date that does not exist is no date: the offset is unknown, the text kept
+        let bad = CFG.replace("01/03/2026,10:15:00.500000", "31/02/2026,10:15:00.5");
+        let t = record_times(&parse_cfg(&bad, Path::new("r.cfg")).unwrap());
+        assert_eq!(t.trigger_offset_s, None);
+        assert_eq!(t.trigger.as_deref(), Some("31/02/2026,10:15:00.5"));
     }
 
     #[test]

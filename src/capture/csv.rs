@@ -647,6 +647,7 @@ pub(crate) fn load_with(
         skew_s: 0.0,
         time: time_channel,
         warnings,
+        times: None,
     };
     Ok(Capture::assemble(head, &layout.channels, &set, data, None))
 }
@@ -899,7 +900,7 @@ pub(crate) fn decimal(s: &[u8]) -> Option<(f64, usize)> {
 }
 
 /// The fast reader (see its module note).
-mod datetime;
+pub(crate) mod datetime;
 mod fast;
 
 #[cfg(test)]

@@ -182,6 +182,9 @@ pub enum LoadErrorKind {
     /// Fewer than two samples.
     #[error("only {0} sample(s): too short to analyse")]
     TooShort(usize),
+    /// The span asked for is not a usable part of the record.
+    #[error("{0}")]
+    BadSpan(String),
 }
 
 /// Which channel is the voltage or the current is not said (see [`LoadErrorKind::Ambiguous`]).

@@ -13,12 +13,14 @@ mod comtrade;
 mod csv;
 mod error;
 mod pick;
+mod span;
 mod wav;
 
 pub use channel::{Channel, Content, Phase, Role, Unit, parse_unit, split_header};
 pub use error::{Ambiguity, LoadError, LoadErrorKind, WrongRole};
 pub(crate) use pick::{ChannelSet, pick_set};
 pub use pick::{Choice, ChosenBy, Place, Selection, System};
+pub use span::{RecordTimes, SpanRequest, TimeZero, select};
 
 use crate::warning::Warning;
 use std::fmt;
@@ -100,6 +102,8 @@ pub struct LoadOptions {
     pub force_channels: bool,
     /// Give a COMTRADE record's values on the secondary side of its CTs and VTs (default: primary).
     pub secondary_values: bool,
+    /// The part of the record to keep (default: all of it).
+    pub span: Option<SpanRequest>,
 }
 
 /// The file format a capture was read from.
@@ -290,6 +294,8 @@ pub struct Capture {
     pub warnings: Vec<Warning>,
     /// The part of the record these traces are, when not the whole of it ([`Capture::span`]).
     pub span: Option<Span>,
+    /// The start and trigger date-times the file states (COMTRADE).
+    pub times: Option<RecordTimes>,
 }
 
 /// A part of a record: samples `first .. first + len` of the traces as loaded.
@@ -352,6 +358,7 @@ impl Capture {
             time: head.time,
             warnings,
             span: None,
+            times: head.times,
         }
     }
 
@@ -380,6 +387,7 @@ impl Capture {
             skew_s: self.skew_s,
             time: self.time.clone(),
             warnings: self.warnings.clone(),
+            times: self.times.clone(),
             span: Some(Span {
                 first: base + start,
                 len: end - start,
@@ -438,6 +446,7 @@ pub(crate) struct CaptureHead {
     pub skew_s: f64,
     pub time: Option<Channel>,
     pub warnings: Vec<Warning>,
+    pub times: Option<RecordTimes>,
 }
 
 /// The channel options of `opts` as the picker takes them.
@@ -451,8 +460,20 @@ pub(crate) fn selection(opts: &LoadOptions) -> Selection<'_> {
     }
 }
 
-/// Loads a capture, sniffing its format from the first bytes.
+/// Loads a capture, sniffing its format from the first bytes, and keeps the span
+/// [`LoadOptions::span`] asks for.
 pub fn load(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError> {
+    let capture = load_whole(path, opts)?;
+    match &opts.span {
+        None => Ok(capture),
+        Some(request) => {
+            span::select(&capture, request).map_err(|kind| LoadError::new(path, None, kind))
+        }
+    }
+}
+
+/// Loads the whole record.
+fn load_whole(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError> {
     let err = |kind| LoadError::new(path, None, kind);
     let meta = std::fs::metadata(path).map_err(|e| err(LoadErrorKind::Io(e)))?;
     if meta.is_dir() {
@@ -529,6 +550,7 @@ mod tests {
             time: None,
             warnings: Vec::new(),
             span: None,
+            times: None,
         };
         let outer = capture.span(10..90);
         let inner = outer.span(5..200);

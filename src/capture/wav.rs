@@ -107,6 +107,7 @@ fn load_with(
         skew_s: 0.0,
         time: None,
         warnings,
+        times: None,
     };
     Ok(Capture::assemble(head, &channels, &set, columns, Some(1.0)))
 }

@@ -17,6 +17,8 @@ bank causes voltage and current transients; follow local codes and licensed prac
 struct BankRecord<'a> {
     before: String,
     after: String,
+    before_span: super::wire::SpanRecord,
+    after_span: super::wire::SpanRecord,
     nameplate: &'a Nameplate,
     #[serde(flatten)]
     report: &'a BankReport,
@@ -35,6 +37,8 @@ pub fn write(
     let record = BankRecord {
         before: before.path.display().to_string(),
         after: after.path.display().to_string(),
+        before_span: super::wire::SpanRecord::new(before),
+        after_span: super::wire::SpanRecord::new(after),
         nameplate: plate,
         report: r,
         cautions: CAUTIONS,
@@ -67,8 +71,12 @@ fn table(
     after: &Analysis,
 ) -> io::Result<()> {
     writeln!(out, "capacitor bank check")?;
-    writeln!(out, "  before       {}", before.path.display())?;
-    writeln!(out, "  after        {}", after.path.display())?;
+    for (which, a) in [("before", before), ("after", after)] {
+        match super::span_text(a) {
+            Some(span) => writeln!(out, "  {which:<13}{}, span {span}", a.path.display())?,
+            None => writeln!(out, "  {which:<13}{}", a.path.display())?,
+        }
+    }
     let steps: Vec<String> = p.steps_kvar.iter().map(|q| num(*q, 4)).collect();
     writeln!(
         out,

@@ -648,6 +648,16 @@ fn capture_section(
         u.windows,
         escape(&super::coverage_text(u))
     )?;
+    let when: Vec<String> = [
+        super::span_text(a).map(|s| format!("span analysed: {s}")),
+        super::times_text(a).map(|t| format!("record {t}")),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    if !when.is_empty() {
+        writeln!(h, "<p class=\"note\">{}</p>", escape(&when.join(" · ")))?;
+    }
     if let Some(t) = &a.three_phase {
         row_table_frequency(h, a)?;
         three_phase::tables(h, a, t)?;

@@ -16,6 +16,7 @@ and licensed practice require";
 #[derive(Debug, Serialize)]
 struct MeterRecord<'a> {
     file: String,
+    span: super::wire::SpanRecord,
     #[serde(flatten)]
     report: &'a MeterReport,
     cautions: &'static str,
@@ -25,6 +26,7 @@ struct MeterRecord<'a> {
 pub fn write(out: &mut dyn Write, r: &MeterReport, a: &Analysis, format: Format) -> io::Result<()> {
     let record = MeterRecord {
         file: a.path.display().to_string(),
+        span: super::wire::SpanRecord::new(a),
         report: r,
         cautions: CAUTIONS,
     };
@@ -92,6 +94,9 @@ pub(crate) fn error_text(error_percent: f64) -> String {
 
 fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
     writeln!(out, "meter check: {}", a.path.display())?;
+    if let Some(span) = super::span_text(a) {
+        writeln!(out, "  span         {span}")?;
+    }
     writeln!(out, "  class        {}", r.class)?;
     if let Some(rc) = r.reactive_class {
         writeln!(out, "  Q class      {rc}")?;

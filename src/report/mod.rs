@@ -31,6 +31,59 @@ pub trait Exporter {
     }
 }
 
+/// Seconds to the microsecond, without trailing zeros: `0.1`, `-0.0125`, `2`.
+pub fn seconds(x: f64) -> String {
+    let t = format!("{x:.6}");
+    let t = t.trim_end_matches('0').trim_end_matches('.');
+    match t {
+        "-0" | "" => "0".into(),
+        t => t.into(),
+    }
+}
+
+/// The span analysed, in words, when it is not the whole record: `0 to 0.1 s of 0.4 s
+/// (samples 0 to 99 of 400), -0.1 to 0 s from the trigger`.
+pub fn span_text(a: &Analysis) -> Option<String> {
+    let (s, rate) = (a.span, a.sample_rate_hz);
+    if s.is_whole() {
+        return None;
+    }
+    let mut text = format!(
+        "{} to {} s of {} s (samples {} to {} of {})",
+        seconds(s.start_s(rate)),
+        seconds(s.end_s(rate)),
+        seconds(s.of as f64 / rate),
+        s.first,
+        s.first + s.len - 1,
+        s.of
+    );
+    if let Some(t) = a.times.as_ref().and_then(|t| t.trigger_offset_s) {
+        text.push_str(&format!(
+            ", {} to {} s from the trigger",
+            seconds(s.start_s(rate) - t),
+            seconds(s.end_s(rate) - t)
+        ));
+    }
+    Some(text)
+}
+
+/// The date-times a record states, in words: `start 01/03/2026,10:15:00.000000, trigger
+/// 01/03/2026,10:15:00.100000 (0.1 s after the first sample)`.
+pub fn times_text(a: &Analysis) -> Option<String> {
+    let t = a.times.as_ref()?;
+    let mut parts = Vec::new();
+    if let Some(s) = &t.start {
+        parts.push(format!("start {s}"));
+    }
+    if let Some(tr) = &t.trigger {
+        parts.push(match t.trigger_offset_s {
+            Some(x) => format!("trigger {tr} ({} s after the first sample)", seconds(x)),
+            None => format!("trigger {tr} (not placed: the date-times cannot be read)"),
+        });
+    }
+    (!parts.is_empty()).then(|| parts.join(", "))
+}
+
 /// The formats `analyze` can write.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Format {
@@ -110,5 +163,17 @@ pub fn coverage_text(u: &crate::quantity::uncertainty::Uncertainty) -> String {
             "k = 2 (ν_eff large) but {} (Student t at 95.45 %, JCGM 100 Annex G)",
             larger.join(", ")
         )
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    #[test]
+    fn seconds_are_shown_to_the_microsecond() {
+        assert_eq!(super::seconds(0.1), "0.1");
+        assert_eq!(super::seconds(2.0), "2");
+        assert_eq!(super::seconds(-0.0125), "-0.0125");
+        assert_eq!(super::seconds(-1e-9), "0");
+        assert_eq!(super::seconds(1.0 / 3.0), "0.333333");
     }
 }

@@ -308,6 +308,12 @@ impl Exporter for TableExporter {
             num(a.sample_rate_hz, 6),
             a.samples,
         )?;
+        if let Some(span) = super::span_text(a) {
+            writeln!(out, "  span         {span}")?;
+        }
+        if let Some(times) = super::times_text(a) {
+            writeln!(out, "  record       {times}")?;
+        }
         match &a.three_phase {
             None => writeln!(out, "  channels     {}", a.channels.describe())?,
             Some(_) => writeln!(out, "  system       {}", a.system)?,

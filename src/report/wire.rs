@@ -32,8 +32,12 @@ pub struct AnalysisRecord {
     pub format: String,
     /// Samples per second.
     pub sample_rate_hz: f64,
-    /// Samples per trace.
+    /// Samples per trace (of the span analysed).
     pub samples: usize,
+    /// The part of the record analysed (the whole record unless `--from`/`--to` chose one).
+    pub span: SpanRecord,
+    /// The start and trigger date-times the file states (COMTRADE records; `null` otherwise).
+    pub record_times: TimesRecord,
     /// `single-phase`, `3-phase 4-wire` or `3-phase 3-wire`.
     pub system: System,
     /// The channels used (single-phase): name, 1-based column, unit as understood, how chosen.
@@ -76,6 +80,69 @@ pub struct AnalysisRecord {
     /// Spectrum, orders 1..=harmonic_order (single-phase; each phase's is under `phases`).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub harmonics: Vec<HarmonicLine>,
+}
+
+/// The part of a record analysed.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct SpanRecord {
+    /// Start, seconds after the record's first sample.
+    pub start_s: f64,
+    /// End (one sample interval after the last sample kept), seconds after the first sample.
+    pub end_s: f64,
+    /// Start, seconds after the trigger (negative: before it); `null` without a trigger time.
+    pub trigger_start_s: Option<f64>,
+    /// End, seconds after the trigger; `null` without a trigger time.
+    pub trigger_end_s: Option<f64>,
+    /// Index of the first sample kept, from 0.
+    pub first_sample: usize,
+    /// Samples kept.
+    pub samples: usize,
+    /// Samples in the whole record.
+    pub record_samples: usize,
+    /// True when the span is the whole record.
+    pub whole_record: bool,
+}
+
+impl SpanRecord {
+    /// The span `a` was analysed over.
+    pub fn new(a: &Analysis) -> Self {
+        let (span, rate) = (a.span, a.sample_rate_hz);
+        let trigger = a.times.as_ref().and_then(|t| t.trigger_offset_s);
+        SpanRecord {
+            start_s: span.start_s(rate),
+            end_s: span.end_s(rate),
+            trigger_start_s: trigger.map(|t| span.start_s(rate) - t),
+            trigger_end_s: trigger.map(|t| span.end_s(rate) - t),
+            first_sample: span.first,
+            samples: span.len,
+            record_samples: span.of,
+            whole_record: span.is_whole(),
+        }
+    }
+}
+
+/// The date-times a record states.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct TimesRecord {
+    /// Date and time of the first sample, as written in the file.
+    pub start: Option<String>,
+    /// Date and time of the trigger, as written in the file.
+    pub trigger: Option<String>,
+    /// The trigger, seconds after the first sample (`null` when the date-times cannot be read).
+    pub trigger_offset_s: Option<f64>,
+}
+
+impl TimesRecord {
+    fn new(a: &Analysis) -> Self {
+        match &a.times {
+            None => TimesRecord::default(),
+            Some(t) => TimesRecord {
+                start: t.start.clone(),
+                trigger: t.trigger.clone(),
+                trigger_offset_s: t.trigger_offset_s,
+            },
+        }
+    }
 }
 
 /// One phase's figures (a single-phase capture's, or one phase of three).
@@ -325,6 +392,8 @@ impl From<&Analysis> for AnalysisRecord {
             format: a.format.to_string(),
             sample_rate_hz: a.sample_rate_hz,
             samples: a.samples,
+            span: SpanRecord::new(a),
+            record_times: TimesRecord::new(a),
             system: a.system,
             channels: three.is_none().then(|| Channels::from(&a.channels)),
             settings: a.settings,
@@ -440,6 +509,7 @@ pub fn analysis_columns() -> Vec<String> {
             skew_s: 0.0,
             warnings: Vec::new(),
             span: None,
+            times: None,
         };
         match crate::analysis::analyze(capture, &crate::analysis::Settings::default()) {
             Ok(a) => serde_json::to_value(AnalysisRecord::from(&a))

@@ -1,6 +1,8 @@
 //! Textbook references for the tests: quantities by their defining sums, no cleverness.
 #![allow(dead_code)]
 
+pub mod comtrade;
+
 use std::f64::consts::PI;
 
 /// Naive O(N²) DFT: X[k] = Σ x[n]·e^{−j2πkn/N}, returned as (re, im).

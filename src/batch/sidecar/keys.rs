@@ -123,6 +123,9 @@ use Bound::*;
 use Kind::*;
 use Table::*;
 
+/// Where a span's times count from, as `--time-zero` takes them.
+pub const TIME_ZEROS: &[&str] = &["start", "trigger"];
+
 /// Distributions of part values, as `--distribution` takes them.
 pub const DISTRIBUTIONS: &[&str] = &["uniform", "normal"];
 
@@ -139,6 +142,9 @@ pub const KEYS: &[Key] = &[
     key(Top, "v_scale", Number(NonZero), "--v-scale"),
     key(Top, "i_scale", Number(NonZero), "--i-scale"),
     key(Top, "skew", Number(Finite), "--skew"),
+    key(Top, "from", Number(Finite), "--from"),
+    key(Top, "to", Number(Finite), "--to"),
+    key(Top, "time_zero", Choice(TIME_ZEROS), "--time-zero"),
     key(Top, "harmonics", Whole(1, u64::MAX), "--harmonics"),
     key(Top, "pf_threshold", Number(Fraction), "--pf-threshold"),
     key(Top, "expect", Path, "--expect"),

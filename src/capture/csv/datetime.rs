@@ -83,7 +83,7 @@ fn is_leap(y: i64) -> bool {
     (y % 4 == 0 && y % 100 != 0) || y % 400 == 0
 }
 
-fn days_in_month(y: i64, m: i64) -> i64 {
+pub(crate) fn days_in_month(y: i64, m: i64) -> i64 {
     match m {
         2 if is_leap(y) => 29,
         2 => 28,
@@ -94,7 +94,7 @@ fn days_in_month(y: i64, m: i64) -> i64 {
 
 /// Days from 1970-01-01 to a date of the proleptic Gregorian calendar (the civil-from-days
 /// inverse in Howard Hinnant's public-domain date algorithms, from memory).
-fn days_from_civil(y: i64, m: i64, d: i64) -> i64 {
+pub(crate) fn days_from_civil(y: i64, m: i64, d: i64) -> i64 {
     let y = if m <= 2 { y - 1 } else { y };
     let era = y.div_euclid(400);
     let yoe = y - era * 400;

@@ -1,0 +1,110 @@
+//! A COMTRADE (IEEE C37.111-1999) writer of our own for the tests: `.cfg` text and `.dat` samples
+//! in each data format, as the standard lays them out (from memory).
+
+use std::path::{Path, PathBuf};
+
+/// One analog channel of a record to write.
+pub struct Chan {
+    pub id: &'static str,
+    pub ph: &'static str,
+    pub units: &'static str,
+    pub a: f64,
+    pub b: f64,
+    pub skew_us: f64,
+    pub ratio: (f64, f64, char),
+    pub raw: Vec<f64>,
+}
+
+#[derive(Clone, Copy, PartialEq, Debug)]
+pub enum Fmt {
+    Ascii,
+    Binary,
+    Binary32,
+    Float32,
+}
+
+impl Fmt {
+    pub fn name(self) -> &'static str {
+        match self {
+            Fmt::Ascii => "ASCII",
+            Fmt::Binary => "BINARY",
+            Fmt::Binary32 => "BINARY32",
+            Fmt::Float32 => "FLOAT32",
+        }
+    }
+}
+
+/// Writes `name.cfg` and `name.dat` (1999 revision, one rate, triggered 0.1 s after the first
+/// sample) and returns the cfg's path.
+pub fn write_record(dir: &Path, name: &str, chans: &[Chan], rate: f64, fmt: Fmt) -> PathBuf {
+    write_record_at(
+        dir,
+        name,
+        chans,
+        rate,
+        fmt,
+        ("02/12/2026,08:00:00.000000", "02/12/2026,08:00:00.100000"),
+    )
+}
+
+/// [`write_record`] with the start and trigger date-times as given.
+pub fn write_record_at(
+    dir: &Path,
+    name: &str,
+    chans: &[Chan],
+    rate: f64,
+    fmt: Fmt,
+    (start, trigger): (&str, &str),
+) -> PathBuf {
+    let n = chans[0].raw.len();
+    let mut cfg = format!(
+        "Test bench recorder,unit 1,1999\n{},{}A,0D\n",
+        chans.len(),
+        chans.len()
+    );
+    for (k, c) in chans.iter().enumerate() {
+        cfg.push_str(&format!(
+            "{},{},{},bench,{},{},{},{},-2147483647,2147483647,{},{},{}\n",
+            k + 1,
+            c.id,
+            c.ph,
+            c.units,
+            c.a,
+            c.b,
+            c.skew_us,
+            c.ratio.0,
+            c.ratio.1,
+            c.ratio.2
+        ));
+    }
+    cfg.push_str(&format!(
+        "50\n1\n{rate},{n}\n{start}\n{trigger}\n{}\n1\n",
+        fmt.name()
+    ));
+    let cfg_path = dir.join(format!("{name}.cfg"));
+    std::fs::write(&cfg_path, cfg).unwrap();
+    let step_us = 1e6 / rate;
+    let mut dat = Vec::new();
+    for s in 0..n {
+        let stamp = (s as f64 * step_us).round() as u32;
+        match fmt {
+            Fmt::Ascii => {
+                let vals: Vec<String> = chans.iter().map(|c| format!("{}", c.raw[s])).collect();
+                dat.extend(format!("{},{},{}\n", s + 1, stamp, vals.join(",")).bytes());
+            }
+            _ => {
+                dat.extend((s as u32 + 1).to_le_bytes());
+                dat.extend(stamp.to_le_bytes());
+                for c in chans {
+                    match fmt {
+                        Fmt::Binary => dat.extend((c.raw[s] as i16).to_le_bytes()),
+                        Fmt::Binary32 => dat.extend((c.raw[s] as i32).to_le_bytes()),
+                        _ => dat.extend((c.raw[s] as f32).to_le_bytes()),
+                    }
+                }
+            }
+        }
+    }
+    std::fs::write(dir.join(format!("{name}.dat")), dat).unwrap();
+    cfg_path
+}
