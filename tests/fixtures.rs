@@ -10,7 +10,7 @@ use std::path::Path;
 
 /// The files the generator writes (the TOML sidecars, model files and the meter reading in
 /// `fixtures/` are written by hand).
-const GENERATED: [&str; 7] = [
+const GENERATED: [&str; 9] = [
     "demo-workshop-compressor-before-capacitor.csv",
     "demo-workshop-compressor-after-capacitor.csv",
     "demo-lab-bench-series-rlc-semicolon-decimal-comma.csv",
@@ -18,6 +18,8 @@ const GENERATED: [&str; 7] = [
     "demo-plant-feeder-bank-off.csv",
     "demo-plant-feeder-bank-on.csv",
     "three-phase/demo-riverside-board-ct-reversed.csv",
+    "three-phase/demo-riverside-bank-off.csv",
+    "three-phase/demo-riverside-bank-on.csv",
 ];
 
 /// Every file under `dir`, as paths relative to it with `/` between folders.

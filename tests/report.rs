@@ -471,7 +471,7 @@ fn bank_and_meter_checks_get_their_sections_and_cautions() {
 
     let before = analyse("demo-plant-feeder-bank-off.csv");
     let after = analyse("demo-plant-feeder-bank-on.csv");
-    let side = |a: &Analysis| a.bank_side().unwrap();
+    let side = |a: &Analysis| a.bank_sides().unwrap();
     let plate = Nameplate {
         rated_kvar: 75.0,
         rated_voltage: 400.0,

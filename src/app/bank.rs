@@ -3,7 +3,7 @@
 use super::{ConfigError, Outcome, format, resolve_channels};
 use crate::analysis::{self, Analysis, Settings};
 use crate::capture::{self, LoadOptions};
-use crate::check::bank::{BankSide, BankVerdict, KeyNames, Nameplate, NameplateFile, check_bank};
+use crate::check::bank::{BankVerdict, KeyNames, Nameplate, NameplateFile, check_bank};
 use crate::cli::BankArgs;
 use crate::report;
 use std::io::Write;
@@ -53,16 +53,6 @@ pub(super) fn analyse_file(
     analysis::analyze(c, settings).map_err(|e| e.to_string())
 }
 
-fn side(a: &Analysis, which: &str) -> Result<BankSide, String> {
-    a.single_phase_only("the bank check")?;
-    a.bank_side().ok_or_else(|| {
-        format!(
-            "{}: the {which} capture has no defined phase angle (no fundamental in a trace)",
-            a.path.display()
-        )
-    })
-}
-
 /// Runs `bank`.
 pub fn run_bank(a: &BankArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
     let config = resolve_nameplate(a).and_then(|plate| {
@@ -90,8 +80,7 @@ pub fn run_bank(a: &BankArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outco
             return Outcome::InputErrors;
         }
     };
-    let sides = side(&before, "before").and_then(|b| Ok((b, side(&after, "after")?)));
-    let (sb, sa) = match sides {
+    let (sb, sa) = match analysis::bank_pair(&before, &after, &plate) {
         Ok(s) => s,
         Err(e) => {
             let _ = writeln!(err, "error: {e}");

@@ -640,15 +640,7 @@ fn bank_check(
         .and_then(|c| {
             analysis::analyze(c, &setup.settings).map_err(|e| format!("bank-out capture {e}"))
         })?;
-    let no_angle = |a: &analysis::Analysis| {
-        format!(
-            "{} has no defined phase angle (no fundamental in a trace)",
-            a.path.display()
-        )
-    };
-    before.single_phase_only("the bank check")?;
-    let b = before.bank_side().ok_or_else(|| no_angle(&before))?;
-    let a = after.bank_side().ok_or_else(|| no_angle(after))?;
+    let (b, a) = analysis::bank_pair(&before, after, &spec.nameplate)?;
     let report = bank::check_bank(&b, &a, &spec.nameplate);
     Ok((report, before))
 }

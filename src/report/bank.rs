@@ -3,7 +3,7 @@
 use super::Format;
 use super::table::{num, pm, sign_off};
 use crate::analysis::Analysis;
-use crate::check::bank::{BankReport, Nameplate};
+use crate::check::bank::{BankReport, Nameplate, PhaseBalance};
 use serde::Serialize;
 use std::io::{self, Write};
 
@@ -52,6 +52,20 @@ pub fn write(
 
 fn capture_line(a: &Analysis, scale: f64) -> String {
     let q = &a.quantities;
+    if let Some(t) = &a.three_phase {
+        let total = &t.figures.total;
+        let pf1 = total.fundamental_active_w / total.fundamental_active_w.hypot(total.reactive_var);
+        return format!(
+            "P {} kW | Q1 {} kvar (totals of the phases) | P1/√(P1² + Q1²) {}",
+            num(total.active_w / 1000.0, 4),
+            num(total.reactive_var / 1000.0, 4),
+            if pf1.is_finite() {
+                num(pf1, 3)
+            } else {
+                "n/a".into()
+            },
+        );
+    }
     format!(
         "P {} kW | Q1 {} kvar | displacement PF {} {}",
         num(scale * q.power.active_w / 1000.0, 4),
@@ -60,6 +74,72 @@ fn capture_line(a: &Analysis, scale: f64) -> String {
             .map(|p| num(p, 3))
             .unwrap_or_else(|| "n/a".into()),
         q.character.map(|c| c.as_str()).unwrap_or(""),
+    )
+}
+
+/// How the captured powers become the bank's, in words.
+pub fn scaling_words(p: &Nameplate, r: &BankReport) -> &'static str {
+    match (p.three_phase, r.phases.is_some()) {
+        (true, true) => "three-phase bank, three-phase captures: the phases' powers add up",
+        (true, false) => "one phase of a balanced three-phase bank: powers × 3, voltage × √3",
+        (false, _) => "single-phase",
+    }
+}
+
+/// The per-phase lines of a three-phase bank check.
+fn phase_lines(out: &mut dyn Write, b: &PhaseBalance) -> io::Result<()> {
+    for (k, (name, p)) in b.phases.iter().enumerate() {
+        let head = if k == 0 { "phases" } else { "" };
+        writeln!(
+            out,
+            "  {head:<13}{name}: delivered {}, C {} ({} of the rated {} µF) {}{}",
+            pm(
+                Some(p.delivered_kvar),
+                Some(p.delivered_uncertainty_kvar),
+                " kvar"
+            ),
+            pm(
+                Some(p.capacitance_uf),
+                Some(p.capacitance_uncertainty_uf),
+                " µF"
+            ),
+            pm(
+                Some(100.0 * p.ratio),
+                Some(100.0 * p.ratio_uncertainty),
+                " %"
+            ),
+            num(p.rated_capacitance_uf, 4),
+            p.verdict,
+            if p.weak { ", WEAK" } else { "" }
+        )?;
+    }
+    writeln!(out, "               ({})", b.capacitance_basis)?;
+    let t = &b.line_terminal_capacitance_uf;
+    writeln!(
+        out,
+        "  balance      line-terminal C a-b {}, b-c {}, c-a {} µF: max/min {} (IEC 60831-1 \
+         limit {}, from memory; an indication in service){}",
+        num(t.ab, 4),
+        num(t.bc, 4),
+        num(t.ca, 4),
+        b.line_terminal_ratio
+            .map(|r| num(r, 4))
+            .unwrap_or_else(|| "n/a".into()),
+        b.line_terminal_ratio_limit,
+        match b.line_terminal_ratio_within_limit {
+            Some(true) => ", within",
+            Some(false) => ", BEYOND",
+            None => "",
+        }
+    )?;
+    writeln!(
+        out,
+        "  weak phases  {}",
+        if b.weak_phases.is_empty() {
+            "none".to_string()
+        } else {
+            b.weak_phases.join(", ")
+        }
     )
 }
 
@@ -85,11 +165,7 @@ fn table(
         num(p.rated_voltage, 4),
         num(p.rated_frequency_hz, 4),
         steps.join(" + "),
-        if p.three_phase {
-            "one phase of a balanced three-phase bank: powers × 3, voltage × √3"
-        } else {
-            "single-phase"
-        }
+        scaling_words(p, r)
     )?;
     writeln!(
         out,
@@ -115,6 +191,9 @@ fn table(
         num(r.band[1], 3),
         r.standard
     )?;
+    if let Some(b) = &r.phases {
+        phase_lines(out, b)?;
+    }
     let b = &r.ratio_budget;
     writeln!(
         out,

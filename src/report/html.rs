@@ -983,14 +983,13 @@ fn bank_section(h: &mut String, b: &BankSection) -> std::fmt::Result {
             num(p.rated_voltage, 4),
             num(p.rated_frequency_hz, 4),
             steps.join(" + "),
-            if p.three_phase {
-                "; one phase of a balanced three-phase bank (powers × 3)"
-            } else {
-                ""
-            }
+            format_args!("; {}", super::bank::scaling_words(p, r))
         ),
     )?;
     row(h, "expected (arithmetic)", &r.expected_arithmetic)?;
+    if let Some(balance) = &r.phases {
+        three_phase::bank_rows(h, balance)?;
+    }
     let budget = &r.ratio_budget;
     let terms: Vec<String> = budget
         .terms

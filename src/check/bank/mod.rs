@@ -22,11 +22,13 @@
 
 pub mod budget;
 mod nameplate;
+mod phases;
 
 pub use budget::{BudgetTerm, RatioBudget};
 pub use nameplate::{
     CapacitorStandard, KeyNames, Nameplate, NameplateError, NameplateFile, Supply,
 };
+pub use phases::{BankPhase, PhaseBalance};
 
 use super::decision::{Verdict, decide};
 use crate::quantity::uncertainty::UncertaintyInputs;
@@ -34,9 +36,12 @@ use crate::warning::{Severity, Warning};
 use serde::Serialize;
 use std::fmt;
 
-/// Figures of one capture, as the bank check needs them (per captured phase, SI units).
+/// Figures of one capture, as the bank check needs them (SI units): of its one phase, or the
+/// totals of a three-phase capture ([`BankSide::total`]).
 #[derive(Debug, Clone, PartialEq)]
 pub struct BankSide {
+    /// How many phases the powers add up: 1 for one phase, 3 for a three-phase capture's totals.
+    pub phases: usize,
     /// Active power P, W.
     pub p_w: f64,
     /// Fundamental active power P1 = S1·cos θ1, W (how Q1 moves with a phase error: ∂Q1/∂θ).
@@ -45,7 +50,7 @@ pub struct BankSide {
     pub q_var: f64,
     /// Standard uncertainty of Q1 from the capture itself (Type A), var.
     pub u_q_type_a_var: f64,
-    /// Fundamental voltage V1, V.
+    /// Fundamental voltage V1, V (of the totals: the quadratic mean of the phases' V1).
     pub v1: f64,
     /// Standard uncertainty of V1 from the capture itself (Type A), V.
     pub u_v1_type_a: f64,
@@ -65,6 +70,54 @@ pub struct BankSide {
     pub harmonic_angles_deg: Vec<f64>,
     /// The capture's warnings.
     pub warnings: Vec<Warning>,
+}
+
+impl BankSide {
+    /// The totals of a three-phase capture from its phases' sides: P, P1 and Q1 add up, the
+    /// Type A spreads add in quadrature (separate probes), V1 is the quadratic mean of the phases'
+    /// (so `3·V1²` is the sum that a star of equal capacitors draws on), the harmonics are the
+    /// phases' quadratic means, the frequency and angle those of the totals.
+    pub fn total(phases: &[BankSide]) -> BankSide {
+        let n = phases.len().max(1) as f64;
+        let sum = |f: fn(&BankSide) -> f64| phases.iter().map(f).sum::<f64>();
+        let rss = |f: fn(&BankSide) -> f64| phases.iter().map(|s| f(s).powi(2)).sum::<f64>().sqrt();
+        let qmean =
+            |f: fn(&BankSide) -> f64| (phases.iter().map(|s| f(s).powi(2)).sum::<f64>() / n).sqrt();
+        let per_order = |f: fn(&BankSide) -> &Vec<f64>| {
+            let orders = phases.iter().map(|s| f(s).len()).min().unwrap_or(0);
+            (0..orders)
+                .map(|h| (phases.iter().map(|s| f(s)[h].powi(2)).sum::<f64>() / n).sqrt())
+                .collect::<Vec<f64>>()
+        };
+        let (p_w, q_var) = (sum(|s| s.p_w), sum(|s| s.q_var));
+        let p1_w = sum(|s| s.p1_w);
+        let first = phases.first();
+        let mut warnings: Vec<Warning> = Vec::new();
+        for w in phases.iter().flat_map(|s| &s.warnings) {
+            if !warnings.contains(w) {
+                warnings.push(w.clone());
+            }
+        }
+        BankSide {
+            phases: phases.iter().map(|s| s.phases).sum(),
+            p_w,
+            p1_w,
+            q_var,
+            u_q_type_a_var: rss(|s| s.u_q_type_a_var),
+            v1: qmean(|s| s.v1),
+            u_v1_type_a: rss(|s| s.u_v1_type_a) / n,
+            frequency_hz: first.map_or(0.0, |s| s.frequency_hz),
+            u_frequency_hz: first.map_or(0.0, |s| s.u_frequency_hz),
+            angle_deg: q_var.atan2(p1_w).to_degrees(),
+            instrument: first.map(|s| s.instrument).unwrap_or_default(),
+            current_harmonics: per_order(|s| &s.current_harmonics),
+            voltage_harmonics: per_order(|s| &s.voltage_harmonics),
+            harmonic_angles_deg: first
+                .map(|s| s.harmonic_angles_deg.clone())
+                .unwrap_or_default(),
+            warnings,
+        }
+    }
 }
 
 /// One of the analysed captures' warnings, as the bank check shows it.
@@ -160,7 +213,8 @@ impl fmt::Display for BankVerdict {
 /// Everything the bank check found.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct BankReport {
-    /// 3 for one phase of a three-phase bank, else 1.
+    /// What the captured powers are multiplied by for the whole bank: 3 for one phase of a
+    /// three-phase bank, else 1 (a single-phase bank, or a three-phase capture's totals).
     pub power_scale: f64,
     /// Delivered reactive power, kvar.
     pub delivered_kvar: f64,
@@ -217,6 +271,9 @@ pub struct BankReport {
     pub harmonic_changes: Vec<HarmonicChange>,
     /// What the bank check itself found, in words.
     pub warnings: Vec<String>,
+    /// Each phase's share, capacitance and balance, for three-phase captures.
+    #[serde(skip_serializing_if = "Option::is_none", flatten)]
+    pub phases: Option<PhaseBalance>,
 }
 
 /// A harmonic counts as present above this share of the fundamental current.
@@ -234,9 +291,25 @@ const EXPLAINED_MARGIN: f64 = 1.2;
 /// Orders compared before and after.
 const COMPARED_ORDERS: usize = 25;
 
-/// Checks a bank from captures before and after it is switched in.
-pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> BankReport {
-    let scale = if plate.three_phase { 3.0 } else { 1.0 };
+/// Delivered against expected kvar for one pair of sides.
+struct Delivery {
+    scale: f64,
+    delivered: f64,
+    site_v: f64,
+    expected: f64,
+    expected_arithmetic: String,
+    ratio: f64,
+    budget: RatioBudget,
+}
+
+/// Delivered and expected kvar of the whole bank from `before` and `after` (one phase scaled up
+/// for a three-phase bank, or a three-phase capture's totals), with the ratio's budget.
+fn delivery(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Delivery {
+    let scale = if plate.three_phase {
+        3.0 / after.phases.max(1) as f64
+    } else {
+        1.0
+    };
     let delivered = scale * (before.q_var - after.q_var) / 1000.0;
     let site_v = if plate.three_phase {
         3f64.sqrt() * after.v1
@@ -251,7 +324,50 @@ pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ban
         plate.rated_kvar, site_v, plate.rated_voltage, f, plate.rated_frequency_hz, expected
     );
     let ratio = delivered / expected;
-    let ratio_budget = budget::ratio_budget(before, after, scale, delivered, expected);
+    let budget = budget::ratio_budget(before, after, scale, delivered, expected);
+    Delivery {
+        scale,
+        delivered,
+        site_v,
+        expected,
+        expected_arithmetic,
+        ratio,
+        budget,
+    }
+}
+
+/// Checks a bank from captures before and after it is switched in: `before` and `after` hold
+/// one side per captured phase (one for a single-phase capture, the phases a, b, c of a
+/// three-phase one, whose totals are checked and each phase's share besides).
+pub fn check_bank(before: &[BankSide], after: &[BankSide], plate: &Nameplate) -> BankReport {
+    let (total_before, total_after);
+    let (before_one, after_one) = if before.len() == 1 && after.len() == 1 {
+        (&before[0], &after[0])
+    } else {
+        total_before = BankSide::total(before);
+        total_after = BankSide::total(after);
+        (&total_before, &total_after)
+    };
+    let mut report = check_bank_side(before_one, after_one, plate);
+    if before.len() == 3 && after.len() == 3 {
+        let balance = phases::balance(before, after, plate);
+        report.warnings.extend(balance.warnings());
+        report.phases = Some(balance);
+    }
+    report
+}
+
+fn check_bank_side(before: &BankSide, after: &BankSide, plate: &Nameplate) -> BankReport {
+    let Delivery {
+        scale,
+        delivered,
+        site_v,
+        expected,
+        expected_arithmetic,
+        ratio,
+        budget: ratio_budget,
+    } = delivery(before, after, plate);
+    let f = after.frequency_hz;
     let u_ratio = ratio_budget.ratio_expanded_uncertainty;
     let u_delivered = ratio_budget.delivered_expanded_uncertainty_kvar;
     let (low, high) = plate.standard.band(plate.rated_kvar);
@@ -344,8 +460,8 @@ pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ban
     // Parallel resonance order h = √(Ssc/Qc) (common practice).
     let qc = if delivered > 0.0 { delivered } else { expected };
     let resonance_order = plate.supply.map(|s| (s.short_circuit_kva() / qc).sqrt());
-    // The bank's capacitance per captured phase, as ωC = Q1/V1² (textbook: Q = V²·ωC).
-    let q_phase_var = 1000.0 * qc / scale;
+    // The bank's capacitance per phase, as ωC = Q1/V1² (textbook: Q = V²·ωC).
+    let q_phase_var = 1000.0 * qc / if plate.three_phase { 3.0 } else { 1.0 };
     let omega_c = if after.v1 > 0.0 {
         q_phase_var / (after.v1 * after.v1)
     } else {
@@ -432,6 +548,7 @@ pub fn check_bank(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ban
         resonance_near_harmonic,
         harmonic_changes,
         warnings,
+        phases: None,
     }
 }
 
@@ -537,8 +654,13 @@ fn nearest_subset(steps: &[f64], target: f64) -> Vec<usize> {
 mod tests {
     use super::*;
 
+    fn one(s: &BankSide) -> &[BankSide] {
+        std::slice::from_ref(s)
+    }
+
     fn side(p: f64, q: f64, v1: f64, f: f64) -> BankSide {
         BankSide {
+            phases: 1,
             p_w: p,
             p1_w: p,
             q_var: q,
@@ -576,7 +698,7 @@ mod tests {
         let theta = 0.75f64.acos();
         let before = side(100_000.0, 100_000.0 * theta.tan(), 400.0, 50.0);
         let after = side(100_000.0, 100_000.0 * theta.tan() - 50_000.0, 400.0, 50.0);
-        let r = check_bank(&before, &after, &plate(50.0, 400.0, 5));
+        let r = check_bank(one(&before), one(&after), &plate(50.0, 400.0, 5));
         let hand = 100.0 * (0.75f64.acos().tan() - 0.95f64.acos().tan());
         assert!((hand - 55.32).abs() < 0.01, "{hand}");
         assert!((r.kvar_for_target_pf - hand).abs() < 1e-9);
@@ -592,12 +714,12 @@ mod tests {
         assert!((expected - 45.125).abs() < 1e-9);
         let before = side(20_000.0, 30_000.0, 380.0, 50.0);
         let after = side(20_000.0, 30_000.0 - 45_125.0, 380.0, 50.0);
-        let r = check_bank(&before, &after, &plate(50.0, 400.0, 1));
+        let r = check_bank(one(&before), one(&after), &plate(50.0, 400.0, 1));
         assert!((r.expected_kvar - expected).abs() < 1e-9);
         assert!((r.ratio - 1.0).abs() < 1e-9);
         // and with f: at 60 Hz the same bank gives 60/50 more
         let after60 = side(20_000.0, 30_000.0 - 45_125.0 * 1.2, 380.0, 60.0);
-        let r60 = check_bank(&before, &after60, &plate(50.0, 400.0, 1));
+        let r60 = check_bank(one(&before), one(&after60), &plate(50.0, 400.0, 1));
         assert!((r60.expected_kvar - expected * 1.2).abs() < 1e-9);
     }
 
@@ -606,7 +728,7 @@ mod tests {
         // 3 × 10 kvar at 400 V; one step open: 20 kvar delivered
         let before = side(30_000.0, 25_000.0, 400.0, 50.0);
         let after = side(30_000.0, 5_000.0, 400.0, 50.0);
-        let r = check_bank(&before, &after, &plate(30.0, 400.0, 3));
+        let r = check_bank(one(&before), one(&after), &plate(30.0, 400.0, 3));
         assert_eq!(r.verdict, BankVerdict::Fail);
         assert_eq!(r.failed_steps, Some(1));
         let text = r.failed_steps_arithmetic.unwrap();
@@ -617,8 +739,8 @@ mod tests {
     fn a_healthy_bank_passes_and_one_on_the_limit_is_inconclusive() {
         let before = side(30_000.0, 25_000.0, 400.0, 50.0);
         let r = check_bank(
-            &before,
-            &side(30_000.0, -6_000.0, 400.0, 50.0),
+            one(&before),
+            one(&side(30_000.0, -6_000.0, 400.0, 50.0)),
             &plate(30.0, 400.0, 3),
         );
         assert_eq!(r.verdict, BankVerdict::Pass, "{}", r.ratio);
@@ -626,8 +748,8 @@ mod tests {
         assert!(r.warnings.iter().any(|w| w.contains("over-corrected")));
         // exactly 100 %: the uncertainty straddles the lower limit
         let r = check_bank(
-            &before,
-            &side(30_000.0, -5_000.0, 400.0, 50.0),
+            one(&before),
+            one(&side(30_000.0, -5_000.0, 400.0, 50.0)),
             &plate(30.0, 400.0, 3),
         );
         assert_eq!(r.verdict, BankVerdict::Inconclusive);
@@ -640,7 +762,7 @@ mod tests {
         let after = side(200_000.0, 100_000.0, 400.0, 50.0);
         let mut p = plate(300.0, 400.0, 3);
         p.supply = Some(Supply::ShortCircuitMva(20.0));
-        let r = check_bank(&before, &after, &p);
+        let r = check_bank(one(&before), one(&after), &p);
         assert!((r.resonance_order.unwrap() - 8.165).abs() < 1e-3);
         assert_eq!(r.resonance_near_harmonic, None); // no 8th in the current
         // a 1000 kVA, 6 % transformer: Ssc = 16.67 MVA
@@ -648,7 +770,7 @@ mod tests {
             kva: 1000.0,
             z_percent: 6.0,
         });
-        let r = check_bank(&before, &after, &p);
+        let r = check_bank(one(&before), one(&after), &p);
         assert!((r.resonance_order.unwrap() - (1000.0 / 0.06 / 300.0f64).sqrt()).abs() < 1e-9);
         // 7.45: within 0.5 of the 7th, which is present (0.2 A of 10 A)
         assert_eq!(r.resonance_near_harmonic, Some(7));
@@ -663,7 +785,7 @@ mod tests {
         let before = side(30_000.0, 25_000.0, 400.0, 50.0);
         let mut after = side(30_000.0, -5_000.0, 400.0, 50.0);
         after.current_harmonics[4] = 1.2; // 5th from 0.3 A to 1.2 A
-        let r = check_bank(&before, &after, &plate(30.0, 400.0, 3));
+        let r = check_bank(one(&before), one(&after), &plate(30.0, 400.0, 3));
         let c = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
         assert!(c.grows && (c.change_percent - 300.0).abs() < 1e-9);
         let draw = 5.0 * 0.02 * 400.0 * 30_000.0 / (400.0 * 400.0);
@@ -672,7 +794,7 @@ mod tests {
         assert_eq!(c.diagnosis, "capacitor-draw");
         assert!(!r.warnings.iter().any(|w| w.contains("harmonic 5")));
         after.current_harmonics[4] = 12.0;
-        let r = check_bank(&before, &after, &plate(30.0, 400.0, 3));
+        let r = check_bank(one(&before), one(&after), &plate(30.0, 400.0, 3));
         let c = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
         assert_eq!(c.diagnosis, "unexplained");
         assert!(r.warnings.iter().any(|w| w.contains("did the load change")));
@@ -689,7 +811,7 @@ mod tests {
         for (v5, flagged) in [(0.03, true), (0.022, false)] {
             let mut after = side(200_000.0, 100_000.0, 400.0, 50.0);
             after.voltage_harmonics[4] = v5 * 400.0;
-            let r = check_bank(&before, &after, &p);
+            let r = check_bank(one(&before), one(&after), &p);
             let c = r.harmonic_changes.iter().find(|c| c.order == 5).unwrap();
             let amp = 1.0 / (1.0 - (5.0f64 / 8.165).powi(2));
             assert!(
@@ -713,7 +835,7 @@ mod tests {
         let after = side(10_000.0, 2_000.0, 230.0, 50.0);
         let mut p = plate(30.0, 400.0, 1);
         p.three_phase = true;
-        let r = check_bank(&before, &after, &p);
+        let r = check_bank(one(&before), one(&after), &p);
         assert!((r.delivered_kvar - 30.0).abs() < 1e-9);
         assert!((r.site_voltage - 230.0 * 3f64.sqrt()).abs() < 1e-9);
     }
@@ -737,15 +859,15 @@ mod tests {
                 400.0,
                 50.0,
             );
-            let r = check_bank(&before, &after, p);
+            let r = check_bank(one(&before), one(&after), p);
             assert!((r.ratio - 1.09).abs() < 1e-9);
             assert_eq!((r.band[0], r.band[1]), band);
             assert_eq!(r.verdict, verdict, "{} kvar: {r:?}", p.rated_kvar);
         }
         assert!(
             check_bank(
-                &before,
-                &side(200_000.0, 200_000.0 - 1.03 * 150_000.0, 400.0, 50.0),
+                one(&before),
+                one(&side(200_000.0, 200_000.0 - 1.03 * 150_000.0, 400.0, 50.0)),
                 &large
             )
             .standard

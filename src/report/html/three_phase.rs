@@ -3,6 +3,7 @@
 
 use super::{escape, row};
 use crate::analysis::{Analysis, PhaseAnalysis, ThreePhaseAnalysis, phase_letter};
+use crate::check::bank::PhaseBalance;
 use crate::quantity::three_phase::Rotation;
 use crate::report::table::{num, pm};
 use std::fmt::Write as _;
@@ -214,4 +215,57 @@ pub(super) fn tables(h: &mut String, a: &Analysis, t: &ThreePhaseAnalysis) -> st
         }
         writeln!(h, "</ul>")
     }
+}
+
+/// The per-phase rows of a three-phase bank check, inside the bank table.
+pub(super) fn bank_rows(h: &mut String, b: &PhaseBalance) -> std::fmt::Result {
+    for (name, p) in b.phases.iter() {
+        row(
+            h,
+            &format!("phase {name}"),
+            &format!(
+                "delivered {}; C {} ({} of the rated {} µF): {}{}",
+                pm(
+                    Some(p.delivered_kvar),
+                    Some(p.delivered_uncertainty_kvar),
+                    " kvar"
+                ),
+                pm(
+                    Some(p.capacitance_uf),
+                    Some(p.capacitance_uncertainty_uf),
+                    " µF"
+                ),
+                pm(
+                    Some(100.0 * p.ratio),
+                    Some(100.0 * p.ratio_uncertainty),
+                    " %"
+                ),
+                num(p.rated_capacitance_uf, 4),
+                p.verdict,
+                if p.weak { ", weak" } else { "" }
+            ),
+        )?;
+    }
+    let t = &b.line_terminal_capacitance_uf;
+    row(
+        h,
+        "line-terminal capacitance",
+        &format!(
+            "a-b {}, b-c {}, c-a {} µF; max/min {} against the {} of IEC 60831-1 (from memory; \
+             an indication in service); weak phases: {}; {}",
+            num(t.ab, 4),
+            num(t.bc, 4),
+            num(t.ca, 4),
+            b.line_terminal_ratio
+                .map(|r| num(r, 4))
+                .unwrap_or_else(|| "n/a".into()),
+            b.line_terminal_ratio_limit,
+            if b.weak_phases.is_empty() {
+                "none".to_string()
+            } else {
+                b.weak_phases.join(", ")
+            },
+            b.capacitance_basis
+        ),
+    )
 }
