@@ -106,6 +106,9 @@ pub struct PhaseAnalysis {
     pub quantities: Quantities,
     /// Their expanded uncertainties (k = 2).
     pub uncertainty: Uncertainty,
+    /// The current's delay behind the voltage removed from this phase's figures, seconds:
+    /// `--skew` plus the difference of the two channels' own delays (a COMTRADE record's skews).
+    pub skew_s: f64,
     /// The first cycles of both traces, for plots.
     pub preview: Preview,
 }
@@ -254,13 +257,28 @@ pub fn analyze_traces(
     Ok((est, q))
 }
 
-/// Runs the whole pipeline on a loaded capture.
-pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, AnalysisError> {
-    // a skew the file itself declares (COMTRADE) adds to the one the command line gives
-    let settings = &Settings {
-        skew_s: settings.skew_s + capture.skew_s,
-        ..*settings
+/// The delays of the voltage and the current trace a phase's samples come from (a 3-wire
+/// capture's lines share one delay, as the loader makes sure).
+fn phase_delays(capture: &Capture, ps: &condition::PhaseSamples<'_>) -> (f64, f64) {
+    let v = match capture.system {
+        System::ThreeWire => capture.voltages.first(),
+        _ => capture.voltages.get(ps.voltage_trace),
     };
+    let i = ps
+        .current_trace
+        .and_then(|k| capture.currents.get(k))
+        .or(capture.currents.first());
+    (v.map_or(0.0, |t| t.delay_s), i.map_or(0.0, |t| t.delay_s))
+}
+
+/// Runs the whole pipeline on a loaded capture.
+///
+/// Each trace's own delay ([`crate::capture::Trace::delay_s`]) is removed as a phase correction:
+/// within a phase, the current's delay behind its voltage adds to `--skew`; across phases, each
+/// phase's fundamental phasors are turned back by its voltage's delay, so the three-phase figures
+/// compare phasors of one instant.
+pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, AnalysisError> {
+    let cli_skew_s = settings.skew_s;
     condition::scale(&mut capture, settings.v_scale, settings.i_scale);
     let rate = capture.sample_rate_hz;
     let span = capture.span.unwrap_or(Span::whole(capture.len()));
@@ -272,6 +290,16 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
     let mut warnings = std::mem::take(&mut capture.warnings);
     let many = capture.system.is_three_phase();
     let samples = condition::per_phase(&capture);
+    let delays: Vec<(f64, f64)> = samples
+        .iter()
+        .map(|ps| phase_delays(&capture, ps))
+        .collect();
+    let phase_skew = |k: usize| cli_skew_s + delays[k].1 - delays[k].0;
+    // the settings as reported: the skew removed from the first phase
+    let settings = &Settings {
+        skew_s: phase_skew(0),
+        ..*settings
+    };
     // the first phase finds the frequency; the others are fitted at it, so every phasor refers
     // to the same instant and the same frequency
     let mut estimates = Vec::with_capacity(samples.len());
@@ -288,7 +316,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         .map_err(fail)?;
         first_hz = Some(e.frequency_hz);
     }
-    for ps in &samples {
+    for (k, ps) in samples.iter().enumerate() {
         let known = estimates
             .first()
             .map(|(e, _): &(Estimate, Quantities)| e.frequency_hz)
@@ -301,7 +329,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             rate,
             &est,
             &QuantitySettings {
-                skew_s: settings.skew_s,
+                skew_s: phase_skew(k),
                 harmonics: settings.harmonics,
             },
         );
@@ -349,7 +377,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         }
     }
     let mut phases = Vec::with_capacity(samples.len());
-    for (ps, (estimate, quantities)) in samples.iter().zip(estimates) {
+    for (k, (ps, (estimate, mut quantities))) in samples.iter().zip(estimates).enumerate() {
         for w in &quantities.warnings {
             warnings.push(if many {
                 Warning::OnPhase {
@@ -365,20 +393,30 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             &ps.current,
             &estimate,
             &quantities,
-            settings.skew_s,
+            phase_skew(k),
             &settings.uncertainty,
         );
         let preview = Preview::new(&ps.voltage, &ps.current, rate, quantities.frequency_hz);
+        // to the common instant: this phase's voltage is late by its delay
+        let turn = Complex64::from_polar(
+            1.0,
+            2.0 * std::f64::consts::PI * quantities.frequency_hz * delays[k].0,
+        );
+        let (v1, i1) = quantities.fundamentals;
+        quantities.fundamentals = (v1 * turn, i1 * turn);
         phases.push(PhaseAnalysis {
             phase: ps.phase,
             channels: phase_channels(&capture, ps),
             estimate,
             quantities,
             uncertainty,
+            skew_s: phase_skew(k),
             preview,
         });
     }
-    let three_phase = many.then(|| three_phase_of(&capture, &samples, &phases, settings.skew_s));
+    // the neutral current's own delay, with --skew as for the line currents
+    let neutral_delay_s = cli_skew_s + capture.neutral.as_ref().map_or(0.0, |t| t.delay_s);
+    let three_phase = many.then(|| three_phase_of(&capture, &samples, &phases, neutral_delay_s));
     // the PF finding: of the system when there is one, else of the phase
     let pf = match &three_phase {
         Some(t) => t.figures.effective.pf,
@@ -485,7 +523,7 @@ fn three_phase_of(
     capture: &Capture,
     samples: &[condition::PhaseSamples<'_>],
     phases: &[PhaseAnalysis],
-    skew_s: f64,
+    neutral_delay_s: f64,
 ) -> ThreePhaseAnalysis {
     let wiring = if capture.system == System::ThreeWire {
         Wiring::ThreeWire
@@ -522,12 +560,12 @@ fn three_phase_of(
     );
     let line_rms = [rms_diff(va, vb), rms_diff(vb, vc), rms_diff(vc, va)];
     // a measured neutral: its own true RMS and fundamental phasor, fitted at the phases'
-    // frequency with the current channels' skew removed as theirs is
+    // frequency on their time reference, its own delay removed as the phases' are
     let f1 = phases[0].quantities.frequency_hz;
     let mut neutral_phasor = None;
     let neutral = capture.neutral.as_ref().map(|n| {
         let rms = (n.samples[..span].iter().map(|x| x * x).sum::<f64>() / span as f64).sqrt();
-        let turn = Complex64::from_polar(1.0, 2.0 * std::f64::consts::PI * f1 * skew_s);
+        let turn = Complex64::from_polar(1.0, 2.0 * std::f64::consts::PI * f1 * neutral_delay_s);
         neutral_phasor = estimate::estimate_at(
             &samples[0].voltage,
             &n.samples,

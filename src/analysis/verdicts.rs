@@ -58,7 +58,7 @@ impl Analysis {
         let q = &phase.quantities;
         let turn = rustfft::num_complex::Complex64::from_polar(
             1.0,
-            2.0 * std::f64::consts::PI * q.frequency_hz * self.settings.skew_s,
+            2.0 * std::f64::consts::PI * q.frequency_hz * phase.skew_s,
         );
         let per_window: Vec<(f64, f64)> = est
             .windows

@@ -10,6 +10,9 @@
 //! FLOAT32, an empty ASCII field) are refused with the sample that holds one, never read as
 //! numbers. The single-file `.cff` form of 2013 is not read yet and says so.
 //!
+//! Each channel's skew (the time after the time stamp its sample was taken) becomes its trace's
+//! delay ([`super::Trace::delay_s`]), which the analysis removes channel by channel.
+//!
 //! Nothing is allocated from the header's counts alone: the samples read are bounded by what the
 //! `.dat` file can hold.
 
@@ -687,11 +690,32 @@ pub(crate) fn load(cfg_path: &Path, opts: &LoadOptions) -> Result<Capture, LoadE
                 .collect()
         })
         .collect();
-    // a channel's skew is when its sample was taken after the time stamp, so it holds the signal
-    // from later, not a delay: the current lags the voltage by their skews' difference negated
-    // (the first phase's pair; recorders give every channel of a phase set the same skew)
-    let (vi, ii) = (set.voltages[0].index, set.currents[0].index);
-    let skew_s = cfg.analog[vi].skew_s - cfg.analog[ii].skew_s;
+    if set.system == super::System::ThreeWire {
+        // the phases of a 3-wire capture are worked out sample by sample from its lines, which
+        // needs the lines (and the currents) sampled at one instant
+        for (what, chosen) in [
+            ("line-to-line voltages", &set.voltages),
+            ("currents", &set.currents),
+        ] {
+            let skews: Vec<f64> = chosen.iter().map(|c| cfg.analog[c.index].skew_s).collect();
+            if skews.iter().any(|&s| s != skews[0]) {
+                return Err(LoadError::new(
+                    cfg_path,
+                    None,
+                    LoadErrorKind::BadRecord(format!(
+                        "the {what} of this 3-wire record have different skews ({} µs): they \
+                         must be sampled together to be combined; analyse one phase with \
+                         --system single",
+                        skews
+                            .iter()
+                            .map(|s| format!("{}", s * 1e6))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    )),
+                ));
+            }
+        }
+    }
     let head = CaptureHead {
         path: cfg_path.to_path_buf(),
         format: SourceFormat::Comtrade {
@@ -701,12 +725,24 @@ pub(crate) fn load(cfg_path: &Path, opts: &LoadOptions) -> Result<Capture, LoadE
             digital: cfg.digital.len(),
         },
         sample_rate_hz,
-        skew_s,
         time: None,
         warnings,
         times: Some(record_times(&cfg)),
     };
-    Ok(Capture::assemble(head, &channels, &set, columns, None))
+    let mut capture = Capture::assemble(head, &channels, &set, columns, None);
+    // a channel's skew is how long after the time stamp its sample was taken: it holds the
+    // signal from that much later, a delay of minus the skew
+    let traces = capture
+        .voltages
+        .iter_mut()
+        .chain(capture.currents.iter_mut())
+        .chain(capture.neutral.as_mut());
+    for t in traces {
+        if let Some(c) = cfg.analog.get(t.channel.column.wrapping_sub(1)) {
+            t.delay_s = -c.skew_s;
+        }
+    }
+    Ok(capture)
 }
 
 #[cfg(test)]

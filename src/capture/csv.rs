@@ -644,7 +644,6 @@ pub(crate) fn load_with(
             decimal_comma: layout.decimal_comma,
         },
         sample_rate_hz,
-        skew_s: 0.0,
         time: time_channel,
         warnings,
         times: None,

@@ -192,6 +192,10 @@ pub struct Trace {
     /// The instrument's full-scale rails, where the format tells them (WAV: ±1.0), in the file's
     /// units.
     pub full_scale: Option<f64>,
+    /// How far the samples lag the signal, seconds: a COMTRADE channel's skew negated (a channel
+    /// sampled after the time stamp holds the signal from later); 0 for CSV and WAV. The
+    /// analysis removes it per harmonic, never by shifting samples.
+    pub delay_s: f64,
 }
 
 impl Trace {
@@ -203,6 +207,7 @@ impl Trace {
             place: self.place,
             samples: Vec::new(),
             full_scale: self.full_scale,
+            delay_s: self.delay_s,
         }
     }
 
@@ -214,6 +219,7 @@ impl Trace {
             place: Place::Single,
             samples,
             full_scale: None,
+            delay_s: 0.0,
         }
     }
 }
@@ -285,9 +291,6 @@ pub struct Capture {
     pub currents: Vec<Trace>,
     /// A measured neutral current (4-wire).
     pub neutral: Option<Trace>,
-    /// Delay of the current channels' samples behind the voltage channels' that the file itself
-    /// declares (a COMTRADE record's per-channel skews), seconds; added to `--skew`.
-    pub skew_s: f64,
     /// The time column the rate came from (CSV), with its unit.
     pub time: Option<Channel>,
     /// Doubts found while loading (uneven time base, rate mismatch).
@@ -340,6 +343,7 @@ impl Capture {
             place: c.place,
             samples: cols.next().unwrap_or_default(),
             full_scale,
+            delay_s: 0.0,
         };
         let voltages = set.voltages.iter().map(&mut trace).collect();
         let currents = set.currents.iter().map(&mut trace).collect();
@@ -354,7 +358,6 @@ impl Capture {
             voltages,
             currents,
             neutral,
-            skew_s: head.skew_s,
             time: head.time,
             warnings,
             span: None,
@@ -384,7 +387,6 @@ impl Capture {
             voltages: self.voltages.iter().map(cut).collect(),
             currents: self.currents.iter().map(cut).collect(),
             neutral: self.neutral.as_ref().map(cut),
-            skew_s: self.skew_s,
             time: self.time.clone(),
             warnings: self.warnings.clone(),
             times: self.times.clone(),
@@ -443,7 +445,6 @@ pub(crate) struct CaptureHead {
     pub path: PathBuf,
     pub format: SourceFormat,
     pub sample_rate_hz: f64,
-    pub skew_s: f64,
     pub time: Option<Channel>,
     pub warnings: Vec<Warning>,
     pub times: Option<RecordTimes>,
@@ -546,7 +547,6 @@ mod tests {
             voltages: vec![Trace::plain("v", 1, samples.clone())],
             currents: vec![Trace::plain("i", 2, samples)],
             neutral: None,
-            skew_s: 0.0,
             time: None,
             warnings: Vec::new(),
             span: None,

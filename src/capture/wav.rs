@@ -104,7 +104,6 @@ fn load_with(
             channels: h.channels,
         },
         sample_rate_hz,
-        skew_s: 0.0,
         time: None,
         warnings,
         times: None,

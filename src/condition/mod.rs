@@ -5,9 +5,10 @@
 //! function ([`decimate`], [`block_average_gain`]) and the whole-cycle span of a record
 //! ([`whole_cycles`]).
 //!
-//! A known current-channel delay (`--skew`) is *not* removed here by shifting samples: it is
-//! removed per harmonic as a phase correction in [`crate::quantity`], which is exact for any
-//! fraction of a sample.
+//! A known current-channel delay (`--skew`) and each trace's own delay (a COMTRADE channel's
+//! skew, [`crate::capture::Trace::delay_s`]) are *not* removed here by shifting samples: they are
+//! removed per harmonic as phase corrections ([`crate::quantity`] within a phase,
+//! [`crate::analysis::analyze`] across phases), which is exact for any fraction of a sample.
 
 use crate::capture::{Capture, Phase, Place, System};
 use std::borrow::Cow;

@@ -506,7 +506,6 @@ pub fn analysis_columns() -> Vec<String> {
             currents,
             neutral: None,
             time: None,
-            skew_s: 0.0,
             warnings: Vec::new(),
             span: None,
             times: None,

@@ -72,7 +72,7 @@ struct HarmonicArrow {
 fn harmonic_arrows(a: &Analysis, above_percent: f64) -> Vec<HarmonicArrow> {
     let est = &a.estimate;
     let f = est.frequency_hz;
-    let skew = a.settings.skew_s;
+    let skew = a.skew_s;
     let v1_arg = est.voltage.fundamental().arg();
     let mut out = Vec::new();
     for (voltage, c, length) in [
