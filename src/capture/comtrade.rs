@@ -399,7 +399,7 @@ fn date_time(text: &str, revision: u16) -> Option<(i64, f64)> {
 }
 
 /// The start and trigger times of a record, and the trigger's offset from the first sample.
-fn record_times(cfg: &Config) -> RecordTimes {
+pub fn record_times(cfg: &Config) -> RecordTimes {
     let offset = match (
         date_time(&cfg.start, cfg.revision),
         date_time(&cfg.trigger, cfg.revision),
@@ -648,6 +648,41 @@ fn record_rate(cfg: &Config, stamps: &[f64]) -> Result<(f64, Vec<Warning>), Stri
                 .join(", ")
         )),
     }
+}
+
+/// Every analog channel of a record, read as the standard says, without choosing channels.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Record {
+    /// The configuration.
+    pub config: Config,
+    /// Each analog channel's values in its units (a·x + b, on the primary side unless secondary
+    /// values were asked for), in `.cfg` order.
+    pub values: Vec<Vec<f64>>,
+    /// Each sample's time stamp as written (times `timemult` microseconds; NaN where missing).
+    pub stamps: Vec<f64>,
+    /// The start and trigger date-times and the trigger's offset from the first sample.
+    pub times: RecordTimes,
+}
+
+/// Reads every analog channel of the record whose `.cfg` is `cfg_path` (the `.dat` beside it).
+pub fn read_record(cfg_path: &Path, secondary: bool) -> Result<Record, LoadError> {
+    let text = std::fs::read(cfg_path)
+        .map_err(|e| LoadError::new(cfg_path, None, LoadErrorKind::Io(e)))?;
+    let config = parse_cfg(&String::from_utf8_lossy(&text), cfg_path)?;
+    let dat = dat_beside(cfg_path)?;
+    let all: Vec<usize> = (0..config.analog.len()).collect();
+    let (raw, stamps) = read_dat(&dat, &config, &all)?;
+    let values = raw
+        .into_iter()
+        .zip(&config.analog)
+        .map(|(x, c)| x.into_iter().map(|x| c.value(x, secondary)).collect())
+        .collect();
+    Ok(Record {
+        times: record_times(&config),
+        config,
+        values,
+        stamps,
+    })
 }
 
 /// Loads a COMTRADE record given its `.cfg` path.

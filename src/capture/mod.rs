@@ -9,7 +9,7 @@
 //! are later stages ([`crate::condition`]).
 
 mod channel;
-mod comtrade;
+pub mod comtrade;
 mod csv;
 mod error;
 mod pick;
