@@ -50,6 +50,8 @@ Examples:
       fixtures/demo-lab-bench-parallel-rl-24bit.wav
   tracephase analyze fixtures/demo-lab-bench-series-rlc-semicolon-decimal-comma.csv \\
       --expect fixtures/demo-lab-bench-series-rlc.toml --format json
+  tracephase analyze fixtures/records/demo-kestrel-hill-feeder-4-phase-a-fault.cfg \\
+      --time-zero trigger --from -0.1 --to 0
 
 Exit codes: 0 every file analysed; 1 every file analysed but a verdict is `outside`;
 2 a file or an option could not be used (one `error:` line each, the other files still run).";

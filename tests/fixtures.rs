@@ -10,7 +10,7 @@ use std::path::Path;
 
 /// The files the generator writes (the TOML sidecars, model files and the meter reading in
 /// `fixtures/` are written by hand).
-const GENERATED: [&str; 9] = [
+const GENERATED: [&str; 11] = [
     "demo-workshop-compressor-before-capacitor.csv",
     "demo-workshop-compressor-after-capacitor.csv",
     "demo-lab-bench-series-rlc-semicolon-decimal-comma.csv",
@@ -20,6 +20,8 @@ const GENERATED: [&str; 9] = [
     "three-phase/demo-riverside-board-ct-reversed.csv",
     "three-phase/demo-riverside-bank-off.csv",
     "three-phase/demo-riverside-bank-on.csv",
+    "records/demo-kestrel-hill-feeder-4-phase-a-fault.cfg",
+    "records/demo-kestrel-hill-feeder-4-phase-a-fault.dat",
 ];
 
 /// Every file under `dir`, as paths relative to it with `/` between folders.
@@ -61,4 +63,21 @@ fn make_demo_fixtures_regenerates_the_fixtures_byte_for_byte() {
             committed.len()
         );
     }
+}
+
+/// The README shows the demo relay record's `.cfg` as it is in `fixtures/records/`.
+#[test]
+fn the_readme_shows_the_demo_records_configuration_as_written() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let readme = std::fs::read_to_string(root.join("README.md")).unwrap();
+    let cfg = std::fs::read_to_string(
+        root.join("fixtures/records/demo-kestrel-hill-feeder-4-phase-a-fault.cfg"),
+    )
+    .unwrap();
+    let start = readme
+        .find("```text\nKestrel Hill")
+        .expect("the README's copy of the record's .cfg")
+        + "```text\n".len();
+    let end = start + readme[start..].find("```").unwrap();
+    assert_eq!(&readme[start..end], cfg);
 }
