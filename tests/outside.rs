@@ -230,3 +230,31 @@ fn the_crossing_reference_is_right_on_hand_known_cases() {
         .fold(0.0, f64::max);
     assert!((worst - 2.87).abs() < 0.005, "{worst}");
 }
+
+/// The fundamental's share of a trace against its defining sums: the fundamental RMS from a naive
+/// DFT over whole cycles, everything else by Parseval as √(RMS² − fundamental²) (textbook
+/// definitions), so DC, a 3rd harmonic and noise all count as "the rest".
+#[test]
+fn fundamental_ratio_matches_the_rms_of_everything_but_the_fundamental() {
+    // Noise the fit puts on harmonics 2..50 rather than in its residual counts in the rest
+    // either way; the two differ only through the fit's own frequency and fundamental (0.02 %
+    // on this record), far below the 22 % that the residual taken with the wrong sign makes.
+    const REL_TOL: f64 = 0.002;
+    let (rate, f, cycles) = (10_000.0, 50.0, 20);
+    let n = cycles * (rate / f) as usize;
+    let v = Waveform::sine(1.0, 20.0).with_dc(0.2).with(3, 0.1, 0.0);
+    let i = Waveform::sine(1.0, -10.0);
+    let mut spec = Spec::clean(rate, f, n, v, i);
+    spec.snr_db = Some(20.0);
+    spec.seed = 7;
+    let (vs, is) = synthesize(&spec);
+    let (re, im) = common::naive_dft(&vs, cycles);
+    let fund = (re * re + im * im).sqrt() * std::f64::consts::SQRT_2 / n as f64;
+    let rest = (common::rms(&vs).powi(2) - fund * fund).sqrt();
+    let est = tracephase::estimate::estimate(&vs, &is, rate, 50).unwrap();
+    assert_relative_eq!(
+        est.voltage.fundamental_ratio,
+        fund / rest,
+        max_relative = REL_TOL
+    );
+}
