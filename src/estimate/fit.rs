@@ -579,6 +579,24 @@ mod tests {
         assert!(basis.fit_parts(&y, &parts, 6).is_some());
     }
 
+    /// DC and H harmonics are 2H + 1 unknowns: a least-squares fit needs more samples than
+    /// unknowns to leave a residual (N − p degrees of freedom, textbook least squares), so a
+    /// record of exactly 2H + 1 samples is refused rather than fitted with a residual of zero
+    /// whatever its noise, and one sample more is fitted.
+    #[test]
+    fn a_record_with_no_more_samples_than_unknowns_is_not_fitted() {
+        let order = 5;
+        let n = 2 * order + 1;
+        // one cycle over the record: the harmonics are the DFT's own bins, well conditioned
+        let theta = 2.0 * PI / n as f64;
+        let noise = |k: usize| ((k * 37 % 101) as f64) / 101.0 - 0.5;
+        let y: Vec<f64> = (0..n + 1)
+            .map(|k| (theta * k as f64).cos() + noise(k))
+            .collect();
+        assert!(fit(&y[..n], theta, order).is_none());
+        assert!(fit(&y, theta, order).is_some());
+    }
+
     /// A sum of harmonics on 3.37 cycles (not an integer) comes back exactly.
     #[test]
     fn fit_recovers_harmonics_on_a_non_integer_record() {
