@@ -12,6 +12,21 @@ pub struct Cli {
     /// What to do.
     #[command(subcommand)]
     pub command: Command,
+    /// Colour for verdicts and statuses in tables: auto (on a terminal, unless NO_COLOR is set),
+    /// always, never.
+    #[arg(long, global = true, value_enum, default_value_t = ColorWhen::Auto, value_name = "WHEN")]
+    pub color: ColorWhen,
+}
+
+/// When tables are coloured.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum ColorWhen {
+    /// On a terminal, unless `NO_COLOR` is set (`CLICOLOR_FORCE` forces it).
+    Auto,
+    /// Always, even into a pipe or file.
+    Always,
+    /// Never.
+    Never,
 }
 
 /// The subcommands.

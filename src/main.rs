@@ -3,12 +3,18 @@
 use clap::Parser;
 use std::process::ExitCode;
 use tracephase::app;
-use tracephase::cli::{self, Cli};
+use tracephase::cli::{self, Cli, ColorWhen};
 
 fn main() -> ExitCode {
     let cli = Cli::parse_from(cli::attach_negative_values(std::env::args_os()));
-    let stdout = std::io::stdout();
-    let mut out = std::io::BufWriter::new(stdout.lock());
+    let choice = match cli.color {
+        ColorWhen::Auto => anstream::ColorChoice::Auto,
+        ColorWhen::Always => anstream::ColorChoice::Always,
+        ColorWhen::Never => anstream::ColorChoice::Never,
+    };
+    // tables mark verdicts with ANSI styles; this stream keeps or strips them
+    let stdout = anstream::AutoStream::new(std::io::stdout().lock(), choice);
+    let mut out = std::io::BufWriter::new(stdout);
     // not held locked: a batch's Ctrl-C handler writes to it from its own thread
     let mut err = std::io::stderr();
     ExitCode::from(app::run(cli, &mut out, &mut err).code())

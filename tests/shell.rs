@@ -135,3 +135,122 @@ fn every_help_ends_with_examples_that_run_and_the_exit_codes() {
     }
     assert!(ran >= 8, "only {ran} examples ran");
 }
+
+const BANK_DEMO: [&str; 7] = [
+    "bank",
+    "--before",
+    "fixtures/three-phase/demo-riverside-bank-off.csv",
+    "--after",
+    "fixtures/three-phase/demo-riverside-bank-on.csv",
+    "--nameplate",
+    "fixtures/three-phase/demo-riverside-bank-nameplate.toml",
+];
+
+fn output_with(args: &[&str], env: &[(&str, &str)]) -> String {
+    let mut cmd = tracephase();
+    cmd.env_remove("NO_COLOR").env_remove("CLICOLOR_FORCE");
+    for (k, v) in env {
+        cmd.env(k, v);
+    }
+    let out = cmd.args(args).output().unwrap();
+    String::from_utf8(out.stdout).unwrap()
+}
+
+/// Verdicts are coloured on request (red FAIL for the demo bank's verdict and its weak phase),
+/// and never into a pipe by default, with `--color never`, or with NO_COLOR set (the convention
+/// of no-color.org, common practice) even where CLICOLOR_FORCE asks for colour; JSON never.
+#[test]
+fn colour_marks_verdicts_only_when_asked_or_on_a_terminal() {
+    const RED_BOLD: &str = "\u{1b}[1m\u{1b}[31m";
+    let mut always = BANK_DEMO.to_vec();
+    always.extend(["--color", "always"]);
+    let text = output_with(&always, &[]);
+    let verdict = text.lines().find(|l| l.contains("VERDICT")).unwrap();
+    assert!(verdict.contains(&format!("{RED_BOLD}FAIL\u{1b}[0m")), "{verdict:?}");
+    assert!(text.contains(&format!("{RED_BOLD}WEAK")), "{text}");
+    // the same words, plain
+    let plain = output_with(&BANK_DEMO, &[]);
+    assert!(!plain.contains('\u{1b}'), "piped output is plain");
+    assert_eq!(
+        plain.lines().count(),
+        text.lines().count(),
+        "colour changes no line"
+    );
+    let mut never = BANK_DEMO.to_vec();
+    never.extend(["--color", "never"]);
+    assert!(!output_with(&never, &[("CLICOLOR_FORCE", "1")]).contains('\u{1b}'));
+    assert!(output_with(&BANK_DEMO, &[("CLICOLOR_FORCE", "1")]).contains('\u{1b}'));
+    assert!(
+        !output_with(&BANK_DEMO, &[("CLICOLOR_FORCE", "1"), ("NO_COLOR", "1")]).contains('\u{1b}')
+    );
+    let mut json = always.clone();
+    json.extend(["--format", "json"]);
+    assert!(!output_with(&json, &[]).contains('\u{1b}'));
+}
+
+/// Every JSON object starts with its layout's version, `"schema":1` (the README's history).
+#[test]
+fn every_json_object_starts_with_the_schema_version() {
+    let dir = TempDir::new().unwrap();
+    let summary = dir.path().join("summary.jsonl");
+    let summary_arg = summary.to_string_lossy().into_owned();
+    let mut bank = BANK_DEMO.to_vec();
+    bank.extend(["--format", "json"]);
+    let outputs = [
+        output_with(
+            &[
+                "analyze",
+                "--format",
+                "json",
+                "fixtures/demo-workshop-compressor-before-capacitor.csv",
+                "fixtures/three-phase/demo-riverside-board-ct-reversed.csv",
+            ],
+            &[],
+        ),
+        output_with(&bank, &[]),
+        output_with(
+            &[
+                "expect",
+                "fixtures/demo-lab-bench-series-rlc.toml",
+                "--freq",
+                "60",
+                "--format",
+                "json",
+            ],
+            &[],
+        ),
+        output_with(
+            &[
+                "meter",
+                "fixtures/demo-workshop-compressor-before-capacitor.csv",
+                "--reading",
+                "p=1.75kW",
+                "--class",
+                "1",
+                "--format",
+                "json",
+            ],
+            &[],
+        ),
+        {
+            output_with(
+                &[
+                    "batch",
+                    "fixtures/three-phase",
+                    "--format",
+                    "json",
+                    "--out",
+                    &summary_arg,
+                ],
+                &[],
+            );
+            std::fs::read_to_string(&summary).unwrap()
+        },
+    ];
+    for text in outputs {
+        assert!(!text.is_empty());
+        for line in text.lines() {
+            assert!(line.starts_with("{\"schema\":1,"), "{line:.80}");
+        }
+    }
+}

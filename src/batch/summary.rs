@@ -211,6 +211,7 @@ impl Row {
     /// The row as one JSON object: the lead keys, then the result's keys.
     pub fn json(&self) -> Value {
         let mut m = Map::new();
+        m.insert("schema".into(), crate::report::SCHEMA.into());
         m.insert("file".into(), self.file.clone().into());
         m.insert("status".into(), self.status.as_str().into());
         m.insert("message".into(), self.message.clone().into());

@@ -109,8 +109,12 @@ fn phase_lines(out: &mut dyn Write, b: &PhaseBalance) -> io::Result<()> {
                 " %"
             ),
             num(p.rated_capacitance_uf, 4),
-            p.verdict,
-            if p.weak { ", WEAK" } else { "" }
+            super::style::word(&p.verdict.to_string()),
+            if p.weak {
+                format!(", {}", super::style::word("WEAK"))
+            } else {
+                String::new()
+            }
         )?;
     }
     writeln!(out, "               ({})", b.capacitance_basis)?;
@@ -127,9 +131,9 @@ fn phase_lines(out: &mut dyn Write, b: &PhaseBalance) -> io::Result<()> {
             .unwrap_or_else(|| "n/a".into()),
         b.line_terminal_ratio_limit,
         match b.line_terminal_ratio_within_limit {
-            Some(true) => ", within",
-            Some(false) => ", BEYOND",
-            None => "",
+            Some(true) => format!(", {}", super::style::word("within")),
+            Some(false) => format!(", {}", super::style::word("BEYOND")),
+            None => String::new(),
         }
     )?;
     writeln!(
@@ -213,7 +217,7 @@ fn table(
     writeln!(
         out,
         "  VERDICT      {} (guarded acceptance, ILAC-G8:09/2019: guard band = U, k = 2)",
-        r.verdict.to_string().to_uppercase()
+        super::style::word(&r.verdict.to_string().to_uppercase())
     )?;
     for (k, why) in r.inconclusive_because.iter().enumerate() {
         let head = if k == 0 { "because" } else { "" };

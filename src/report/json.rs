@@ -11,7 +11,10 @@ pub struct JsonExporter;
 
 impl Exporter for JsonExporter {
     fn write(&mut self, out: &mut dyn Write, analysis: &Analysis) -> io::Result<()> {
-        serde_json::to_writer(&mut *out, &AnalysisRecord::from(analysis))?;
+        serde_json::to_writer(
+            &mut *out,
+            &super::Versioned::new(&AnalysisRecord::from(analysis)),
+        )?;
         writeln!(out)?;
         out.flush()
     }

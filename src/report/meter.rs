@@ -32,7 +32,7 @@ pub fn write(out: &mut dyn Write, r: &MeterReport, a: &Analysis, format: Format)
     };
     match format {
         Format::Json => {
-            serde_json::to_writer(&mut *out, &record)?;
+            serde_json::to_writer(&mut *out, &super::Versioned::new(&record))?;
             writeln!(out)?;
         }
         Format::Csv => {
@@ -121,7 +121,7 @@ fn table(out: &mut dyn Write, r: &MeterReport, a: &Analysis) -> io::Result<()> {
             error_text(c.error_percent),
             num(c.limit_percent, 2),
             num(c.uncertainty_percent, 2),
-            c.verdict.as_str().to_uppercase(),
+            super::style::word(&c.verdict.as_str().to_uppercase()),
         )?;
         writeln!(out, "  {:<10}  as: {}", "", c.definition)?;
         if let Some(n) = &c.note {

@@ -11,6 +11,7 @@ pub mod html;
 mod json;
 pub mod meter;
 pub mod plot;
+pub mod style;
 pub(crate) mod table;
 pub mod wire;
 
@@ -28,6 +29,31 @@ pub trait Exporter {
     /// Called once after the last capture.
     fn finish(&mut self, _out: &mut dyn Write) -> io::Result<()> {
         Ok(())
+    }
+}
+
+/// The version of the layout of every JSON object tracephase writes (`"schema"`, the first key
+/// of each). It goes up by one when a key is renamed or removed, or changes its meaning or unit;
+/// new keys do not change it. The README keeps the history.
+pub const SCHEMA: u32 = 1;
+
+/// A record with the [`SCHEMA`] key before its own keys.
+#[derive(Debug, serde::Serialize)]
+pub struct Versioned<'a, T: serde::Serialize> {
+    /// The layout's version.
+    pub schema: u32,
+    /// The record's own keys.
+    #[serde(flatten)]
+    pub record: &'a T,
+}
+
+impl<'a, T: serde::Serialize> Versioned<'a, T> {
+    /// `record` with the current [`SCHEMA`].
+    pub fn new(record: &'a T) -> Self {
+        Versioned {
+            schema: SCHEMA,
+            record,
+        }
     }
 }
 
@@ -114,7 +140,7 @@ pub fn write_record<T: serde::Serialize>(
 ) -> io::Result<()> {
     match format {
         Format::Json => {
-            serde_json::to_writer(&mut *out, record)?;
+            serde_json::to_writer(&mut *out, &Versioned::new(record))?;
             writeln!(out)
         }
         Format::Csv => {

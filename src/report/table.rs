@@ -342,7 +342,11 @@ impl Exporter for TableExporter {
         if let Some(e) = &a.expected {
             expected_block(out, e)?;
         }
-        writeln!(out, "  status       {}", a.status().as_str())?;
+        writeln!(
+            out,
+            "  status       {}",
+            super::style::word(a.status().as_str())
+        )?;
         // warnings always (their absence is news), findings and notes when there are any
         for (label, severity) in [
             ("warnings", Severity::Warning),
@@ -434,7 +438,7 @@ fn expected_block(out: &mut dyn Write, e: &Expected) -> io::Result<()> {
     writeln!(
         out,
         "  verdict      {} ({})",
-        e.verdict.as_str().to_uppercase(),
+        super::style::word(&e.verdict.as_str().to_uppercase()),
         verdict_grounds(e)
     )?;
     if let Some(r) = &e.reason {
