@@ -166,7 +166,10 @@ fn colour_marks_verdicts_only_when_asked_or_on_a_terminal() {
     always.extend(["--color", "always"]);
     let text = output_with(&always, &[]);
     let verdict = text.lines().find(|l| l.contains("VERDICT")).unwrap();
-    assert!(verdict.contains(&format!("{RED_BOLD}FAIL\u{1b}[0m")), "{verdict:?}");
+    assert!(
+        verdict.contains(&format!("{RED_BOLD}FAIL\u{1b}[0m")),
+        "{verdict:?}"
+    );
     assert!(text.contains(&format!("{RED_BOLD}WEAK")), "{text}");
     // the same words, plain
     let plain = output_with(&BANK_DEMO, &[]);

@@ -9,7 +9,7 @@ use crate::batch::walk::{self, Discovery, Found};
 use crate::batch::{self, Job};
 use crate::cli::{BatchArgs, DistributionArg, OverrideArgs, SummaryFormatArg};
 use crate::report::html::{BatchRow, Digest, Entry, capture_html};
-use indicatif::ProgressBar;
+use indicatif::{ProgressBar, ProgressState, ProgressStyle};
 use std::collections::HashMap;
 use std::fs::{File, OpenOptions};
 use std::io::{BufRead, Write};
@@ -408,7 +408,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         .num_threads(jobs_n)
         .build()
         .map_err(|e| format!("cannot start {jobs_n} worker threads: {e}"))?;
-    let progress = ProgressBar::new(discovery.files.len() as u64);
+    let progress = ProgressBar::new(discovery.files.len() as u64).with_style(progress_style());
     let mut tally = Tally::default();
     // With --resume the final file is rewritten in sorted order from the rows' places in it
     // (kept rows where the earlier run wrote them, new rows where this run appended them).
@@ -719,4 +719,46 @@ fn drop_partial_line(path: &Path) -> std::io::Result<()> {
             .set_len(keep as u64)?;
     }
     Ok(())
+}
+
+/// The progress bar's layout (indicatif's template language; two keys of our own).
+const PROGRESS_TEMPLATE: &str =
+    "{elapsed_precise} [{wide_bar}] {pos}/{len} files, {files_per_s}, {time_left}";
+
+/// The batch progress bar (on stderr, drawn only on a terminal): elapsed time, the bar, files
+/// done of all, files per second and the time left at that rate.
+fn progress_style() -> ProgressStyle {
+    ProgressStyle::with_template(PROGRESS_TEMPLATE)
+        .unwrap_or_else(|_| ProgressStyle::default_bar())
+        .with_key(
+            "files_per_s",
+            |s: &ProgressState, w: &mut dyn std::fmt::Write| {
+                let _ = write!(w, "{:.1} files/s", s.per_sec());
+            },
+        )
+        .with_key(
+            "time_left",
+            |s: &ProgressState, w: &mut dyn std::fmt::Write| {
+                let left = s.eta().as_secs();
+                let _ = if s.pos() == 0 {
+                    write!(w, "time left unknown")
+                } else if left >= 3600 {
+                    write!(w, "{}h {:02}m left", left / 3600, left % 3600 / 60)
+                } else {
+                    write!(w, "{}m {:02}s left", left / 60, left % 60)
+                };
+            },
+        )
+}
+
+#[cfg(test)]
+mod progress_tests {
+    use super::*;
+
+    #[test]
+    fn the_progress_template_is_valid_and_names_its_rate_and_time_left() {
+        assert!(ProgressStyle::with_template(PROGRESS_TEMPLATE).is_ok());
+        assert!(PROGRESS_TEMPLATE.contains("{files_per_s}"));
+        assert!(PROGRESS_TEMPLATE.contains("{time_left}"));
+    }
 }
