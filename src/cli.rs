@@ -159,6 +159,10 @@ pub struct AnalyzeArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = FormatArg::Table)]
     pub format: FormatArg,
+    /// The harmonic spectrum: a table per capture after its figures (table), or a long CSV with
+    /// one row per file, channel and order instead of the figures (csv); JSON always holds it.
+    #[arg(long)]
+    pub spectrum: bool,
     /// Compare the measured angle with a circuit model (TOML) and give a verdict.
     #[arg(long, value_name = "MODEL.toml")]
     pub expect: Option<PathBuf>,

@@ -1576,3 +1576,37 @@ fn table_output_names_the_channels_with_their_columns_and_units() {
         r.stdout
     );
 }
+
+/// `analyze --format csv` sets its columns from the first file: a three-phase capture after a
+/// single-phase one is refused with the way out (its system keys would be lost without a word),
+/// and the single-phase rows are still written.
+#[test]
+fn csv_of_mixed_single_and_three_phase_captures_refuses_the_odd_one_by_name() {
+    let out = Command::cargo_bin("tracephase")
+        .unwrap()
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .args([
+            "analyze",
+            "--format",
+            "csv",
+            "fixtures/demo-plant-feeder-bank-on.csv",
+            "fixtures/three-phase/demo-riverside-board-ct-reversed.csv",
+            "fixtures/demo-plant-feeder-bank-off.csv",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains(
+            "demo-riverside-board-ct-reversed.csv: a three-phase capture after single-phase ones"
+        ) && err.contains("--format json"),
+        "{err}"
+    );
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert_eq!(
+        text.lines().count(),
+        3,
+        "header and the two single-phase rows"
+    );
+}

@@ -62,6 +62,8 @@ pub struct AnalyzeConfig {
     pub settings: Settings,
     /// Output format.
     pub format: Format,
+    /// The harmonic spectrum in the table, or as a long CSV.
+    pub spectrum: bool,
     /// A circuit model to compare with, and how to sample its tolerances.
     pub expect: Option<(Circuit, MonteCarloConfig)>,
     /// Where to write an HTML report.
@@ -233,6 +235,7 @@ impl AnalyzeConfig {
             load,
             settings,
             format: format(a.format),
+            spectrum: a.spectrum,
             expect,
             report: a.report.clone(),
             plot_dir: a.plot_dir.clone(),
@@ -321,12 +324,13 @@ pub fn run_analyze(
     out: &mut dyn Write,
     err: &mut dyn Write,
 ) -> Outcome {
-    let mut exporter = report::exporter(cfg.format);
+    let mut exporter = report::exporter(cfg.format, cfg.spectrum);
     let mut outcome = Outcome::Ok;
     let mut io_ok = exporter.begin(out).is_ok();
     // kept only when a report or plots are asked for
     let keep = cfg.report.is_some() || cfg.plot_dir.is_some();
     let mut kept: Vec<html::FileResult> = Vec::new();
+    let mut csv_kind: Option<bool> = None;
     for path in files {
         let result = capture::load(path, &cfg.load)
             .map_err(|e| e.to_string())
@@ -343,6 +347,27 @@ pub fn run_analyze(
                     predicted = a.compare_with_model(circuit, mc);
                     if a.expected.as_ref().is_some_and(|e| e.failed()) {
                         outcome = outcome.worst(Outcome::VerdictFailed);
+                    }
+                }
+                // CSV columns are set by the first capture: a capture of the other kind would
+                // lose its own keys without a word
+                let three = a.three_phase.is_some();
+                if let (Format::Csv, false) = (cfg.format, cfg.spectrum) {
+                    match csv_kind {
+                        Some(first) if first != three => {
+                            let _ = writeln!(
+                                err,
+                                "error: {}: a {} capture after {} ones: the CSV's columns are \
+                                 set by the first file; analyse single-phase and three-phase \
+                                 captures in separate runs, or use --format json",
+                                a.path.display(),
+                                if three { "three-phase" } else { "single-phase" },
+                                if three { "single-phase" } else { "three-phase" },
+                            );
+                            outcome = outcome.worst(Outcome::InputErrors);
+                            continue;
+                        }
+                        _ => csv_kind = Some(three),
                     }
                 }
                 io_ok &= exporter.write(out, &a).is_ok();

@@ -11,6 +11,7 @@ pub mod html;
 mod json;
 pub mod meter;
 pub mod plot;
+mod spectrum;
 pub mod style;
 pub(crate) mod table;
 pub mod wire;
@@ -121,12 +122,14 @@ pub enum Format {
     Csv,
 }
 
-/// The exporter for a format.
-pub fn exporter(format: Format) -> Box<dyn Exporter> {
-    match format {
-        Format::Table => Box::new(table::TableExporter::default()),
-        Format::Json => Box::new(json::JsonExporter),
-        Format::Csv => Box::new(csv::CsvExporter::default()),
+/// The exporter for a format; `spectrum` adds the harmonic spectrum to the table, or makes the
+/// CSV the long spectrum (JSON always holds it).
+pub fn exporter(format: Format, spectrum: bool) -> Box<dyn Exporter> {
+    match (format, spectrum) {
+        (Format::Table, _) => Box::new(table::TableExporter::with_spectrum(spectrum)),
+        (Format::Json, _) => Box::new(json::JsonExporter),
+        (Format::Csv, false) => Box::new(csv::CsvExporter::default()),
+        (Format::Csv, true) => Box::new(spectrum::SpectrumCsvExporter::default()),
     }
 }
 

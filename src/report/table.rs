@@ -14,6 +14,17 @@ use std::io::{self, Write};
 #[derive(Debug, Default)]
 pub struct TableExporter {
     written: usize,
+    spectrum: bool,
+}
+
+impl TableExporter {
+    /// A table exporter; `spectrum` prints each capture's harmonic spectrum after its figures.
+    pub fn with_spectrum(spectrum: bool) -> Self {
+        TableExporter {
+            written: 0,
+            spectrum,
+        }
+    }
 }
 
 /// `x` with `sig` significant digits (no exponent), or "n/a".
@@ -361,6 +372,9 @@ impl Exporter for TableExporter {
                 let head = if k == 0 { label } else { "" };
                 writeln!(out, "  {head:<13}- {w}")?;
             }
+        }
+        if self.spectrum {
+            super::spectrum::table(out, a)?;
         }
         out.flush()
     }
