@@ -1,6 +1,8 @@
 #!/usr/bin/env bash
 # End-to-end benchmark of `tracephase analyze`: speed (MB/s, process start to exit) and peak
-# memory on a generated 2-million-row CSV, against a pandas + numpy script doing the same job.
+# memory on a generated 2-million-row CSV, against two pandas + numpy peers: a fuller reference
+# doing the same job (reference_pandas.py) and the lean peer an engineer would write instead
+# (lean_pandas.py: read_csv and one FFT per channel), with both speed ratios printed in one run.
 #
 # Usage: benches/end_to_end.sh [RUNS]        (run by hand from any directory; not run by CI)
 # Needs: cargo, python3 (with venv and pip; PyPI reachable the first time). Uses hyperfine for
@@ -90,11 +92,20 @@ if [ "${SKIP_PANDAS:-0}" != 1 ]; then
     OUT=$("$VENV/bin/python" benches/reference_pandas.py "$FILE")
     echo "${OUT:0:300} ..."
     read -r PANDAS_MEDIAN PANDAS_MIN PANDAS_RSS < <(measure pandas "$RUNS" "$VENV/bin/python" benches/reference_pandas.py "$FILE")
+    echo
+    echo "== lean peer: read_csv + one FFT per channel ($RUNS runs)"
+    OUT=$("$VENV/bin/python" benches/lean_pandas.py "$FILE")
+    echo "${OUT:0:300} ..."
+    read -r LEAN_MEDIAN LEAN_MIN LEAN_RSS < <(measure lean "$RUNS" "$VENV/bin/python" benches/lean_pandas.py "$FILE")
+fi
+if command -v wc >/dev/null; then
+    read -r WC_MEDIAN WC_MIN WC_RSS < <(measure wc "$RUNS" wc -l "$FILE")
 fi
 
 echo
 echo "== summary ($(nproc) cores, load average $(cut -d' ' -f1-3 /proc/loadavg))"
-python3 - "$BYTES" "$TP_MEDIAN" "$TP_MIN" "$TP_RSS" "$LIMIT_BYTES" "$PANDAS_MEDIAN" "${PANDAS_RSS:-}" <<'PY'
+python3 - "$BYTES" "$TP_MEDIAN" "$TP_MIN" "$TP_RSS" "$LIMIT_BYTES" "$PANDAS_MEDIAN" "${PANDAS_RSS:-}" \
+    "${LEAN_MEDIAN:-}" "${LEAN_RSS:-}" "${WC_MEDIAN:-}" <<'PY'
 import sys
 size, med, best, rss_kb, limit = int(sys.argv[1]), float(sys.argv[2]), float(sys.argv[3]), int(sys.argv[4]), int(sys.argv[5])
 pandas = float(sys.argv[6]) if sys.argv[6] else None
@@ -110,5 +121,15 @@ print(f"  peak RSS <= {limit/1e6:.0f} MB ....... {verdict(rss <= limit)} ({rss/l
 if pandas:
     ratio = pandas / med
     print(f"pandas + numpy: median {pandas*1e3:.0f} ms, peak RSS {sys.argv[7]} KB")
-    print(f"  speed ratio {ratio:.1f}x; goal >= 5x ... {verdict(ratio >= 5)}")
+    print(f"  speed ratio {ratio:.1f}x against the fuller reference")
+lean = float(sys.argv[8]) if sys.argv[8] else None
+if lean:
+    ratio = lean / med
+    lean_rss = int(sys.argv[9])
+    print(f"lean peer (read_csv + one FFT per channel): median {lean*1e3:.0f} ms, peak RSS {lean_rss} KB")
+    print(f"  speed ratio {ratio:.1f}x; goal >= 5x ... {verdict(ratio >= 5)}; stretch >= 10x ... {verdict(ratio >= 10)}")
+    print(f"  peak RSS {rss_kb / lean_rss:.2f} of the lean peer's; goal <= 0.5 ... {verdict(rss_kb <= 0.5 * lean_rss)}")
+wc = float(sys.argv[10]) if sys.argv[10] else None
+if wc:
+    print(f"wc -l on the same file: median {wc*1e3:.1f} ms; tracephase takes {med / wc:.1f}x that (stretch <= 10x ... {verdict(med <= 10 * wc)})")
 PY
