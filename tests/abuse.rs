@@ -87,3 +87,184 @@ fn a_value_too_large_for_a_number_is_not_called_not_a_number() {
         "{err}"
     );
 }
+
+/// The demo plant's feeder captures, bank out and in (in the tree).
+fn plant(name: &str) -> String {
+    format!(
+        "{}/fixtures/demo-plant-feeder-bank-{name}.csv",
+        env!("CARGO_MANIFEST_DIR")
+    )
+}
+
+fn nameplate_with_steps(dir: &std::path::Path, steps: &str) -> std::path::PathBuf {
+    let p = dir.join("np.toml");
+    std::fs::write(
+        &p,
+        format!("rated_kvar=75\nrated_voltage=400\nrated_frequency_hz=50\nsteps={steps}\n"),
+    )
+    .unwrap();
+    p
+}
+
+#[test]
+fn a_huge_step_count_in_a_nameplate_is_refused_before_it_is_allocated() {
+    // steps = 1e12 aborted with signal 6 ("memory allocation of 8000000000000 bytes failed")
+    let dir = TempDir::new().unwrap();
+    // 2^64 − 1 panicked on the capacity
+    for steps in ["1000000000000", "18446744073709551615", "21"] {
+        let np = nameplate_with_steps(dir.path(), steps);
+        let (off, on) = (plant("off"), plant("on"));
+        let (code, err) = run(&[
+            "bank",
+            "--before",
+            &off,
+            "--after",
+            &on,
+            "--nameplate",
+            np.to_str().unwrap(),
+        ]);
+        assert_eq!(code, Some(2), "{steps}: {err}");
+        assert_eq!(err.lines().count(), 1, "{err}");
+        // named as the file's key, not as the option
+        assert!(
+            err.contains(&format!("np.toml: steps must be from 1 to 20, not {steps}")),
+            "{err}"
+        );
+    }
+    // 3e8 is not a whole number: the file's line is named
+    let np = nameplate_with_steps(dir.path(), "3e8");
+    let (off, on) = (plant("off"), plant("on"));
+    let (code, err) = run(&[
+        "bank",
+        "--before",
+        &off,
+        "--after",
+        &on,
+        "--nameplate",
+        np.to_str().unwrap(),
+    ]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(err.contains("np.toml: line 4"), "{err}");
+}
+
+#[test]
+fn a_huge_step_count_option_is_refused_before_it_is_allocated() {
+    // --steps 2^64 − 1 panicked on the capacity, 3e8 reserved 2.4 GB before the check
+    let (off, on) = (plant("off"), plant("on"));
+    for steps in ["18446744073709551615", "300000000", "1000000000000"] {
+        let (code, err) = run(&[
+            "bank",
+            "--before",
+            &off,
+            "--after",
+            &on,
+            "--rated-kvar",
+            "75",
+            "--rated-voltage",
+            "400",
+            "--rated-frequency",
+            "50",
+            "--steps",
+            steps,
+        ]);
+        assert_eq!(code, Some(2), "{steps}: {err}");
+        assert_eq!(
+            err.trim_end(),
+            format!("error: --steps must be from 1 to 20, not {steps}")
+        );
+    }
+}
+
+#[test]
+fn a_nameplate_value_from_the_file_is_named_as_the_files_key() {
+    let dir = TempDir::new().unwrap();
+    let np = dir.path().join("np.toml");
+    std::fs::write(
+        &np,
+        "rated_kvar=-75\nrated_voltage=400\nrated_frequency_hz=50\n",
+    )
+    .unwrap();
+    let (off, on) = (plant("off"), plant("on"));
+    let n = np.to_str().unwrap();
+    let (code, err) = run(&["bank", "--before", &off, "--after", &on, "--nameplate", n]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("np.toml: rated_kvar must be a positive number, not -75"),
+        "{err}"
+    );
+    assert!(!err.contains("--rated-kvar"), "{err}");
+    // the option overrides the file, and its own bad value is named as the option
+    let (code, err) = run(&[
+        "bank",
+        "--before",
+        &off,
+        "--after",
+        &on,
+        "--nameplate",
+        n,
+        "--rated-kvar=-5",
+    ]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("--rated-kvar must be a positive number, not -5"),
+        "{err}"
+    );
+}
+
+#[test]
+fn a_huge_step_count_from_a_sidecar_fails_its_capture_not_the_batch() {
+    let dir = TempDir::new().unwrap();
+    let site = dir.path().join("plant");
+    std::fs::create_dir(&site).unwrap();
+    for name in ["off", "on"] {
+        std::fs::copy(
+            plant(name),
+            site.join(format!("demo-plant-feeder-bank-{name}.csv")),
+        )
+        .unwrap();
+    }
+    nameplate_with_steps(&site, "1000000000000");
+    std::fs::write(
+        site.join("tracephase.toml"),
+        "[[files]]\npattern = \"*-bank-on.csv\"\n[files.bank]\nnameplate = \"np.toml\"\n\
+         before = \"demo-plant-feeder-bank-off.csv\"\n",
+    )
+    .unwrap();
+    let out = dir.path().join("summary.csv");
+    let (code, err) = run(&[
+        "batch",
+        site.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("np.toml: steps must be from 1 to 20, not 1000000000000"),
+        "{err}"
+    );
+    let text = std::fs::read_to_string(&out).unwrap();
+    let rows: Vec<&str> = text.lines().skip(1).collect();
+    assert_eq!(rows.len(), 2, "{text}");
+    // the bank-out capture is analysed; the bank-in one has its error row
+    assert!(rows[0].contains("bank-off.csv,ok") || rows[0].contains("bank-off.csv,warning"));
+    assert!(rows[1].contains("bank-on.csv,error"), "{}", rows[1]);
+
+    // written in the sidecar itself, the count is refused with the sidecar's line
+    std::fs::write(
+        site.join("tracephase.toml"),
+        "[[files]]\npattern = \"*-bank-on.csv\"\n[files.bank]\nrated_kvar = 75\n\
+         rated_voltage = 400\nrated_frequency = 50\nsteps = 1000000000000\n\
+         before = \"demo-plant-feeder-bank-off.csv\"\n",
+    )
+    .unwrap();
+    let (code, err) = run(&[
+        "batch",
+        site.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(err.contains("tracephase.toml: line 7"), "{err}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert_eq!(text.lines().count(), 3, "{text}");
+}

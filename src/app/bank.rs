@@ -36,11 +36,16 @@ pub fn resolve_nameplate(a: &BankArgs) -> Result<Nameplate, ConfigError> {
         transformer_kva: a.transformer_kva,
         transformer_z_percent: a.transformer_z_percent,
     };
+    // a value is named where it was given: the option, or the key in the nameplate file
+    let name = |k: &'static str| match &a.nameplate {
+        Some(p) if !options.has(k) && file.has(k) => format!("{}: {k}", p.display()),
+        _ => option_name(k),
+    };
     let keys = KeyNames {
-        name: option_name,
+        name: &name,
         where_given: "an option or in --nameplate",
     };
-    Nameplate::resolve(&options.or(file), &keys).map_err(ConfigError)
+    Nameplate::resolve(&options.clone().or(file.clone()), &keys).map_err(ConfigError)
 }
 
 /// Loads and analyses one capture, or says why not in one line.

@@ -401,7 +401,16 @@ fn resolve(l: &Layer, capture: &Path, files: &mut FileCache) -> Result<Setup, St
                 .or_insert_with(|| NameplateFile::load(p).map_err(|e| e.to_string()))
                 .clone()?,
         };
-        let nameplate = Nameplate::resolve(&b.values.clone().or(file), &KeyNames::FILE)
+        // a value from the nameplate file is named with the file, one from the sidecar as its key
+        let name = |k: &'static str| match &b.nameplate {
+            Some(p) if !b.values.has(k) && file.has(k) => format!("{}: {k}", p.display()),
+            _ => k.to_string(),
+        };
+        let keys = KeyNames {
+            name: &name,
+            ..KeyNames::FILE
+        };
+        let nameplate = Nameplate::resolve(&b.values.clone().or(file.clone()), &keys)
             .map_err(|e| format!("bank: {e}"))?;
         let folder = capture.parent().unwrap_or(Path::new(""));
         Some(BankSpec {

@@ -6,6 +6,7 @@
 //! (`v_scale = 100` or `100.0`), a channel by name or number (`voltage = "CH1"` or `voltage = 2`),
 //! `true`/`false` for a flag. Keys of earlier versions ([`OLD_KEYS`]) are still read, with a note.
 
+use crate::check::bank::MAX_STEPS;
 use crate::check::tolerance::MAX_DRAWS;
 
 /// Where a key lives in the file.
@@ -171,7 +172,7 @@ pub const KEYS: &[Key] = &[
     key(Bank, "rated_kvar", Number(Positive), "bank --rated-kvar"),
     key(Bank, "rated_voltage", Number(Positive), "bank --rated-voltage"),
     key(Bank, "rated_frequency", Number(Positive), "bank --rated-frequency"),
-    key(Bank, "steps", Whole(1, u64::MAX), "bank --steps"),
+    key(Bank, "steps", Whole(1, MAX_STEPS as u64), "bank --steps"),
     key(Bank, "step_kvar", Numbers, "bank --step-kvar"),
     key(Bank, "three_phase", Flag, "bank --three-phase"),
     key(Bank, "standard", Text, "bank --standard"),

@@ -26,7 +26,7 @@ mod phases;
 
 pub use budget::{BudgetTerm, RatioBudget};
 pub use nameplate::{
-    CapacitorStandard, KeyNames, Nameplate, NameplateError, NameplateFile, Supply,
+    CapacitorStandard, KeyNames, MAX_STEPS, Nameplate, NameplateError, NameplateFile, Supply,
 };
 pub use phases::{BankPhase, PhaseBalance};
 

@@ -186,21 +186,48 @@ impl NameplateFile {
     pub fn is_empty(&self) -> bool {
         *self == NameplateFile::default()
     }
+
+    /// Whether the key (a field name) holds a value.
+    pub fn has(&self, key: &str) -> bool {
+        match key {
+            "rated_kvar" => self.rated_kvar.is_some(),
+            "rated_voltage" => self.rated_voltage.is_some(),
+            "rated_frequency_hz" => self.rated_frequency_hz.is_some(),
+            "steps" => self.steps.is_some(),
+            "step_kvar" => self.step_kvar.is_some(),
+            "three_phase" => self.three_phase.is_some(),
+            "standard" => self.standard.is_some(),
+            "target_pf" => self.target_pf.is_some(),
+            "supply_mva" => self.supply_mva.is_some(),
+            "transformer_kva" => self.transformer_kva.is_some(),
+            "transformer_z_percent" => self.transformer_z_percent.is_some(),
+            _ => false,
+        }
+    }
 }
+
+/// The most steps a bank may have: checked before the steps are listed, so a mistyped count
+/// can never ask for memory.
+pub const MAX_STEPS: usize = 20;
 
 /// The key names [`Nameplate::resolve`] uses in its messages, and where a missing value may be
 /// given.
-pub struct KeyNames {
-    /// The name of a key (a `NameplateFile` field name) as the user writes it.
-    pub name: fn(&'static str) -> String,
+pub struct KeyNames<'a> {
+    /// The name of a key (a `NameplateFile` field name) as the user writes it, where it was
+    /// written (an option, or a key of a named file).
+    pub name: &'a dyn Fn(&'static str) -> String,
     /// Where a missing value can be given, for the message.
-    pub where_given: &'static str,
+    pub where_given: &'a str,
 }
 
-impl KeyNames {
+fn plain_key(k: &'static str) -> String {
+    k.to_string()
+}
+
+impl KeyNames<'static> {
     /// Names as in the nameplate file and a sidecar's `[bank]` table.
-    pub const FILE: KeyNames = KeyNames {
-        name: |k| k.to_string(),
+    pub const FILE: KeyNames<'static> = KeyNames {
+        name: &plain_key,
         where_given: "the nameplate file or the [bank] table",
     };
 }
@@ -208,7 +235,7 @@ impl KeyNames {
 impl Nameplate {
     /// Checks a merged nameplate and fills the defaults: one step, the default standard, target
     /// PF 0.95. Messages name keys through `keys`.
-    pub fn resolve(f: &NameplateFile, keys: &KeyNames) -> Result<Nameplate, String> {
+    pub fn resolve(f: &NameplateFile, keys: &KeyNames<'_>) -> Result<Nameplate, String> {
         let name = keys.name;
         let need = |v: Option<f64>, key: &'static str| -> Result<f64, String> {
             match v {
@@ -226,6 +253,13 @@ impl Nameplate {
         let rated_frequency_hz = need(f.rated_frequency_hz, "rated_frequency_hz")?;
         let steps_kvar = match (&f.step_kvar, f.steps) {
             (Some(list), _) => {
+                if list.len() > MAX_STEPS {
+                    return Err(format!(
+                        "{} lists {} steps: at most {MAX_STEPS} are supported",
+                        name("step_kvar"),
+                        list.len()
+                    ));
+                }
                 if list.is_empty() || list.iter().any(|q| !(q.is_finite() && *q > 0.0)) {
                     return Err(format!("{} needs positive kvar values", name("step_kvar")));
                 }
@@ -237,13 +271,16 @@ impl Nameplate {
                 }
                 list.clone()
             }
-            (None, Some(0)) => return Err(format!("{} must be at least 1", name("steps"))),
+            // the count is checked before the list is made: a mistyped 1e12 asks for no memory
+            (None, Some(n)) if !(1..=MAX_STEPS).contains(&n) => {
+                return Err(format!(
+                    "{} must be from 1 to {MAX_STEPS}, not {n}",
+                    name("steps")
+                ));
+            }
             (None, Some(n)) => vec![rated_kvar / n as f64; n],
             (None, None) => vec![rated_kvar],
         };
-        if steps_kvar.len() > 20 {
-            return Err("at most 20 steps are supported".into());
-        }
         let standard = match f.standard.as_deref() {
             None => CapacitorStandard::default(),
             Some(s) => CapacitorStandard::parse(s).ok_or_else(|| {
