@@ -12,17 +12,46 @@
 //! of the Cramér-Rao bound's standard deviation; many sub-records approach it.
 
 use super::fit::Basis;
-use rustfft::FftPlanner;
+use rustfft::{Fft, FftPlanner};
 use rustfft::num_complex::Complex64;
 use std::f64::consts::PI;
+use std::sync::Arc;
 
 /// Harmonic order of the sub-record fits when they span whole cycles.
 pub const REFINE_ORDER: usize = 15;
 
+/// FFT plans kept per thread, the most recently used first: a batch of captures of one length
+/// (or a few) plans its FFT once instead of once per capture, and a batch of captures of all
+/// different lengths holds no more than this many plans (a planner that kept every plan grew by
+/// about 0.6 MB per distinct length: 300 lengths took 199 MB).
+const PLANS_KEPT: usize = 4;
+
+/// A plan and the length it is for.
+type Plan = (usize, Arc<dyn Fft<f64>>);
+
 thread_local! {
-    /// One planner per thread: it keeps the plans it made, and a batch of captures of one length
-    /// plans its FFT once instead of once per capture.
-    static PLANNER: std::cell::RefCell<FftPlanner<f64>> = std::cell::RefCell::new(FftPlanner::new());
+    static PLANS: std::cell::RefCell<Vec<Plan>> = const { std::cell::RefCell::new(Vec::new()) };
+}
+
+/// A forward FFT of length `n`, from this thread's few kept plans or planned afresh (a planner of
+/// its own, dropped with everything it cached but the plan itself).
+fn forward_plan(n: usize) -> Arc<dyn Fft<f64>> {
+    PLANS.with(|plans| {
+        let mut plans = plans.borrow_mut();
+        let plan = match plans.iter().position(|(len, _)| *len == n) {
+            Some(at) => plans.remove(at).1,
+            None => FftPlanner::new().plan_fft_forward(n),
+        };
+        plans.insert(0, (n, Arc::clone(&plan)));
+        plans.truncate(PLANS_KEPT);
+        plan
+    })
+}
+
+/// How many FFT plans this thread holds (for the test that they stay bounded).
+#[cfg(test)]
+fn plans_held() -> usize {
+    PLANS.with(|p| p.borrow().len())
 }
 
 /// Largest FFT the coarse search uses.
@@ -82,9 +111,7 @@ fn spectrum_peak(x: &[f64], fs: f64) -> Option<f64> {
             Complex64::new((v - mean) * w, 0.0)
         })
         .collect();
-    PLANNER
-        .with(|p| p.borrow_mut().plan_fft_forward(n))
-        .process(&mut buf);
+    forward_plan(n).process(&mut buf);
     // the magnitude as the root of the squared norm: much cheaper than `hypot`, and no sample
     // here is large enough for the square to overflow (see `MAX_MAGNITUDE`)
     let mag: Vec<f64> = buf[..n / 2].iter().map(|c| c.norm_sqr().sqrt()).collect();
@@ -243,6 +270,25 @@ fn line_slope(x: &[f64], y: &[f64]) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A batch of captures of 300 different lengths once kept a plan for each (199 MB for 300
+    /// 20 000-sample WAVs against 11 MB for equal lengths): the plans held stay few, and a plan
+    /// taken from the kept ones gives what a fresh one gives.
+    #[test]
+    fn fft_plans_of_many_lengths_are_not_all_kept() {
+        let fs = 10_000.0;
+        let first = coarse(&wave(20_000, fs, 50.0), fs);
+        for k in 0..300 {
+            let n = 20_000 + 7 * k;
+            let f = coarse(&wave(n, fs, 50.0), fs).unwrap();
+            assert!((f - 50.0).abs() < 0.5, "{n}: {f}");
+            assert!(plans_held() <= PLANS_KEPT);
+        }
+        assert_eq!(plans_held(), PLANS_KEPT);
+        // planned afresh after being dropped, then taken from the kept plans: the same bits
+        assert_eq!(coarse(&wave(20_000, fs, 50.0), fs), first);
+        assert_eq!(coarse(&wave(20_000, fs, 50.0), fs), first);
+    }
 
     fn wave(n: usize, fs: f64, f: f64) -> Vec<f64> {
         (0..n)
