@@ -268,3 +268,44 @@ fn a_huge_step_count_from_a_sidecar_fails_its_capture_not_the_batch() {
     let text = std::fs::read_to_string(&out).unwrap();
     assert_eq!(text.lines().count(), 3, "{text}");
 }
+
+#[test]
+fn an_unwritable_report_path_leaves_an_existing_summary_as_it_was() {
+    // the summary was truncated to its header before the report's folder was found missing
+    let dir = TempDir::new().unwrap();
+    let site = dir.path().join("site");
+    std::fs::create_dir(&site).unwrap();
+    for name in ["before", "after"] {
+        std::fs::copy(
+            format!(
+                "{}/fixtures/demo-workshop-compressor-{name}-capacitor.csv",
+                env!("CARGO_MANIFEST_DIR")
+            ),
+            site.join(format!("{name}.csv")),
+        )
+        .unwrap();
+    }
+    let out = dir.path().join("summary.csv");
+    let s = site.to_str().unwrap();
+    let o = out.to_str().unwrap();
+    let (code, err) = run(&["batch", s, "--out", o]);
+    assert_eq!(code, Some(0), "{err}");
+    let first = std::fs::read(&out).unwrap();
+    assert_eq!(String::from_utf8_lossy(&first).lines().count(), 3);
+    let folder = dir.path().join("report-folder");
+    std::fs::create_dir(&folder).unwrap();
+    let missing = dir.path().join("no-such-folder").join("r.html");
+    for report in [&missing, &folder] {
+        for resume in [false, true] {
+            let mut args = vec!["batch", s, "--out", o, "--report", report.to_str().unwrap()];
+            if resume {
+                args.push("--resume");
+            }
+            let (code, err) = run(&args);
+            assert_eq!(code, Some(2), "{err}");
+            assert_eq!(err.lines().count(), 1, "{err}");
+            assert!(err.contains("cannot write the report"), "{err}");
+            assert_eq!(std::fs::read(&out).unwrap(), first, "{report:?}, resume {resume}");
+        }
+    }
+}

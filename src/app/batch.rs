@@ -370,6 +370,31 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         SummaryFormat::Csv => summary::csv_line(&columns).map_err(|e| e.to_string())?,
         SummaryFormat::Json => String::new(),
     };
+    // Every output is checked before any is touched: the report's spool file is made beside the
+    // report (so its folder is writable) before the summary is created or truncated.
+    if let Some(p) = &a.report {
+        for stale in remove_stale_spools(p) {
+            let _ = writeln!(
+                err,
+                "note: removed {}, the spool file of a run that was stopped",
+                stale.display()
+            );
+        }
+    }
+    interrupt::arm();
+    let mut spool = match &a.report {
+        Some(p) if p.is_dir() => {
+            return Err(format!(
+                "{}: cannot write the report: it is a folder",
+                p.display()
+            ));
+        }
+        Some(p) => Some(
+            Spool::create(p)
+                .map_err(|e| format!("{}: cannot write the report: {e}", p.display()))?,
+        ),
+        None => None,
+    };
     let past: HashMap<String, PastRow> = match (&a.out, a.resume) {
         (Some(p), true) => {
             summary::check_resumable(p, format, &columns)?;
@@ -417,23 +442,6 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     // the report as rows are written; the rest of the report needs only a digest and a summary
     // row of each capture, so memory stays flat here too.
     let keep = a.report.is_some();
-    if let Some(p) = &a.report {
-        for stale in remove_stale_spools(p) {
-            let _ = writeln!(
-                err,
-                "note: removed {}, the spool file of a run that was stopped",
-                stale.display()
-            );
-        }
-    }
-    interrupt::arm();
-    let mut spool = match &a.report {
-        Some(p) => Some(
-            Spool::create(p)
-                .map_err(|e| format!("{}: cannot write the report: {e}", p.display()))?,
-        ),
-        None => None,
-    };
     let mut digests: Vec<Digest> = Vec::new();
     let mut report_rows: Vec<BatchRow> = Vec::new();
     // Captures are planned, analysed on the pool and written back in order, each row as soon as
