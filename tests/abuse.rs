@@ -305,7 +305,11 @@ fn an_unwritable_report_path_leaves_an_existing_summary_as_it_was() {
             assert_eq!(code, Some(2), "{err}");
             assert_eq!(err.lines().count(), 1, "{err}");
             assert!(err.contains("cannot write the report"), "{err}");
-            assert_eq!(std::fs::read(&out).unwrap(), first, "{report:?}, resume {resume}");
+            assert_eq!(
+                std::fs::read(&out).unwrap(),
+                first,
+                "{report:?}, resume {resume}"
+            );
         }
     }
 }

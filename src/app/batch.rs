@@ -478,7 +478,10 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         let file = job.path.display().to_string();
         if let Some(p) = past.get(&file)
             && p.settings_hash == job.settings_hash
-            && batch::fingerprint_file(&job.path).ok().as_deref() == Some(p.content_hash.as_str())
+            && batch::content::fingerprint_capture(&job.path)
+                .ok()
+                .as_deref()
+                == Some(p.content_hash.as_str())
         {
             // The row is kept as it was; a report still needs the capture's section, so the
             // capture is read and analysed again for it (same file, same settings: same figures).

@@ -9,6 +9,7 @@
 //! - [`process`] loads, analyses and checks one capture; whatever goes wrong becomes an `error`
 //!   row naming the file, never a stop.
 
+pub mod content;
 pub mod ordered;
 pub mod sidecar;
 pub mod summary;
@@ -457,14 +458,37 @@ pub fn process(job: &Job) -> Row {
 }
 
 /// [`process`], also returning the analysis and the circuit model's prediction (for a report)
-/// when there is one.
+/// when there is one. The row's content fingerprint is of the bytes analysed
+/// ([`content::read_checked`]); a capture that changed while it was read is an error row.
 pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Expectation>)>) {
+    let ((mut row, kept), hash) = content::read_checked(&job.path, || analyse_row(job));
+    match hash {
+        Ok(h) => {
+            row.content_hash = h;
+            (row, kept)
+        }
+        Err(content::Changed) => {
+            row.status = Status::Error;
+            row.message = format!(
+                "{}: the file changed while it was read: run again (or with --resume) to \
+                 analyse it as it is now",
+                row.file
+            );
+            row.result = None;
+            row.verdict_failed = false;
+            row.not_a_capture = false;
+            (row, None)
+        }
+    }
+}
+
+fn analyse_row(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Expectation>)>) {
     let file = job.path.display().to_string();
     let mut row = Row {
         file: file.clone(),
         status: Status::Error,
         message: String::new(),
-        content_hash: fingerprint_file(&job.path).unwrap_or_default(),
+        content_hash: String::new(),
         settings_hash: job.settings_hash.clone(),
         settings: job.settings_json.clone(),
         result: None,

@@ -420,7 +420,7 @@ pub fn record_times(cfg: &Config) -> RecordTimes {
 }
 
 /// The `.dat` file beside a `.cfg`, whatever the case of its extension.
-fn dat_beside(cfg: &Path) -> Result<PathBuf, LoadError> {
+pub(crate) fn dat_beside(cfg: &Path) -> Result<PathBuf, LoadError> {
     for ext in ["dat", "DAT", "Dat"] {
         let p = cfg.with_extension(ext);
         if p.is_file() {

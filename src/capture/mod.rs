@@ -473,6 +473,19 @@ pub fn load(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError> {
     }
 }
 
+/// The files [`load`] reads for the capture at `path`: the file itself, and for a COMTRADE
+/// record's `.cfg` the `.dat` beside it (when there is one).
+pub fn content_files(path: &Path) -> Vec<std::path::PathBuf> {
+    let mut files = vec![path.to_path_buf()];
+    let cfg = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("cfg"));
+    if cfg && let Ok(dat) = comtrade::dat_beside(path) {
+        files.push(dat);
+    }
+    files
+}
+
 /// Loads the whole record.
 fn load_whole(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError> {
     let err = |kind| LoadError::new(path, None, kind);

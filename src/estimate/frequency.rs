@@ -12,8 +12,8 @@
 //! of the Cramér-Rao bound's standard deviation; many sub-records approach it.
 
 use super::fit::Basis;
-use rustfft::{Fft, FftPlanner};
 use rustfft::num_complex::Complex64;
+use rustfft::{Fft, FftPlanner};
 use std::f64::consts::PI;
 use std::sync::Arc;
 
