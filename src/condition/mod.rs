@@ -244,17 +244,32 @@ pub fn clipping(y: &[f64]) -> Option<f64> {
     clipped.then(|| 100.0 * (n_hi + n_lo) as f64 / n)
 }
 
-/// Number of distinct values among about 1024 evenly spread samples, when it is under 20 (a
-/// trace that uses only a few converter steps); `None` otherwise.
+/// Fewest distinct values a trace may use before it is flagged.
+const FEW_LEVELS: usize = 20;
+
+/// Number of distinct values in the whole trace, when it is under 20 (a trace that uses only a
+/// few converter steps); `None` otherwise, or for fewer than 256 samples.
+///
+/// Every sample is looked at, stopping at the 20th distinct value (at once on any real trace).
+/// Counting a spread subset instead (every `len/1024`-th sample) failed when that stride shared
+/// a factor with the period: the subset then held the same few phases over and over, and a
+/// 1 M-row capture using 202 levels was reported as using 13.
 pub fn few_levels(y: &[f64]) -> Option<usize> {
-    let step = (y.len() / 1024).max(1);
-    let mut s: Vec<f64> = y.iter().step_by(step).copied().collect();
-    if s.len() < 256 {
+    if y.len() < 256 {
         return None;
     }
-    s.sort_unstable_by(f64::total_cmp);
-    s.dedup();
-    (s.len() < 20).then_some(s.len())
+    let mut seen: Vec<u64> = Vec::with_capacity(FEW_LEVELS);
+    for x in y {
+        // -0.0 and 0.0 are one level
+        let bits = if *x == 0.0 { 0 } else { x.to_bits() };
+        if !seen.contains(&bits) {
+            if seen.len() + 1 == FEW_LEVELS {
+                return None;
+            }
+            seen.push(bits);
+        }
+    }
+    Some(seen.len())
 }
 
 #[cfg(test)]
@@ -279,6 +294,31 @@ mod tests {
         let pct = clipping(&quantised_sine(4000, 8, 0.81)).unwrap();
         assert!(pct > 20.0, "{pct}");
         assert_eq!(clipping(&quantised_sine(4000, 16, 1.0)), None);
+    }
+
+    /// The fault probe's case: 1 M samples of a sine using about 200 levels, at 208 samples per
+    /// cycle (10.4 kS/s at 50 Hz), so every 976th sample (the old spread subset) fell on the same
+    /// 13 phases: 13 levels were counted and a false `low-resolution` warning given.
+    #[test]
+    fn a_trace_of_202_levels_is_not_counted_as_a_few() {
+        let q = 2.0 / 201.0;
+        let y: Vec<f64> = (0..1_000_000)
+            .map(|k| ((2.0 * PI * k as f64 / 208.0 + 0.1).sin() / q).round() * q)
+            .collect();
+        let mut naive = y.clone();
+        naive.sort_by(f64::total_cmp);
+        naive.dedup();
+        assert!(naive.len() > 150, "{} levels", naive.len());
+        let stride: Vec<f64> = y.iter().step_by(y.len() / 1024).copied().collect();
+        let mut sub = stride.clone();
+        sub.sort_by(f64::total_cmp);
+        sub.dedup();
+        assert_eq!(sub.len(), 13, "the case the old subset miscounted");
+        assert_eq!(few_levels(&y), None);
+        // and a trace truly using 13 levels is still flagged with its count
+        let q = 2.0 / 12.0;
+        let y13: Vec<f64> = y.iter().map(|x| (x / q).round() * q).collect();
+        assert_eq!(few_levels(&y13), Some(13));
     }
 
     #[test]
