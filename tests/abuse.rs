@@ -313,3 +313,49 @@ fn an_unwritable_report_path_leaves_an_existing_summary_as_it_was() {
         }
     }
 }
+
+fn workshop() -> String {
+    format!(
+        "{}/fixtures/demo-workshop-compressor-before-capacitor.csv",
+        env!("CARGO_MANIFEST_DIR")
+    )
+}
+
+#[test]
+fn a_reading_beyond_the_range_of_numbers_is_refused() {
+    // p=1e308kW was read as infinity: the meter check printed n/a and FAIL
+    for reading in ["p=1e308kW", "p=1e400W", "pf=0.9,q=-1e306Mvar"] {
+        let (code, err) = run(&["meter", &workshop(), "--class", "1", "--reading", reading]);
+        assert_eq!(code, Some(2), "{reading}: {err}");
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(
+            err.contains("the value is beyond the range of numbers"),
+            "{err}"
+        );
+        assert!(!err.contains("not a number"), "{err}");
+    }
+}
+
+#[test]
+fn a_long_reading_is_not_repeated_whole() {
+    // a 100 KB reading came back twice in the error (200 KB on the terminal)
+    let long = format!("p={}x", "1".repeat(100_000));
+    let junk = format!("p=1,{}", "a".repeat(100_000));
+    for reading in [long, junk] {
+        let (code, err) = run(&["meter", &workshop(), "--class", "1", "--reading", &reading]);
+        assert_eq!(code, Some(2), "{err}");
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(err.len() < 300, "{} bytes: {}", err.len(), &err[..300]);
+        assert!(err.contains("characters)"), "{err}");
+    }
+    // terminal escapes typed into a reading are shown, not obeyed
+    let (_, err) = run(&[
+        "meter",
+        &workshop(),
+        "--class",
+        "1",
+        "--reading",
+        "p=1\x1b[31mkW",
+    ]);
+    assert!(!err.contains('\x1b'), "{err:?}");
+}

@@ -56,6 +56,14 @@ pub enum MeterError {
         /// The value as typed.
         value: String,
     },
+    /// A number beyond the range of numbers, as written or with its prefix.
+    #[error(
+        "'{item}': the value is beyond the range of numbers (more than 1.8e308): check the exponent and the prefix"
+    )]
+    OutOfRange {
+        /// The item as typed.
+        item: String,
+    },
     /// The text after the number is neither a unit nor a prefix.
     #[error("'{item}': '{unit}' is not a unit, expected {expected} with an optional k, M or m")]
     UnknownUnit {

@@ -53,10 +53,10 @@ impl Reading {
             let item = raw.trim();
             if item.is_empty() {
                 return Err(MeterError::EmptyItem {
-                    reading: text.trim().to_string(),
+                    reading: shown(text.trim()),
                 });
             }
-            let owned = || item.to_string();
+            let owned = || shown(item);
             let Some((key_text, value_text)) = item.split_once('=') else {
                 return Err(if item.chars().all(|c| c.is_ascii_digit()) {
                     MeterError::DecimalComma { item: owned() }
@@ -71,7 +71,7 @@ impl Reading {
             else {
                 return Err(MeterError::UnknownKey {
                     item: owned(),
-                    key: key_text.to_string(),
+                    key: shown(key_text),
                 });
             };
             let value = parse_value(item, value_text.trim(), key, quantity, unit)?;
@@ -101,9 +101,7 @@ fn parse_value(
     expected: &'static str,
 ) -> Result<f64, MeterError> {
     if value.is_empty() {
-        return Err(MeterError::MissingValue {
-            item: item.to_string(),
-        });
+        return Err(MeterError::MissingValue { item: shown(item) });
     }
     // No unit or prefix starts with 'e', so the number runs up to the first other letter.
     let split = value
@@ -112,24 +110,23 @@ fn parse_value(
     let (number, suffix) = value.split_at(split);
     let x: f64 = match number.parse() {
         Ok(x) if f64::is_finite(x) => x,
+        Ok(_) => {
+            return Err(MeterError::OutOfRange { item: shown(item) });
+        }
         _ => {
             return Err(MeterError::NotANumber {
-                item: item.to_string(),
-                value: value.to_string(),
+                item: shown(item),
+                value: shown(value),
             });
         }
     };
     let suffix = suffix.trim();
     if key == "pf" {
         if !suffix.is_empty() {
-            return Err(MeterError::PfHasUnit {
-                item: item.to_string(),
-            });
+            return Err(MeterError::PfHasUnit { item: shown(item) });
         }
         if x.abs() > 1.0 {
-            return Err(MeterError::PfOutOfRange {
-                item: item.to_string(),
-            });
+            return Err(MeterError::PfOutOfRange { item: shown(item) });
         }
         return Ok(x);
     }
@@ -146,27 +143,55 @@ fn parse_value(
         "m" => 1e-3,
         _ => {
             return Err(MeterError::UnknownUnit {
-                item: item.to_string(),
-                unit: suffix.to_string(),
+                item: shown(item),
+                unit: shown(suffix),
                 expected,
             });
         }
     };
     if !unit.is_empty() && !unit.eq_ignore_ascii_case(expected) {
         return Err(MeterError::WrongUnit {
-            item: item.to_string(),
-            unit: unit.to_string(),
+            item: shown(item),
+            unit: shown(unit),
             quantity,
             expected,
         });
     }
     if x < 0.0 && matches!(key, "s" | "v" | "i") {
         return Err(MeterError::Negative {
-            item: item.to_string(),
+            item: shown(item),
             quantity,
         });
     }
-    Ok(x * scale)
+    let x = x * scale;
+    if !x.is_finite() {
+        return Err(MeterError::OutOfRange { item: shown(item) });
+    }
+    Ok(x)
+}
+
+/// Longest text of a reading repeated in a message as it was typed.
+const SHOWN_CHARS: usize = 40;
+
+/// Typed text as a message repeats it: control characters escaped, and a long text cut to its
+/// start with its length (a 100 KB reading was repeated whole, twice).
+fn shown(text: &str) -> String {
+    let n = text.chars().count();
+    let mut s: String = text
+        .chars()
+        .take(SHOWN_CHARS)
+        .map(|c| {
+            if c.is_control() {
+                c.escape_default().to_string()
+            } else {
+                c.to_string()
+            }
+        })
+        .collect();
+    if n > SHOWN_CHARS {
+        s.push_str(&format!("... ({n} characters)"));
+    }
+    s
 }
 
 /// A meter's accuracy class, with the standard it is defined in.
@@ -417,7 +442,11 @@ mod tests {
         assert_eq!(err("p=1kW,P=2kW"), "'P=2kW': p is given twice");
         assert_eq!(err("p="), "'p=': the value is missing");
         assert_eq!(err("p=abc"), "'p=abc': 'abc' is not a number");
-        assert_eq!(err("p=1e999W"), "'p=1e999W': '1e999W' is not a number");
+        assert_eq!(
+            err("p=1e999W"),
+            "'p=1e999W': the value is beyond the range of numbers (more than 1.8e308): check \
+             the exponent and the prefix"
+        );
         assert_eq!(err("p=inf"), "'p=inf': 'inf' is not a number");
         assert_eq!(
             err("p=12kX"),
