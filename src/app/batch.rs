@@ -360,6 +360,9 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     for (p, e) in &discovery.unreadable {
         let _ = writeln!(err, "error: {}: cannot read: {e}", p.display());
     }
+    for note in &discovery.notes {
+        let _ = writeln!(err, "note: {note}");
+    }
     let cli_layer = layer_from(&a.overrides);
     let mut planner = batch::Planner::new(&cli_layer);
     let columns = match format {

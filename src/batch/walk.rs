@@ -25,6 +25,8 @@ pub struct Discovery {
     pub skipped: usize,
     /// Folders or entries that could not be read, with the reason.
     pub unreadable: Vec<(PathBuf, String)>,
+    /// Lines to tell that are not errors: a link back into a folder already being searched.
+    pub notes: Vec<String>,
 }
 
 fn is_capture(path: &Path) -> bool {
@@ -33,13 +35,20 @@ fn is_capture(path: &Path) -> bool {
         .is_some_and(|e| CAPTURE_EXTENSIONS.contains(&e.to_ascii_lowercase().as_str()))
 }
 
-/// Walks `roots`: a folder is searched recursively (hidden files included, links not followed),
-/// a file is taken as it is (its own folder is its root).
+/// Walks `roots`: a folder is searched recursively (hidden files included), a file is taken as it
+/// is (its own folder is its root).
+///
+/// Symbolic links are followed, to files and to folders. A link back to a folder the walk is
+/// already inside (a loop) is not followed again, with a note. A link to nothing is an error
+/// where its name is a capture's, and counted as skipped otherwise.
 pub fn discover(roots: &[PathBuf]) -> Discovery {
     let mut d = Discovery::default();
     for root in roots {
         if root.is_dir() {
-            for entry in walkdir::WalkDir::new(root).sort_by_file_name() {
+            let walk = walkdir::WalkDir::new(root)
+                .follow_links(true)
+                .sort_by_file_name();
+            for entry in walk {
                 match entry {
                     Ok(e) if e.file_type().is_file() => {
                         let p = e.path();
@@ -60,7 +69,23 @@ pub fn discover(roots: &[PathBuf]) -> Discovery {
                             .path()
                             .map(Path::to_path_buf)
                             .unwrap_or_else(|| root.clone());
-                        d.unreadable.push((p, e.to_string()));
+                        if let Some(back) = e.loop_ancestor() {
+                            d.notes.push(format!(
+                                "{}: a link back to {}, which is being searched already: not \
+                                 followed again",
+                                p.display(),
+                                back.display()
+                            ));
+                        } else if p.is_symlink() && !p.exists() {
+                            if is_capture(&p) {
+                                d.unreadable
+                                    .push((p, "a link to something that does not exist".into()));
+                            } else {
+                                d.skipped += 1;
+                            }
+                        } else {
+                            d.unreadable.push((p, e.to_string()));
+                        }
                     }
                 }
             }
@@ -106,6 +131,41 @@ pub fn parse_shard(text: &str) -> Result<(usize, usize), String> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Links were skipped without a word: a linked capture or folder went missing from the
+    /// summary.
+    #[cfg(unix)]
+    #[test]
+    fn links_are_followed_and_a_loop_is_noted_once() {
+        use std::os::unix::fs::symlink;
+        let dir = tempfile::TempDir::new().unwrap();
+        let site = dir.path().join("site");
+        let other = dir.path().join("elsewhere");
+        std::fs::create_dir_all(&site).unwrap();
+        std::fs::create_dir_all(&other).unwrap();
+        std::fs::write(site.join("a.csv"), "v,i\n").unwrap();
+        std::fs::write(other.join("b.csv"), "v,i\n").unwrap();
+        symlink(site.join("a.csv"), site.join("linked.csv")).unwrap();
+        symlink(&other, site.join("more")).unwrap();
+        symlink(&site, site.join("loop")).unwrap();
+        symlink(site.join("gone"), site.join("gone.csv")).unwrap();
+        symlink(site.join("gone"), site.join("gone.pdf")).unwrap();
+        let d = discover(std::slice::from_ref(&site));
+        let found: Vec<PathBuf> = d.files.iter().map(|f| f.path.clone()).collect();
+        assert_eq!(
+            found,
+            vec![
+                site.join("a.csv"),
+                site.join("linked.csv"),
+                site.join("more").join("b.csv")
+            ]
+        );
+        assert_eq!(d.notes.len(), 1, "{:?}", d.notes);
+        assert!(d.notes[0].contains("loop: a link back to"), "{:?}", d.notes);
+        assert_eq!(d.unreadable.len(), 1, "{:?}", d.unreadable);
+        assert_eq!(d.unreadable[0].0, site.join("gone.csv"));
+        assert_eq!(d.skipped, 1);
+    }
 
     #[test]
     fn shards_split_without_overlap_and_cover_everything() {
