@@ -8,7 +8,7 @@
 mod common;
 
 use assert_cmd::Command;
-use common::comtrade::{Chan, Fmt, write_record};
+use common::comtrade::{Chan, Fmt, write_record, write_record_at};
 use serde::Deserialize;
 use std::f64::consts::PI;
 use std::path::{Path, PathBuf};
@@ -422,4 +422,68 @@ fn batch_takes_a_span_per_file_from_its_sidecar() {
         .map(Result::unwrap)
         .collect();
     assert!(rows.iter().all(|r| r[1].contains("error")), "{rows:?}");
+}
+
+#[test]
+fn a_loggers_date_times_give_the_start_and_no_trigger() {
+    // 0.2 s of 50 Hz at 5000 Hz with ISO 8601 time stamps, as a data logger writes them
+    let dir = TempDir::new().unwrap();
+    let w = 2.0 * PI * 50.0;
+    let mut text = String::from("Time,V (V),I (A)\n");
+    for k in 0..1000 {
+        let t = k as f64 / RATE;
+        let us = k * 200;
+        text.push_str(&format!(
+            "2026-03-14 09:41:{:02}.{:06},{:.6},{:.6}\n",
+            27 + us / 1_000_000,
+            us % 1_000_000,
+            325.0 * (w * t).cos(),
+            14.0 * (w * t - PI / 6.0).cos()
+        ));
+    }
+    let csv = dir.path().join("logger.csv");
+    std::fs::write(&csv, text).unwrap();
+    let f = csv.to_str().unwrap();
+    let r = analyze_json(&[f, "--from", "0.1"]);
+    // the record's first sample, as written, whatever span is analysed
+    assert_eq!(
+        r.record_times.start.as_deref(),
+        Some("2026-03-14 09:41:27.000000")
+    );
+    assert_eq!(
+        (
+            r.record_times.trigger.as_deref(),
+            r.record_times.trigger_offset_s
+        ),
+        (None, None)
+    );
+    assert_eq!((r.span.first_sample, r.span.trigger_start_s), (500, None));
+    let e = refused("analyze", &[f, "--time-zero", "trigger", "--to", "0.1"]);
+    assert!(e.contains("states no trigger time"), "{e}");
+}
+
+#[test]
+fn a_trigger_that_is_no_date_cannot_be_counted_from() {
+    let dir = TempDir::new().unwrap();
+    let cfg = write_record_at(
+        dir.path(),
+        "odd",
+        &fault_channels(),
+        4000.0,
+        Fmt::Binary,
+        ("02/12/2026,08:00:00.000000", "31/02/2026,08:00:00.100000"),
+    );
+    let f = cfg.to_str().unwrap();
+    let e = refused("analyze", &[f, "--time-zero", "trigger", "--to", "0"]);
+    assert!(
+        e.contains("the trigger time '31/02/2026,08:00:00.100000' cannot be placed"),
+        "{e}"
+    );
+    // counted from the first sample it is fine, and the trigger is given as written, unplaced
+    let r = analyze_json(&[f, "--to", "0.1"]);
+    assert_eq!(
+        r.record_times.trigger.as_deref(),
+        Some("31/02/2026,08:00:00.100000")
+    );
+    assert_eq!(r.record_times.trigger_offset_s, None);
 }

@@ -46,6 +46,8 @@ pub(crate) struct Layout {
     /// When the time column holds date-times: the first data row's, in nanoseconds since 1970
     /// (every time is read relative to it, so differences stay exact).
     time_base_ns: Option<i128>,
+    /// That first date-time as written.
+    time_base_text: Option<String>,
     /// Sample rate from a preamble, if any.
     preamble_rate_hz: Option<f64>,
     /// Average bytes per data row in the sample, to pre-size the columns.
@@ -368,6 +370,7 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
     }
     let mut time_digits = Digits::default();
     let mut time_base_ns = None;
+    let mut time_base_text = None;
     if let Some(tc) = time_col {
         for l in &data_lines {
             if let Some(cell) = split(l, delimiter).nth(tc) {
@@ -376,7 +379,15 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
                     if let Some(d) = fraction_digits(cell) {
                         time_digits.fixed = Some(time_digits.fixed.map_or(d, |f| f.min(d)));
                     }
-                    time_base_ns = time_base_ns.or_else(|| parse_datetime(cell));
+                    if time_base_ns.is_none() {
+                        time_base_ns = parse_datetime(cell);
+                        time_base_text = time_base_ns.map(|_| {
+                            String::from_utf8_lossy(cell)
+                                .trim()
+                                .trim_matches('"')
+                                .to_string()
+                        });
+                    }
                 } else {
                     time_digits.see(cell, decimal_comma);
                 }
@@ -395,6 +406,7 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         time_col,
         time_digits,
         time_base_ns,
+        time_base_text,
         preamble_rate_hz,
         bytes_per_row: data_bytes as f64 / data_lines.len().max(1) as f64,
     })
@@ -646,7 +658,15 @@ pub(crate) fn load_with(
         sample_rate_hz,
         time: time_channel,
         warnings,
-        times: None,
+        // a time column of date-times states when the first sample was taken
+        times: layout
+            .time_base_text
+            .clone()
+            .map(|start| super::RecordTimes {
+                start: Some(start),
+                trigger: None,
+                trigger_offset_s: None,
+            }),
     };
     Ok(Capture::assemble(head, &layout.channels, &set, data, None))
 }

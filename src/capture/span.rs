@@ -123,7 +123,8 @@ pub fn select(capture: &Capture, request: &SpanRequest) -> Result<Capture, LoadE
     let zero = match request.zero {
         TimeZero::Start => 0.0,
         TimeZero::Trigger => {
-            let Some(times) = &capture.times else {
+            let times = capture.times.as_ref().filter(|t| t.trigger.is_some());
+            let Some(times) = times else {
                 return Err(bad(
                     "times counted from the trigger, but the file states no trigger time (only \
                      COMTRADE records do): count from the first sample instead"
