@@ -623,6 +623,39 @@ impl Analysis {
         ))
     }
 
+    /// Phase `k` of a three-phase capture seen as a single-phase one (its figures alone, the
+    /// warnings on that phase unwrapped and those on other phases left out, no system figures):
+    /// what the plots drawn for one pair draw for each phase. `None` past the last phase.
+    pub fn phase_view(&self, k: usize) -> Option<Analysis> {
+        let phase = self.phases.get(k)?;
+        let letter = phase_letter(phase.phase);
+        let warnings = self
+            .warnings
+            .iter()
+            .filter_map(|w| match w {
+                Warning::OnPhase { phase, warning } if *phase == letter => {
+                    Some((**warning).clone())
+                }
+                Warning::OnPhase { .. } => None,
+                other => Some(other.clone()),
+            })
+            .collect();
+        Some(Analysis {
+            path: self.path.clone(),
+            format: self.format.clone(),
+            sample_rate_hz: self.sample_rate_hz,
+            samples: self.samples,
+            span: self.span,
+            times: self.times.clone(),
+            system: System::Single,
+            settings: self.settings,
+            phases: vec![phase.clone()],
+            three_phase: None,
+            warnings,
+            expected: None,
+        })
+    }
+
     /// `warning` when something threatens a figure, else `ok`; findings and notes do not count.
     pub fn status(&self) -> Status {
         Status::of(&self.warnings)

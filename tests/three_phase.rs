@@ -694,3 +694,66 @@ fn a_measured_neutral_confirms_which_clamp_is_reversed() {
         "{hints:?}"
     );
 }
+
+/// Each phase of a three-phase capture gets its own waveform and spectrum plot, drawn from that
+/// phase's own figures: the view of phase b is phase b's analysis alone, with the warnings on
+/// phase b (here a clipped current) unwrapped and those on other phases left out.
+#[test]
+fn every_phase_gets_its_own_waveform_and_spectrum() {
+    let dir = TempDir::new().unwrap();
+    let mut cols = balanced(230.0, 10.0, 30.0);
+    // phase b's current 50 % over a clamp range that clips it: only phase b warns of clipping
+    cols[4].rms = 15.0;
+    let path = write_csv(dir.path(), "board.csv", &cols, 10.0, None);
+    let text = std::fs::read_to_string(&path).unwrap();
+    let limit = 10.0 * SQRT_2 * 1.2;
+    let mut clipped = String::new();
+    for (k, line) in text.lines().enumerate() {
+        if k == 0 {
+            clipped.push_str(line);
+        } else {
+            let mut f: Vec<String> = line.split(',').map(String::from).collect();
+            let x: f64 = f[5].parse().unwrap();
+            f[5] = format!("{:.6}", x.clamp(-limit, limit));
+            clipped.push_str(&f.join(","));
+        }
+        clipped.push('\n');
+    }
+    std::fs::write(&path, clipped).unwrap();
+    let a = load_and_analyze(&path, &LoadOptions::default());
+    assert!(a.three_phase.is_some());
+    let view = a.phase_view(1).unwrap();
+    assert_eq!(view.phases.len(), 1);
+    assert!(view.three_phase.is_none());
+    assert_eq!(
+        view.quantities.current.rms,
+        a.phases[1].quantities.current.rms
+    );
+    assert!(
+        view.warnings.iter().any(|w| w.code() == "clipping"),
+        "{:?}",
+        view.warnings
+    );
+    assert!(
+        !a.phase_view(0)
+            .unwrap()
+            .warnings
+            .iter()
+            .any(|w| w.code() == "clipping")
+    );
+    assert!(a.phase_view(3).is_none());
+    let plots = tracephase::report::plot::plots_for(&a);
+    let names: Vec<&str> = plots.iter().map(|(n, _)| n.as_str()).collect();
+    for name in [
+        "waveform",
+        "spectrum",
+        "waveform-b",
+        "spectrum-b",
+        "waveform-c",
+        "spectrum-c",
+    ] {
+        assert!(names.contains(&name), "{names:?}");
+    }
+    let svg = |name: &str| &plots.iter().find(|(n, _)| n == name).unwrap().1;
+    assert_ne!(svg("waveform"), svg("waveform-b"));
+}

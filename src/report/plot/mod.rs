@@ -116,7 +116,9 @@ impl Default for PlotOptions {
 /// One drawn plot, or why it could not be drawn.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Plot {
-    /// Short name, used in file names: `waveform`, `phasor`, `spectrum`, `triangle`, `band`.
+    /// Short name, used in file names: `waveform`, `phasor`, `spectrum`, `triangle`, `band`;
+    /// for a three-phase capture also `waveform-b`, `spectrum-b`, `waveform-c`, `spectrum-c`
+    /// (the unsuffixed waveform and spectrum are phase a's).
     pub name: &'static str,
     /// What it shows, for a figure caption.
     pub caption: String,
@@ -186,6 +188,37 @@ pub fn plots_with(
             svg: triangle::plot(a),
         },
     ];
+    if a.three_phase.is_some() {
+        // the waveform and spectrum of every phase, each drawn as a single-phase capture's
+        for plot in plots.iter_mut() {
+            if plot.name == "waveform" || plot.name == "spectrum" {
+                plots_phase_caption(plot, "a");
+            }
+        }
+        for (k, names) in [
+            (1, ["waveform-b", "spectrum-b"]),
+            (2, ["waveform-c", "spectrum-c"]),
+        ] {
+            let Some(view) = a.phase_view(k) else {
+                continue;
+            };
+            let letter = crate::analysis::phase_letter(view.phases[0].phase);
+            let mut waveform = Plot {
+                name: names[0],
+                caption: waveform::caption(&view),
+                svg: waveform::plot(&view),
+            };
+            let mut spectrum = Plot {
+                name: names[1],
+                caption: spectrum::caption(&view, options),
+                svg: spectrum::plot(&view, options),
+            };
+            plots_phase_caption(&mut waveform, letter);
+            plots_phase_caption(&mut spectrum, letter);
+            plots.push(waveform);
+            plots.push(spectrum);
+        }
+    }
     if let Some(e) = &a.expected {
         plots.push(Plot {
             name: "band",
@@ -194,6 +227,11 @@ pub fn plots_with(
         });
     }
     plots
+}
+
+/// Says which phase a plot of a three-phase capture shows, before its caption.
+fn plots_phase_caption(plot: &mut Plot, phase: &str) {
+    plot.caption = format!("Phase {phase}. {}", plot.caption);
 }
 
 /// Draws into a fresh SVG string of `size` pixels: `draw` gets the whole area, already painted
