@@ -207,32 +207,34 @@ pub fn whole_cycles(len: usize, samples_per_cycle: f64) -> (usize, usize) {
 /// `acos(1 − q/A)/π` of each cycle; a clipped one for much longer. The step q is the gap between
 /// the extreme value and the next distinct value below (above) it.
 pub fn clipping(y: &[f64]) -> Option<f64> {
-    let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    // One pass: the extremes, how often each occurs, and the nearest distinct value inside each.
+    // A new maximum makes the old one the largest value below it (every earlier sample was at
+    // most the old maximum), and likewise for the minimum.
+    let (mut hi, mut n_hi, mut below_hi) = (f64::NEG_INFINITY, 0usize, f64::NEG_INFINITY);
+    let (mut lo, mut n_lo, mut above_lo) = (f64::INFINITY, 0usize, f64::INFINITY);
     for &x in y {
-        if x < lo {
-            lo = x;
-        }
         if x > hi {
+            below_hi = hi;
             hi = x;
+            n_hi = 1;
+        } else if x == hi {
+            n_hi += 1;
+        } else if x > below_hi {
+            below_hi = x;
+        }
+        if x < lo {
+            above_lo = lo;
+            lo = x;
+            n_lo = 1;
+        } else if x == lo {
+            n_lo += 1;
+        } else if x < above_lo {
+            above_lo = x;
         }
     }
     let amplitude = (hi - lo) / 2.0;
     if !(amplitude > 0.0) {
         return None;
-    }
-    let (mut n_hi, mut n_lo) = (0usize, 0usize);
-    let (mut below_hi, mut above_lo) = (lo, hi);
-    for &x in y {
-        if x == hi {
-            n_hi += 1;
-        } else if x > below_hi {
-            below_hi = x;
-        }
-        if x == lo {
-            n_lo += 1;
-        } else if x < above_lo {
-            above_lo = x;
-        }
     }
     let n = y.len() as f64;
     let expected = |step: f64| (1.0 - (step / amplitude).min(2.0)).acos() / PI;
@@ -288,6 +290,41 @@ mod tests {
 
     /// Clipping at 90 % of the peak (references §8 scenario) is reported; the plain 8-bit
     /// quantisation flats of an unclipped sine are not.
+    /// The one-pass scan against the plain two-pass definition (extremes first, then their counts
+    /// and the nearest distinct values inside them) on clipped, quantised and odd traces.
+    #[test]
+    fn the_one_pass_scan_finds_what_two_passes_find() {
+        fn naive(y: &[f64]) -> (f64, usize, f64, f64, usize, f64) {
+            let hi = y.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+            let lo = y.iter().copied().fold(f64::INFINITY, f64::min);
+            let n_hi = y.iter().filter(|&&x| x == hi).count();
+            let n_lo = y.iter().filter(|&&x| x == lo).count();
+            let below = y.iter().copied().filter(|&x| x < hi).fold(lo, f64::max);
+            let above = y.iter().copied().filter(|&x| x > lo).fold(hi, f64::min);
+            (hi, n_hi, below, lo, n_lo, above)
+        }
+        let traces = [
+            quantised_sine(4000, 8, 0.81),
+            quantised_sine(4000, 12, 1.0),
+            quantised_sine(997, 4, 0.5),
+            vec![1.0, -1.0, 1.0, 0.5, -1.0, -0.5, 1.0],
+            vec![3.0, 2.0, 1.0, 0.0, -1.0, 0.0, 1.0, 2.0, 3.0, 3.0],
+        ];
+        for y in &traces {
+            let (hi, n_hi, below, lo, n_lo, above) = naive(y);
+            let amplitude = (hi - lo) / 2.0;
+            let n = y.len() as f64;
+            let expected = |step: f64| (1.0 - (step / amplitude).min(2.0)).acos() / PI;
+            let flat = |count: usize, step: f64| {
+                count >= 3 && count as f64 / n > 2.5 * expected(step) + 0.005
+            };
+            let want = (flat(n_hi, hi - below) || flat(n_lo, above - lo))
+                .then(|| 100.0 * (n_hi + n_lo) as f64 / n);
+            assert_eq!(clipping(y), want);
+        }
+        assert_eq!(clipping(&[2.0; 10]), None);
+    }
+
     #[test]
     fn clipping_is_told_apart_from_quantisation() {
         assert_eq!(clipping(&quantised_sine(4000, 8, 1.0)), None);
