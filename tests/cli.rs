@@ -1610,3 +1610,35 @@ fn csv_of_mixed_single_and_three_phase_captures_refuses_the_odd_one_by_name() {
         "header and the two single-phase rows"
     );
 }
+
+/// A record of currents alone (three clamps, no voltage) is refused by saying that no channel is
+/// a voltage, not that the currents are ambiguous.
+#[test]
+fn a_record_of_currents_alone_says_there_is_no_voltage() {
+    let dir = TempDir::new().unwrap();
+    let path = dir.path().join("clamps.csv");
+    let mut text = String::from("Time (s),Ia (A),Ib (A),Ic (A)\n");
+    for k in 0..400 {
+        let t = k as f64 / 10_000.0;
+        let w = 2.0 * std::f64::consts::PI * 50.0 * t;
+        writeln!(
+            text,
+            "{t},{},{},{}",
+            w.sin(),
+            (w - 2.0944).sin(),
+            (w + 2.0944).sin()
+        )
+        .unwrap();
+    }
+    std::fs::write(&path, text).unwrap();
+    let out = tracephase().arg("analyze").arg(&path).output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("clamps.csv")
+            && err.contains("no channel is a voltage by its unit or name")
+            && err.contains("--voltage N"),
+        "{err}"
+    );
+    assert_eq!(err.lines().count(), 1, "{err}");
+}

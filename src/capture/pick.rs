@@ -156,6 +156,26 @@ pub(crate) fn pick_channels(
     if i.is_none() && is.len() > 1 {
         i = same_phase(&is, v).map(|k| (k, ChosenBy::Phase));
     }
+    // None of a kind while every data channel is of the other kind (a record of currents
+    // alone): say that, not that the other kind is ambiguous.
+    let all_known = data.iter().all(|&k| channels[k].role != Role::Unknown);
+    for (what, other, got, cands) in [
+        ("voltage", "current", v, &vs),
+        ("current", "voltage", i, &is),
+    ] {
+        if got.is_none() && cands.is_empty() && all_known && data.len() > 1 {
+            let list: Vec<&Channel> = data.iter().map(|&k| &channels[k]).collect();
+            return Err(LoadErrorKind::Ambiguous(Box::new(Ambiguity {
+                what,
+                why: format!(
+                    "no channel is a {what} by its unit or name (every data channel is a \
+                     {other}); an analysis needs a {what} and a {other} of one circuit"
+                ),
+                channels: listing(&list),
+                hint: hint(v.map(|x| x.0), i.map(|x| x.0)),
+            })));
+        }
+    }
     // Several of a kind and nothing to choose by: refuse, listing them.
     for (what, got, cands) in [("voltage", v, &vs), ("current", i, &is)] {
         if got.is_none() && cands.len() > 1 {
