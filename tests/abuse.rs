@@ -359,3 +359,51 @@ fn a_long_reading_is_not_repeated_whole() {
     ]);
     assert!(!err.contains('\x1b'), "{err:?}");
 }
+
+/// A report is written beside its path and renamed over it: over a device that replaced the
+/// device with a plain file (`--report /dev/full` run as root left /dev/full a plain file).
+#[cfg(target_os = "linux")]
+#[test]
+fn a_report_over_a_device_is_refused_and_the_device_kept() {
+    let dir = TempDir::new().unwrap();
+    let capture = format!(
+        "{}/fixtures/demo-workshop-compressor-before-capacitor.csv",
+        env!("CARGO_MANIFEST_DIR")
+    );
+    let out = dir.path().join("s.csv");
+    for args in [
+        vec!["analyze", capture.as_str(), "--report", "/dev/full"],
+        vec![
+            "batch",
+            capture.as_str(),
+            "--out",
+            out.to_str().unwrap(),
+            "--report",
+            "/dev/full",
+        ],
+    ] {
+        let (code, err) = run(&args);
+        assert_eq!(code, Some(2), "{err}");
+        assert!(err.contains("/dev/full: "), "{err}");
+        assert!(err.contains("not a plain file"), "{err}");
+        use std::os::unix::fs::FileTypeExt;
+        let kind = std::fs::metadata("/dev/full").unwrap().file_type();
+        assert!(kind.is_char_device(), "/dev/full was replaced");
+    }
+}
+
+/// A full disk names the file it could not write.
+#[cfg(target_os = "linux")]
+#[test]
+fn a_full_disk_names_the_summary() {
+    let capture = format!(
+        "{}/fixtures/demo-workshop-compressor-before-capacitor.csv",
+        env!("CARGO_MANIFEST_DIR")
+    );
+    let (code, err) = run(&["batch", &capture, "--out", "/dev/full"]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("/dev/full: cannot write the summary: No space left on device"),
+        "{err}"
+    );
+}

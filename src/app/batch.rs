@@ -386,9 +386,10 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     }
     interrupt::arm();
     let mut spool = match &a.report {
-        Some(p) if p.is_dir() => {
+        Some(p) if std::fs::metadata(p).is_ok_and(|m| !m.is_file()) => {
             return Err(format!(
-                "{}: cannot write the report: it is a folder",
+                "{}: cannot write the report: it is not a plain file (a folder or a device): \
+                 give a file name",
                 p.display()
             ));
         }
@@ -397,6 +398,10 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                 .map_err(|e| format!("{}: cannot write the report: {e}", p.display()))?,
         ),
         None => None,
+    };
+    let spool_path = spool.as_ref().map(|s| s.path.clone()).unwrap_or_default();
+    let spool_error = |p: &Path, e: std::io::Error| {
+        format!("{}: cannot write the report's spool file: {e}", p.display())
     };
     let past: HashMap<String, PastRow> = match (&a.out, a.resume) {
         (Some(p), true) => {
@@ -541,7 +546,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                 if let (Some(part), Some(spool)) = (part, spool.as_mut()) {
                     spool
                         .write(&part.section)
-                        .map_err(|e| format!("cannot write the report's spool file: {e}"))?;
+                        .map_err(|e| spool_error(&spool_path, e))?;
                     digests.push(part.digest);
                     report_rows.push(part.row);
                 }
@@ -554,7 +559,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                 if let (Some(part), Some(spool)) = (row.report, spool.as_mut()) {
                     spool
                         .write(&part.section)
-                        .map_err(|e| format!("cannot write the report's spool file: {e}"))?;
+                        .map_err(|e| spool_error(&spool_path, e))?;
                     digests.push(part.digest);
                     report_rows.push(part.row);
                 }
@@ -568,8 +573,10 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                     tally.slowest = Some((row.file.clone(), row.took));
                 }
                 let line = row.line?;
-                sink.line(&line)
-                    .map_err(|e| format!("cannot write the summary: {e}"))?;
+                sink.line(&line).map_err(|e| match &a.out {
+                    Some(p) => cannot(p, e),
+                    None => format!("cannot write the summary to standard output: {e}"),
+                })?;
                 let end = written + line.len() as u64;
                 if a.resume {
                     spans.push(written..end);
@@ -669,9 +676,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     if let Some(path) = &a.report {
         let title = format!("tracephase batch: {} captures", digests.len());
         let spool = spool.take().ok_or("the report's spool file is missing")?;
-        let sections = spool
-            .finish()
-            .map_err(|e| format!("cannot write the report's spool file: {e}"))?;
+        let sections = spool.finish().map_err(|e| spool_error(&spool_path, e))?;
         let saved = super::html::save_spooled(
             path,
             title,

@@ -269,6 +269,12 @@ fn write_atomically_with(
     let name = path
         .file_name()
         .ok_or_else(|| io::Error::other("the output path names no file"))?;
+    // renamed over, a device or other special file would be replaced by a plain file
+    if fs::metadata(path).is_ok_and(|m| !m.is_file()) {
+        return Err(io::Error::other(
+            "it is not a plain file (a folder or a device): give a file name",
+        ));
+    }
     let tmp = dir.join(format!(
         ".{}.{}.tmp",
         name.to_string_lossy(),
