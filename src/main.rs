@@ -15,7 +15,8 @@ fn main() -> ExitCode {
     // tables mark verdicts with ANSI styles; this stream keeps or strips them
     let stdout = anstream::AutoStream::new(std::io::stdout().lock(), choice);
     let mut out = std::io::BufWriter::new(stdout);
-    // not held locked: a batch's Ctrl-C handler writes to it from its own thread
-    let mut err = std::io::stderr();
+    // not held locked: a batch's Ctrl-C handler writes to it from its own thread; control
+    // characters from file names and typed text are shown, not obeyed
+    let mut err = app::escape::Escaped(std::io::stderr());
     ExitCode::from(app::run(cli, &mut out, &mut err).code())
 }

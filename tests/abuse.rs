@@ -407,3 +407,61 @@ fn a_full_disk_names_the_summary() {
         "{err}"
     );
 }
+
+/// File names carrying terminal escapes and NUL bytes were echoed raw to standard error.
+#[cfg(unix)]
+#[test]
+fn control_characters_in_file_names_are_escaped_on_stderr() {
+    let dir = TempDir::new().unwrap();
+    let red = dir.path().join("\u{1b}[31mred\u{1b}]0;title\u{7}.csv");
+    std::fs::write(&red, "not a capture at all\n").unwrap();
+    let out = tracephase().arg("analyze").arg(&red).output().unwrap();
+    let err = out.stderr;
+    assert_eq!(out.status.code(), Some(2));
+    assert!(!err.iter().any(|&b| b == 0x1b || b == 0x07), "{err:?}");
+    let text = String::from_utf8_lossy(&err);
+    assert!(
+        text.contains("\\x1b[31mred\\x1b]0;title\\x07.csv"),
+        "{text}"
+    );
+    // a NUL can only come in through a list on standard input
+    let list = format!("{}/a\0b.csv\n", dir.path().display());
+    let out = tracephase()
+        .args(["batch", "-"])
+        .write_stdin(list)
+        .output()
+        .unwrap();
+    assert!(!out.stderr.contains(&0), "{:?}", out.stderr);
+    assert!(String::from_utf8_lossy(&out.stderr).contains("a\\x00b.csv"));
+}
+
+/// Two names differing only in bytes that are not text were written alike into the summary, so
+/// `--resume` found one row for two files and analysed one of them again on every run.
+#[cfg(unix)]
+#[test]
+fn two_names_that_are_not_text_are_kept_apart_on_resume() {
+    use std::os::unix::ffi::OsStrExt;
+    let dir = TempDir::new().unwrap();
+    let site = dir.path().join("site");
+    std::fs::create_dir(&site).unwrap();
+    // different contents: with one row for both names, one of them never matched its row
+    for (b, which) in [(b"a\xff.csv", "before"), (b"a\xfe.csv", "after")] {
+        let capture = format!(
+            "{}/fixtures/demo-workshop-compressor-{which}-capacitor.csv",
+            env!("CARGO_MANIFEST_DIR")
+        );
+        std::fs::copy(&capture, site.join(std::ffi::OsStr::from_bytes(b))).unwrap();
+    }
+    let out = dir.path().join("s.csv");
+    let (s, o) = (site.to_str().unwrap(), out.to_str().unwrap());
+    let (code, err) = run(&["batch", s, "--out", o]);
+    assert_eq!(code, Some(0), "{err}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert!(
+        text.contains("a\\xfe.csv,") && text.contains("a\\xff.csv,"),
+        "{text}"
+    );
+    let (code, err) = run(&["batch", s, "--out", o, "--resume"]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(err.contains("(2 kept from the earlier summary)"), "{err}");
+}

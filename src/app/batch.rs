@@ -483,7 +483,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         })
     };
     let work = |(anchor, job): (usize, Job)| {
-        let file = job.path.display().to_string();
+        let file = summary::path_text(&job.path);
         if let Some(p) = past.get(&file)
             && p.settings_hash == job.settings_hash
             && batch::content::fingerprint_capture(&job.path)

@@ -2,6 +2,7 @@
 
 pub mod bank;
 pub mod batch;
+pub mod escape;
 pub mod html;
 pub mod meter;
 pub mod shell;

@@ -483,7 +483,7 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
 }
 
 fn analyse_row(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Expectation>)>) {
-    let file = job.path.display().to_string();
+    let file = summary::path_text(&job.path);
     let mut row = Row {
         file: file.clone(),
         status: Status::Error,

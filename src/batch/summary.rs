@@ -132,6 +132,25 @@ impl Fingerprint {
     }
 }
 
+/// A path as the summary's `file` cell gives it: as it reads where it is valid UTF-8, an invalid
+/// byte as `\xNN` and (outside Windows, where it is the separator) a backslash as `\\`, so two
+/// names that differ only in bytes that are not text stay two names (shown alike, one of them was
+/// analysed again on every `--resume`).
+pub fn path_text(path: &std::path::Path) -> String {
+    let mut s = String::new();
+    for chunk in path.as_os_str().as_encoded_bytes().utf8_chunks() {
+        if cfg!(windows) {
+            s.push_str(chunk.valid());
+        } else {
+            s.push_str(&chunk.valid().replace('\\', "\\\\"));
+        }
+        for b in chunk.invalid() {
+            s.push_str(&format!("\\x{b:02x}"));
+        }
+    }
+    s
+}
+
 /// The fingerprint of `bytes` in one go.
 pub fn fingerprint(bytes: &[u8]) -> String {
     let mut f = Fingerprint::default();
@@ -430,6 +449,18 @@ pub fn read_past(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[cfg(unix)]
+    #[test]
+    fn names_that_differ_in_bytes_that_are_not_text_stay_apart() {
+        use std::os::unix::ffi::OsStrExt;
+        let name = |b: &[u8]| path_text(std::path::Path::new(std::ffi::OsStr::from_bytes(b)));
+        assert_eq!(name(b"site/a\xff.csv"), "site/a\\xff.csv");
+        assert_ne!(name(b"a\xff.csv"), name(b"a\xfe.csv"));
+        // the text of an escape is not the escaped byte
+        assert_ne!(name(b"a\\xff.csv"), name(b"a\xff.csv"));
+        assert_eq!(name("Zähler 3.csv".as_bytes()), "Zähler 3.csv");
+    }
 
     #[test]
     fn fingerprints_are_stable_and_tell_contents_apart() {
