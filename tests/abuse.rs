@@ -465,3 +465,44 @@ fn two_names_that_are_not_text_are_kept_apart_on_resume() {
     assert_eq!(code, Some(0), "{err}");
     assert!(err.contains("(2 kept from the earlier summary)"), "{err}");
 }
+
+/// Header text went verbatim into the summary CSV, where `=HYPERLINK(...)` runs as a formula.
+#[test]
+fn header_text_in_the_summary_cannot_run_as_a_formula() {
+    let dir = TempDir::new().unwrap();
+    let site = dir.path().join("site");
+    std::fs::create_dir(&site).unwrap();
+    let capture = format!(
+        "{}/fixtures/demo-workshop-compressor-before-capacitor.csv",
+        env!("CARGO_MANIFEST_DIR")
+    );
+    let text = std::fs::read_to_string(capture).unwrap();
+    let header_at = text.lines().position(|l| l.starts_with("Time")).unwrap();
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    let n = lines[header_at].split(',').count();
+    let mut names: Vec<String> = lines[header_at].split(',').map(str::to_string).collect();
+    names[n - 2] = "=HYPERLINK(\"http://example.invalid\") (V)".into();
+    names[n - 1] = "@cmd (A)".into();
+    lines[header_at] = names.join(",");
+    std::fs::write(site.join("f.csv"), lines.join("\n") + "\n").unwrap();
+    let out = dir.path().join("s.csv");
+    let (s, o) = (site.to_str().unwrap(), out.to_str().unwrap());
+    let (code, err) = run(&["batch", s, "--out", o]);
+    assert!(code == Some(0), "{err}");
+    let mut rdr = csv::Reader::from_path(&out).unwrap();
+    let mut seen = false;
+    for rec in rdr.records() {
+        for cell in rec.unwrap().iter() {
+            assert!(!cell.starts_with(['=', '+', '@']), "{cell}");
+            if cell.starts_with('-') {
+                assert!(cell.parse::<f64>().is_ok(), "{cell}");
+            }
+            seen |= cell.starts_with("'=HYPERLINK");
+        }
+    }
+    assert!(seen, "the header text is in the summary, made safe");
+    // the row is found again on resume
+    let (code, err) = run(&["batch", s, "--out", o, "--resume"]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(err.contains("(1 kept from the earlier summary)"), "{err}");
+}

@@ -216,13 +216,16 @@ impl Row {
         columns
             .iter()
             .map(|c| match c.as_str() {
-                "file" => self.file.clone(),
+                "file" => spreadsheet_safe(&self.file),
                 "status" => self.status.as_str().to_string(),
-                "message" => self.message.clone(),
+                "message" => spreadsheet_safe(&self.message),
                 "content_hash" => self.content_hash.clone(),
                 "settings_hash" => self.settings_hash.clone(),
                 "settings" => self.settings.clone(),
-                other => flat.get(other).cloned().unwrap_or_default(),
+                other => flat
+                    .get(other)
+                    .map(|v| spreadsheet_safe(v))
+                    .unwrap_or_default(),
             })
             .collect()
     }
@@ -257,6 +260,28 @@ impl Row {
             SummaryFormat::Json => Ok(format!("{}\n", self.json())),
             SummaryFormat::Csv => csv_line(&self.csv_fields(columns)),
         }
+    }
+}
+
+/// A text cell as a spreadsheet will show it and not run it: text starting with `=`, `+`, `-` or
+/// `@` (a formula to a spreadsheet: header text like `=HYPERLINK(...)` reaches the summary) gets
+/// a leading `'`, as does text starting with `'` (so [`cell_text`] gives back the text exactly).
+/// A number, negative or not, stays a number.
+pub fn spreadsheet_safe(cell: &str) -> String {
+    let risky = cell.starts_with(['=', '+', '-', '@', '\'']);
+    if risky && cell.parse::<f64>().is_err() {
+        format!("'{cell}")
+    } else {
+        cell.to_string()
+    }
+}
+
+/// The text of a cell [`spreadsheet_safe`] wrote.
+pub fn cell_text(cell: &str) -> &str {
+    if cell.parse::<f64>().is_err() {
+        cell.strip_prefix('\'').unwrap_or(cell)
+    } else {
+        cell
     }
 }
 
@@ -427,7 +452,7 @@ pub fn read_past(
                     continue;
                 }
                 out.insert(
-                    rec[0].to_string(),
+                    cell_text(&rec[0]).to_string(),
                     PastRow {
                         content_hash: rec[3].to_string(),
                         settings_hash: rec[4].to_string(),
@@ -449,6 +474,25 @@ pub fn read_past(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Header text reached the summary verbatim: `=HYPERLINK(...)` ran as a formula.
+    #[test]
+    fn text_cells_are_kept_from_running_as_formulas_and_numbers_stay_numbers() {
+        for (cell, safe) in [
+            ("=HYPERLINK(\"http://x\")", "'=HYPERLINK(\"http://x\")"),
+            ("+cmd", "'+cmd"),
+            ("-x", "'-x"),
+            ("@SUM(A1)", "'@SUM(A1)"),
+            ("'quoted", "''quoted"),
+            ("-12.5", "-12.5"),
+            ("+3e2", "+3e2"),
+            ("ok", "ok"),
+            ("", ""),
+        ] {
+            assert_eq!(spreadsheet_safe(cell), safe);
+            assert_eq!(cell_text(&spreadsheet_safe(cell)), cell);
+        }
+    }
 
     #[cfg(unix)]
     #[test]
