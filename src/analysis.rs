@@ -525,24 +525,59 @@ fn three_phase_of(
     phases: &[PhaseAnalysis],
     neutral_delay_s: f64,
 ) -> ThreePhaseAnalysis {
+    let quantities = [0, 1, 2].map(|k| &phases[k].quantities);
+    let (figures, neutral_phasor) = system_figures(
+        capture,
+        samples,
+        quantities,
+        phases[0].estimate.order,
+        neutral_delay_s,
+    );
+    let figures3 = quantities.map(phase_figures);
+    let v = figures3.map(|f| f.voltage);
+    let i = figures3.map(|f| f.current);
+    let names = [0, 1, 2].map(|k| phases[k].channels.current.name.clone());
+    let mut wiring_hints = wiring::diagnose(&v, &i, &names);
+    if let (Some(n), Some(channel)) = (neutral_phasor, capture.neutral.as_ref()) {
+        wiring_hints.extend(wiring::neutral_hint(&i, n, &channel.channel.name));
+    }
+    ThreePhaseAnalysis {
+        uncertainty: SystemUncertainty::new(phases, &figures),
+        figures,
+        wiring_hints,
+        artificial_star: capture.system == System::ThreeWire,
+    }
+}
+
+fn phase_figures(q: &Quantities) -> PhaseFigures {
+    let (v1, i1) = q.fundamentals;
+    PhaseFigures {
+        voltage: v1,
+        current: i1,
+        voltage_rms: q.voltage.rms,
+        current_rms: q.current.rms,
+        active_w: q.power.active_w,
+    }
+}
+
+/// The system figures of a three-phase capture (scaled) from its phases' quantities, `order`
+/// the harmonics fitted; and a measured neutral's fundamental phasor (its delay
+/// `neutral_delay_s` removed).
+pub(crate) fn system_figures(
+    capture: &Capture,
+    samples: &[condition::PhaseSamples<'_>],
+    quantities: [&Quantities; 3],
+    order: usize,
+    neutral_delay_s: f64,
+) -> (ThreePhase, Option<Complex64>) {
     let wiring = if capture.system == System::ThreeWire {
         Wiring::ThreeWire
     } else {
         Wiring::FourWire
     };
-    let figure = |p: &PhaseAnalysis| {
-        let (v1, i1) = p.quantities.fundamentals;
-        PhaseFigures {
-            voltage: v1,
-            current: i1,
-            voltage_rms: p.quantities.voltage.rms,
-            current_rms: p.quantities.current.rms,
-            active_w: p.quantities.power.active_w,
-        }
-    };
-    let figures3 = [figure(&phases[0]), figure(&phases[1]), figure(&phases[2])];
+    let figures3 = quantities.map(phase_figures);
     // line-to-line true RMS from the samples, over the same whole cycles as the phases' RMS
-    let per_cycle = capture.sample_rate_hz / phases[0].quantities.frequency_hz;
+    let per_cycle = capture.sample_rate_hz / quantities[0].frequency_hz;
     let span = condition::whole_cycles(capture.len(), per_cycle).1.max(1);
     let rms_diff = |x: &[f64], y: &[f64]| {
         (x[..span]
@@ -561,7 +596,7 @@ fn three_phase_of(
     let line_rms = [rms_diff(va, vb), rms_diff(vb, vc), rms_diff(vc, va)];
     // a measured neutral: its own true RMS and fundamental phasor, fitted at the phases'
     // frequency on their time reference, its own delay removed as the phases' are
-    let f1 = phases[0].quantities.frequency_hz;
+    let f1 = quantities[0].frequency_hz;
     let mut neutral_phasor = None;
     let neutral = capture.neutral.as_ref().map(|n| {
         let rms = (n.samples[..span].iter().map(|x| x * x).sum::<f64>() / span as f64).sqrt();
@@ -570,7 +605,7 @@ fn three_phase_of(
             &samples[0].voltage,
             &n.samples,
             capture.sample_rate_hz,
-            phases[0].estimate.order,
+            order,
             Some(f1),
         )
         .ok()
@@ -586,19 +621,7 @@ fn three_phase_of(
         line_rms,
         neutral,
     });
-    let v = figures3.map(|f| f.voltage);
-    let i = figures3.map(|f| f.current);
-    let names = [0, 1, 2].map(|k| phases[k].channels.current.name.clone());
-    let mut wiring_hints = wiring::diagnose(&v, &i, &names);
-    if let (Some(n), Some(channel)) = (neutral_phasor, capture.neutral.as_ref()) {
-        wiring_hints.extend(wiring::neutral_hint(&i, n, &channel.channel.name));
-    }
-    ThreePhaseAnalysis {
-        uncertainty: SystemUncertainty::new(phases, &figures),
-        figures,
-        wiring_hints,
-        artificial_star: capture.system == System::ThreeWire,
-    }
+    (figures, neutral_phasor)
 }
 
 impl Analysis {

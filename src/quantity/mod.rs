@@ -231,6 +231,20 @@ pub fn quantities(
     est: &Estimate,
     settings: &QuantitySettings,
 ) -> Quantities {
+    quantities_with(v, i, fs, est, settings, true)
+}
+
+/// [`quantities`], with `explain` false leaving out how far the harmonics move the zero
+/// crossings when the two angle methods disagree (`explained_deg` of the warning is then
+/// `None`): the windows of [`crate::trend`], thousands per capture, skip that model.
+pub fn quantities_with(
+    v: &[f64],
+    i: &[f64],
+    fs: f64,
+    est: &Estimate,
+    settings: &QuantitySettings,
+    explain: bool,
+) -> Quantities {
     let f = est.frequency_hz;
     let mut warnings = Vec::new();
     let (whole, span) = whole_cycles(v.len(), fs / f);
@@ -338,7 +352,11 @@ pub fn quantities(
             warnings.push(Warning::MethodsDisagree {
                 difference_deg: diff,
                 allowed_deg: allowed,
-                explained_deg: crossing_shift::explained_difference_deg(&est.voltage, &est.current),
+                explained_deg: if explain {
+                    crossing_shift::explained_difference_deg(&est.voltage, &est.current)
+                } else {
+                    None
+                },
                 current_thd_percent: current.thd_percent.unwrap_or(f64::NAN),
                 voltage_thd_percent: voltage.thd_percent.unwrap_or(f64::NAN),
             });
