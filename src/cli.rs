@@ -50,6 +50,9 @@ pub enum Command {
     /// Analyse whole folders of captures into one summary (CSV or JSON Lines), in parallel.
     #[command(after_help = BATCH_HELP)]
     Batch(BatchArgs),
+    /// Figures over time: consecutive windows of 10 cycles (50 Hz) or 12 (60 Hz), each analysed.
+    #[command(after_help = TREND_HELP)]
+    Trend(TrendArgs),
     /// Print a completion script for a shell (bash, zsh, fish, powershell, elvish).
     #[command(after_help = COMPLETIONS_HELP)]
     Completions(CompletionsArgs),
@@ -114,6 +117,20 @@ Examples:
 
 Exit codes: 0 every capture analysed; 1 every capture analysed but a verdict failed;
 2 some capture could not be read or analysed (its row says why; the others are kept).";
+
+const TREND_HELP: &str = "\
+Examples:
+  tracephase trend fixtures/demo-workshop-compressor-before-capacitor.csv
+  tracephase trend fixtures/demo-plant-feeder-bank-on.csv --format csv > windows.csv
+  tracephase trend fixtures/demo-lab-bench-series-rlc-semicolon-decimal-comma.csv \\
+      --window-cycles 4 --format json
+
+Windows start at the first sample and follow one another without gaps; each is N cycles of the
+frequency measured over the one before (rounded to whole samples). A last part shorter than a
+window is left out and said so.
+
+Exit codes: 0 every file analysed; 2 a file or an option could not be used (one `error:` line
+each, the other files still run).";
 
 const COMPLETIONS_HELP: &str = "\
 Examples:
@@ -338,6 +355,40 @@ pub struct BatchArgs {
     /// Settings that override every sidecar file.
     #[command(flatten)]
     pub overrides: OverrideArgs,
+}
+
+/// Arguments of `trend`.
+#[derive(Debug, Args)]
+pub struct TrendArgs {
+    /// Capture files (CSV, TSV, TXT, WAV or COMTRADE; the format is read from the content).
+    #[arg(required = true, value_name = "FILE")]
+    pub files: Vec<PathBuf>,
+    /// Cycles per window, at least 3 [default: 10 below 55 Hz, 12 from 55 to 70 Hz
+    /// (IEC 61000-4-30), about 200 ms of other fundamentals].
+    #[arg(long, value_name = "N")]
+    pub window_cycles: Option<usize>,
+    /// Aggregate the windows into intervals: 3s = 150 cycles at 50 Hz, 180 at 60 Hz
+    /// (IEC 61000-4-30: quadratic mean of RMS values and THD, mean of powers).
+    #[arg(long, value_enum, value_name = "INTERVAL")]
+    pub aggregate: Option<AggregateArg>,
+    /// Highest harmonic order for THD.
+    #[arg(long, default_value_t = 50, value_name = "N")]
+    pub harmonics: usize,
+    /// Output format: a table per capture, one JSON object per capture (its rows under `rows`),
+    /// or CSV with one row per window.
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
+    /// Channel, scale and timing options.
+    #[command(flatten)]
+    pub channels: ChannelArgs,
+}
+
+/// Aggregation intervals of `trend`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum AggregateArg {
+    /// 150 cycles at 50 Hz, 180 at 60 Hz (about 3 s).
+    #[value(name = "3s")]
+    ThreeSeconds,
 }
 
 /// Summary formats of `batch`.

@@ -45,6 +45,7 @@ pub mod estimate;
 pub mod quantity;
 pub mod report;
 pub mod synth;
+pub mod trend;
 pub mod warning;
 
 pub use analysis::{Analysis, AnalysisError, Settings, analyze, analyze_traces};

@@ -209,3 +209,20 @@ pub fn series_rlc_current(
         .collect();
     Waveform { dc: 0.0, tones }
 }
+
+/// Samples `spec` with its current switching to `after` at `at_s` seconds (a load or a
+/// capacitor bank switched at that instant, without a transient): the current of `spec` before,
+/// `after`'s from the first sample at or after `at_s`; the voltage is `spec`'s throughout. Noise
+/// and quantisation as `spec` says (the same seed before and after).
+pub fn synthesize_switched(spec: &Spec, after: &Waveform, at_s: f64) -> (Vec<f64>, Vec<f64>) {
+    let (v, mut i) = synthesize(spec);
+    let (_, i_after) = synthesize(&Spec {
+        current: after.clone(),
+        ..spec.clone()
+    });
+    let first = ((at_s - spec.start_s) * spec.rate_hz).ceil().max(0.0) as usize;
+    if first < i.len() {
+        i[first..].copy_from_slice(&i_after[first..]);
+    }
+    (v, i)
+}

@@ -4,7 +4,7 @@
 use assert_cmd::Command;
 use tempfile::TempDir;
 
-const SUBCOMMANDS: [&str; 8] = [
+const SUBCOMMANDS: [&str; 9] = [
     "analyze",
     "expect",
     "bank",
@@ -13,6 +13,7 @@ const SUBCOMMANDS: [&str; 8] = [
     "batch",
     "completions",
     "man",
+    "trend",
 ];
 
 fn tracephase() -> Command {

@@ -6,6 +6,7 @@ pub mod escape;
 pub mod html;
 pub mod meter;
 pub mod shell;
+pub mod trend;
 
 use crate::analysis::{self, Settings};
 use crate::capture::{self, ChannelSel, LoadOptions, SpanRequest};
@@ -309,6 +310,7 @@ pub fn run(cli: Cli, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
         Command::Meter(args) => meter::run_meter(&args, out, err),
         Command::Batch(args) => batch::run_batch(&args, out, err),
         Command::Report(args) => html::run_report(&args, out, err),
+        Command::Trend(args) => trend::run_trend(&args, out, err),
         Command::Expect(args) => run_expect(&args, out).unwrap_or_else(|e| {
             let _ = writeln!(err, "error: {e}");
             Outcome::InputErrors

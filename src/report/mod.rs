@@ -14,6 +14,7 @@ pub mod plot;
 mod spectrum;
 pub mod style;
 pub(crate) mod table;
+pub mod trend;
 pub mod wire;
 
 use crate::analysis::Analysis;

@@ -18,6 +18,8 @@ use crate::quantity::{HarmonicLine, TraceFigures};
 use crate::warning::{Severity, Status};
 use serde::Serialize;
 
+pub mod trend;
+
 /// One analysed capture. A single-phase capture's figures sit at the top level (`voltage`,
 /// `power`, `phase_angle_deg`...); a three-phase capture's are under `phases.a`, `phases.b`,
 /// `phases.c`, with the system's `total`, `effective`, `positive_sequence`, `sequence`,
