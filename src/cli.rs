@@ -125,7 +125,7 @@ Examples:
   tracephase trend fixtures/demo-lab-bench-series-rlc-semicolon-decimal-comma.csv \\
       --window-cycles 4 --format json
 
-Windows start at the first sample and follow one another without gaps; each is N cycles of the
+Windows start at the first sample analysed (see --from) and follow one another without gaps; each is N cycles of the
 frequency measured over the one before (rounded to whole samples). A last part shorter than a
 window is left out and said so.
 

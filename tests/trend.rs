@@ -33,6 +33,7 @@ fn capture(v: Vec<f64>, i: Vec<f64>) -> Capture {
         skew_s: 0.0,
         warnings: Vec::new(),
         span: None,
+        times: None,
     }
 }
 
@@ -415,4 +416,36 @@ fn three_phase_windows_give_each_phase_and_the_totals() {
         assert!((total.reactive_var - 3.0 * 2300.0 * sin).abs() < 1e-3);
         assert!((total.effective_pf.unwrap() - cos).abs() < 1e-6);
     }
+}
+
+/// `--from/--to` (the span options every command takes) choose the part to cut into windows:
+/// the first window starts at `--from`, the part left out ends at `--to`, and the times still
+/// count from the record's first sample.
+#[test]
+fn a_span_is_cut_into_windows_from_its_first_sample() {
+    let dir = TempDir::new().unwrap();
+    let spec = Spec::clean(
+        RATE,
+        50.0,
+        20_000,
+        Waveform::sine(230.0, 0.0),
+        Waveform::sine(10.0, -30.0),
+    );
+    let (v, i) = synthesize(&spec);
+    let path = write_csv(dir.path(), "span.csv", &v, &i);
+    let out = tracephase()
+        .args(["trend", "--format", "json", "--from", "0.3", "--to", "1.75"])
+        .arg(&path)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let r: Record = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(r.rows.len(), 7);
+    assert!((r.rows[0].start_s - 0.3).abs() < 1e-9);
+    let left = r.left_out.unwrap();
+    assert!((left.start_s - 1.7).abs() < 1e-9 && (left.end_s - 1.75).abs() < 1e-9);
 }

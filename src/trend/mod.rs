@@ -6,8 +6,9 @@
 //! The windows are those of IEC 61000-4-30 class A (from memory): 10 cycles of a 50 Hz system or
 //! 12 of a 60 Hz one, about 200 ms, consecutive and without gaps, their length following the
 //! measured frequency. How ours are aligned ([`windows`]):
-//! - the first window starts at the record's first sample; each next one starts at the sample
-//!   after the last one's end, so no sample is left out or counted twice;
+//! - the first window starts at the first sample analysed (the record's, or the first of the
+//!   span `--from/--to` chose); each next one starts at the sample after the last one's end, so
+//!   no sample is left out or counted twice;
 //! - a window's length is N cycles of the frequency measured over the window before it (the
 //!   first window: of the frequency found on the record's first second), rounded to whole
 //!   samples;
@@ -254,6 +255,10 @@ pub fn trend(
     let fs = capture.sample_rate_hz;
     let fail = |source| AnalysisError {
         path: capture.path.clone(),
+        span: capture
+            .span
+            .filter(|s| !s.is_whole())
+            .map(|s| (s.start_s(fs), s.end_s(fs))),
         source,
     };
     if capture.len() < estimate::MIN_SAMPLES {
@@ -272,16 +277,17 @@ pub fn trend(
         .window_cycles
         .unwrap_or_else(|| default_cycles(est.frequency_hz));
     let (list, rest) = windows(track, fs, est.frequency_hz, cycles);
+    // times count from the record's first sample, also when a span of it was asked for
+    let base = capture.span.map_or(0, |s| s.first);
     let left_out = (rest > 0).then(|| {
         let f = list.last().map_or(est.frequency_hz, |w| w.frequency_hz);
-        let start = capture.len() - rest;
+        let end = base + capture.len();
         LeftOut {
-            start_s: start as f64 / fs,
-            end_s: capture.len() as f64 / fs,
+            start_s: (end - rest) as f64 / fs,
+            end_s: end as f64 / fs,
             cycles: rest as f64 * f / fs,
         }
     });
-    let base = capture.span.map_or(0, |s| s.first);
     let rows: Vec<WindowFigures> = list
         .par_iter()
         .enumerate()

@@ -30,8 +30,9 @@ pub struct TrendRecord {
 }
 
 /// The words of [`TrendRecord::alignment`].
-pub const ALIGNMENT: &str = "gapless from the first sample; each window N cycles of the \
-                             frequency measured over the one before, rounded to whole samples";
+pub const ALIGNMENT: &str = "gapless from the first sample analysed; each window N cycles of \
+                             the frequency measured over the one before, rounded to whole \
+                             samples";
 
 /// The part left out at the end.
 #[derive(Debug, Clone, Copy, Serialize)]
