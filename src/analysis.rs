@@ -11,6 +11,7 @@ use crate::check::expected::Expected;
 use crate::check::wiring;
 use crate::condition;
 use crate::estimate::{self, Estimate, EstimateError};
+use crate::quantity::events::{self, Event, EventKind};
 use crate::quantity::power::RmsParts;
 use crate::quantity::three_phase::{PhaseFigures, ThreePhase, ThreePhaseInput, Wiring};
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
@@ -91,6 +92,9 @@ pub struct Analysis {
     pub warnings: Vec<Warning>,
     /// Comparison with a circuit model, when one was given.
     pub expected: Option<Expected>,
+    /// Switchings, dips and swells found in the record, in time order (times from the record's
+    /// first sample).
+    pub events: Vec<Event>,
 }
 
 /// One phase of an analysed capture (the one phase of a single-phase capture).
@@ -430,6 +434,17 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             threshold: settings.pf_threshold,
         });
     }
+    let events = record_events(&samples, &phases, rate, span.start_s(rate), many);
+    let switchings: Vec<&Event> = events
+        .iter()
+        .filter(|e| e.kind == EventKind::Switching)
+        .collect();
+    if let Some(first) = switchings.first() {
+        warnings.push(Warning::NotSteady {
+            switchings: switchings.len(),
+            first_s: first.time_s,
+        });
+    }
     drop(samples);
     Ok(Analysis {
         samples: capture.len(),
@@ -444,7 +459,36 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         three_phase,
         warnings,
         expected: None,
+        events,
     })
+}
+
+/// The events of every phase ([`events::detect`]), `offset_s` added so their times count from
+/// the record's first sample, each tagged with its phase on a three-phase capture.
+fn record_events(
+    samples: &[condition::PhaseSamples<'_>],
+    phases: &[PhaseAnalysis],
+    rate: f64,
+    offset_s: f64,
+    many: bool,
+) -> Vec<Event> {
+    let mut out: Vec<Event> = samples
+        .iter()
+        .zip(phases)
+        .flat_map(|(ps, p)| {
+            let mut found =
+                events::detect(&ps.voltage, &ps.current, rate, p.quantities.frequency_hz);
+            for e in &mut found {
+                e.time_s += offset_s;
+                if many {
+                    e.phase = Some(phase_letter(ps.phase));
+                }
+            }
+            found
+        })
+        .collect();
+    out.sort_by(|a, b| a.time_s.total_cmp(&b.time_s));
+    out
 }
 
 /// `a`, `b`, `c` (`n` for the neutral).

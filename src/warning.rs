@@ -134,6 +134,14 @@ pub enum Warning {
         /// Each as `'Trigger' (column 4)` or `'Spare' (column 5, blank)`.
         columns: Vec<String>,
     },
+    /// The record holds a switching (a step in the fundamental current or Q1): its
+    /// whole-record figures mix the states before and after.
+    NotSteady {
+        /// Switchings found.
+        switchings: usize,
+        /// When the first was, seconds from the record's first sample.
+        first_s: f64,
+    },
     /// The time column gives no unit; seconds were assumed.
     TimeUnitAssumed {
         /// `'X-axis' (column 1)`.
@@ -255,6 +263,9 @@ impl Warning {
             Warning::NoFundamental { trace, .. } => Some(format!(
                 "the {trace} trace holds no fundamental above its noise"
             )),
+            Warning::NotSteady { first_s, .. } => Some(format!(
+                "the record holds a switching at {first_s:.4} s: its figures mix two states"
+            )),
             _ => None,
         }
     }
@@ -278,6 +289,7 @@ impl Warning {
             Warning::ChannelForced { .. } => "channel-forced",
             Warning::ColumnsIgnored { .. } => "columns-ignored",
             Warning::TimeUnitAssumed { .. } => "time-unit-assumed",
+            Warning::NotSteady { .. } => "not-steady",
         }
     }
 }
@@ -390,6 +402,16 @@ impl fmt::Display for Warning {
                 f,
                 "the time column {column} gives no unit: read as seconds; if it is not, name the \
                  unit in the header (e.g. 'Time (ms)') or give the rate with --rate HZ"
+            ),
+            Warning::NotSteady {
+                switchings,
+                first_s,
+            } => write!(
+                f,
+                "the record holds {switchings} switching{} (the first at {first_s:.4} s): its \
+                 whole-record figures mix the states before and after; see them over time with \
+                 `tracephase trend`, or analyse one steady part with --from/--to",
+                if *switchings == 1 { "" } else { "s" }
             ),
         }
     }

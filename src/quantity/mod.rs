@@ -14,6 +14,7 @@
 
 pub mod coverage;
 pub mod crossing_shift;
+pub mod events;
 pub mod power;
 pub mod three_phase;
 pub mod uncertainty;

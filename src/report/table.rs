@@ -353,6 +353,10 @@ impl Exporter for TableExporter {
         if let Some(e) = &a.expected {
             expected_block(out, e)?;
         }
+        for (k, e) in a.events.iter().enumerate() {
+            let head = if k == 0 { "events" } else { "" };
+            writeln!(out, "  {head:<13}- {}", event_text(e))?;
+        }
         writeln!(
             out,
             "  status       {}",
@@ -493,6 +497,54 @@ pub fn sign_off(
         out,
         "  checked by   ______________________   date __________"
     )
+}
+
+/// An event in words: `switching at 1.2137 s (to the sample): Q1 2760 var before, 760 var
+/// after`, `dip at 0.7900 s for 0.130 s: one-cycle RMS 230.0 V before, lowest 161.0 V, 230.0 V
+/// after`.
+pub fn event_text(e: &crate::quantity::events::Event) -> String {
+    use crate::quantity::events::{EventKind, EventQuantity};
+    let (name, unit) = match e.quantity {
+        EventQuantity::ReactivePowerVar => ("Q1", " var"),
+        EventQuantity::FundamentalCurrentA => ("I1", " A"),
+        EventQuantity::VoltageRmsV => ("one-cycle RMS", " V"),
+    };
+    let phase = e.phase.map(|p| format!("phase {p}: ")).unwrap_or_default();
+    let value = |x: f64| {
+        if x.is_finite() {
+            format!("{}{unit}", num(x, 4))
+        } else {
+            "n/a".into()
+        }
+    };
+    match e.kind {
+        EventKind::Switching => format!(
+            "{phase}switching at {:.4} s (to the {}): {name} {} before, {} after",
+            e.time_s,
+            e.located_to,
+            value(e.before),
+            value(e.after)
+        ),
+        EventKind::Dip | EventKind::Swell => format!(
+            "{phase}{} at {:.4} s {}: {name} {} before, {} {}, {} after",
+            if e.kind == EventKind::Dip {
+                "dip"
+            } else {
+                "swell"
+            },
+            e.time_s,
+            e.duration_s
+                .map_or("lasting to the end".into(), |d| format!("for {d:.3} s")),
+            value(e.before),
+            if e.kind == EventKind::Dip {
+                "lowest"
+            } else {
+                "highest"
+            },
+            value(e.extreme.unwrap_or(f64::NAN)),
+            value(e.after)
+        ),
+    }
 }
 
 #[cfg(test)]

@@ -11,6 +11,7 @@
 use crate::analysis::{Analysis, PhaseAnalysis, Settings, SystemUncertainty, ThreePhaseAnalysis};
 use crate::capture::{Channel, ChosenBy, System, UsedChannels};
 use crate::check::expected::Expected;
+use crate::quantity::events::{Event, EventKind};
 use crate::quantity::power::Powers;
 use crate::quantity::three_phase::{Effective, PositiveSequencePowers, Rotation, Totals};
 use crate::quantity::uncertainty::Uncertainty;
@@ -79,6 +80,12 @@ pub struct AnalysisRecord {
     pub notes: Vec<String>,
     /// Their codes.
     pub note_codes: Vec<&'static str>,
+    /// No switching was found in the record (its whole-record figures are of one state).
+    pub steady: bool,
+    /// Events found (switchings, dips, swells).
+    pub event_count: usize,
+    /// The events, in time order.
+    pub events: Vec<Event>,
     /// Spectrum, orders 1..=harmonic_order (single-phase; each phase's is under `phases`).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub harmonics: Vec<HarmonicLine>,
@@ -419,6 +426,9 @@ impl From<&Analysis> for AnalysisRecord {
             finding_codes: codes(a, Severity::Finding),
             notes: words(a, Severity::Note),
             note_codes: codes(a, Severity::Note),
+            steady: !a.events.iter().any(|e| e.kind == EventKind::Switching),
+            event_count: a.events.len(),
+            events: a.events.clone(),
             harmonics: if three.is_none() {
                 q.harmonics.clone()
             } else {

@@ -1,0 +1,270 @@
+//! Events in `analyze`: a switching located in time with the values either side, dips and
+//! swells by the one-cycle RMS, the warning a record with a step gets, and the batch columns.
+
+use assert_cmd::Command;
+use rustfft::num_complex::Complex64;
+use serde::Deserialize;
+use std::path::{Path, PathBuf};
+use tempfile::TempDir;
+use tracephase::capture::{Capture, SourceFormat, System, Trace};
+use tracephase::quantity::events::{EventKind, EventQuantity};
+use tracephase::synth::{Spec, Waveform, synthesize, synthesize_switched};
+use tracephase::{Settings, analyze};
+
+const RATE: f64 = 10_000.0;
+/// Issue 14: a step located to within 20 ms (one cycle at 50 Hz) ...
+const CYCLE_LIMIT_S: f64 = 0.020;
+/// ... and the instant itself to within a few samples when the step is clean.
+const SAMPLE_LIMIT_S: f64 = 3.0 / RATE;
+/// The values before and after: Q1 within 0.3 % (issue 14's limit for windows away from a step).
+const Q1_LIMIT: f64 = 0.003;
+
+fn capture(v: Vec<f64>, i: Vec<f64>) -> Capture {
+    Capture {
+        path: "synthetic".into(),
+        format: SourceFormat::Csv {
+            delimiter: b',',
+            decimal_comma: false,
+        },
+        sample_rate_hz: RATE,
+        system: System::Single,
+        voltages: vec![Trace::plain("v", 2, v)],
+        currents: vec![Trace::plain("i", 3, i)],
+        neutral: None,
+        time: None,
+        skew_s: 0.0,
+        warnings: Vec::new(),
+        span: None,
+        times: None,
+    }
+}
+
+fn phasor(w: &Waveform) -> Complex64 {
+    w.tones
+        .iter()
+        .filter(|t| t.order == 1)
+        .map(|t| Complex64::from_polar(t.rms, t.phase_deg.to_radians()))
+        .sum()
+}
+
+/// Q1 = V1·I1·sin θ1 (IEEE Std 1459-2010, references §1).
+fn q1(v: &Waveform, i: &Waveform) -> f64 {
+    (phasor(v) * phasor(i).conj()).im
+}
+
+/// A 230 V load of 20 A at PF 0.8 lagging with a 5th harmonic, and a 2 kvar bank switched in at
+/// `at_s`.
+fn switched(at_s: f64, snr_db: Option<f64>) -> (Capture, Waveform, Waveform, Waveform) {
+    let v = Waveform::sine(230.0, 0.0).with(5, 6.9, 20.0);
+    let before = Waveform::sine(20.0, -36.87).with(5, 2.0, 10.0);
+    let i1 = phasor(&before) + Complex64::from_polar(2000.0 / 230.0, 90f64.to_radians());
+    let after = Waveform::sine(i1.norm(), i1.arg().to_degrees()).with(5, 2.0, 10.0);
+    let mut spec = Spec::clean(RATE, 50.0, 30_000, v.clone(), before.clone());
+    spec.snr_db = snr_db;
+    let (vs, is) = synthesize_switched(&spec, &after, at_s);
+    (capture(vs, is), v, before, after)
+}
+
+#[test]
+fn a_bank_switched_in_is_one_event_at_its_instant_with_q1_either_side() {
+    for (at, snr, limit) in [
+        (1.2137, None, SAMPLE_LIMIT_S),
+        (1.5052, None, SAMPLE_LIMIT_S),
+        (1.2137, Some(50.0), CYCLE_LIMIT_S),
+    ] {
+        let (c, v, before, after) = switched(at, snr);
+        let a = analyze(c, &Settings::default()).unwrap();
+        let steps: Vec<_> = a
+            .events
+            .iter()
+            .filter(|e| e.kind == EventKind::Switching)
+            .collect();
+        assert_eq!(steps.len(), 1, "{at} {snr:?}: {:?}", a.events);
+        let e = steps[0];
+        assert_eq!(e.quantity, EventQuantity::ReactivePowerVar);
+        assert!(
+            (e.time_s - at).abs() <= limit,
+            "{at} {snr:?}: found at {}",
+            e.time_s
+        );
+        println!(
+            "switching at {at} s, SNR {snr:?}: found {:.1} samples off, Q1 {:.2} -> {:.2} var",
+            (e.time_s - at) * RATE,
+            e.before,
+            e.after
+        );
+        for (got, want) in [(e.before, q1(&v, &before)), (e.after, q1(&v, &after))] {
+            assert!(
+                (got - want).abs() < Q1_LIMIT * want.abs(),
+                "{got} vs {want}"
+            );
+        }
+        // the whole record mixes the two states: a warning says so and points at trend
+        let text: Vec<String> = a.warnings.iter().map(|w| w.to_string()).collect();
+        assert!(
+            a.warnings.iter().any(|w| w.code() == "not-steady"),
+            "{text:?}"
+        );
+        assert!(
+            text.iter()
+                .any(|t| t.contains("tracephase trend") && t.contains("--from"))
+        );
+    }
+}
+
+/// Steady captures, clean and noisy (8-bit, 45 dB), hold no events and no warning about them.
+#[test]
+fn steady_captures_hold_no_events() {
+    for (snr, bits) in [(None, None), (Some(45.0), Some(8))] {
+        let mut spec = Spec::clean(
+            RATE,
+            50.0,
+            30_000,
+            Waveform::sine(230.0, 0.0).with(3, 5.0, 0.0),
+            Waveform::sine(12.0, -25.0).with(3, 3.0, 40.0),
+        );
+        spec.snr_db = snr;
+        spec.quantise = bits.map(|b| (b, 400.0, 30.0));
+        let (v, i) = synthesize(&spec);
+        let a = analyze(capture(v, i), &Settings::default()).unwrap();
+        assert!(a.events.is_empty(), "{:?}", a.events);
+        assert!(a.warnings.iter().all(|w| w.code() != "not-steady"));
+    }
+}
+
+/// IEC 61000-4-30 (from memory): a dip is the one-cycle RMS refreshed every half cycle below
+/// 90 % of the reference; it ends back above 92 %. A drop to 70 % for 6 cycles (120 ms) from
+/// 0.8 s: one dip starting within a cycle of 0.8 s, lasting 120 ms to within a cycle, its
+/// lowest value 161 V (70 % of 230 V) and 230 V before and after. A rise to 115 % is a swell.
+#[test]
+fn a_drop_to_70_percent_is_a_dip_and_a_rise_to_115_percent_a_swell() {
+    for (share, kind) in [(0.70, EventKind::Dip), (1.15, EventKind::Swell)] {
+        let normal = Spec::clean(
+            RATE,
+            50.0,
+            8_000,
+            Waveform::sine(230.0, 0.0),
+            Waveform::sine(10.0, -20.0),
+        );
+        let (mut v, mut i) = synthesize(&normal);
+        for (start, n, volts) in [(0.8, 1_200, 230.0 * share), (0.92, 12_000, 230.0)] {
+            let (v2, i2) = synthesize(&Spec {
+                start_s: start,
+                samples: n,
+                voltage: Waveform::sine(volts, 0.0),
+                ..normal.clone()
+            });
+            v.extend(v2);
+            i.extend(i2);
+        }
+        let a = analyze(capture(v, i), &Settings::default()).unwrap();
+        // the load keeps its current through the dip, so its Q1 follows the voltage: that is
+        // the dip's doing, not a switching
+        assert!(
+            a.events.iter().all(|e| e.kind != EventKind::Switching),
+            "{:?}",
+            a.events
+        );
+        let found: Vec<_> = a.events.iter().filter(|e| e.kind == kind).collect();
+        assert_eq!(found.len(), 1, "{:?}", a.events);
+        let e = found[0];
+        assert_eq!(e.quantity, EventQuantity::VoltageRmsV);
+        assert!((e.time_s - 0.8).abs() <= CYCLE_LIMIT_S, "{}", e.time_s);
+        assert!((e.duration_s.unwrap() - 0.12).abs() <= CYCLE_LIMIT_S);
+        assert!((e.extreme.unwrap() - 230.0 * share).abs() < 0.01 * 230.0);
+        assert!((e.before - 230.0).abs() < 0.01 && (e.after - 230.0).abs() < 0.01);
+    }
+}
+
+fn write_csv(dir: &Path, name: &str, c: &Capture) -> PathBuf {
+    let mut text = String::from("time,V,I\n");
+    for (k, (a, b)) in c.voltages[0]
+        .samples
+        .iter()
+        .zip(&c.currents[0].samples)
+        .enumerate()
+    {
+        text.push_str(&format!("{:.6},{a:.6},{b:.6}\n", k as f64 / RATE));
+    }
+    let path = dir.join(name);
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+#[derive(Deserialize)]
+struct Record {
+    steady: bool,
+    event_count: usize,
+    events: Vec<EventJson>,
+    warning_codes: Vec<String>,
+}
+
+#[derive(Deserialize)]
+struct EventJson {
+    kind: String,
+    quantity: String,
+    time_s: f64,
+    located_to: String,
+    before: f64,
+    after: f64,
+}
+
+/// `analyze --format json` gives the events with their keys, `steady` and `event_count`; the
+/// table lists them; a batch summary's CSV row has `event_count` and `steady`.
+#[test]
+fn events_reach_json_table_and_batch_rows() {
+    let dir = TempDir::new().unwrap();
+    let (c, ..) = switched(1.2137, None);
+    let path = write_csv(dir.path(), "bank-switching.csv", &c);
+    let out = Command::cargo_bin("tracephase")
+        .unwrap()
+        .args(["analyze", "--format", "json"])
+        .arg(&path)
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let r: Record = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(!r.steady);
+    assert_eq!(r.event_count, 1);
+    let e = &r.events[0];
+    assert_eq!(
+        (e.kind.as_str(), e.quantity.as_str()),
+        ("switching", "reactive_power_var")
+    );
+    assert_eq!(e.located_to, "sample");
+    assert!((e.time_s - 1.2137).abs() <= SAMPLE_LIMIT_S);
+    assert!(e.before > e.after);
+    assert!(r.warning_codes.iter().any(|c| c == "not-steady"));
+
+    let out = Command::cargo_bin("tracephase")
+        .unwrap()
+        .arg("analyze")
+        .arg(&path)
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        text.contains("events") && text.contains("switching at 1.21"),
+        "{text}"
+    );
+
+    let summary = dir.path().join("summary.csv");
+    let out = Command::cargo_bin("tracephase")
+        .unwrap()
+        .args(["batch", "--out"])
+        .arg(&summary)
+        .arg(dir.path())
+        .output()
+        .unwrap();
+    assert!(
+        out.status.code().is_some_and(|c| c < 2),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let mut reader = csv::Reader::from_path(&summary).unwrap();
+    let header = reader.headers().unwrap().clone();
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let (steady, count) = (col("steady"), col("event_count"));
+    let row = reader.records().next().unwrap().unwrap();
+    assert_eq!((&row[steady], &row[count]), ("false", "1"));
+}
