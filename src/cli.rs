@@ -86,6 +86,8 @@ Examples:
   tracephase bank --before fixtures/demo-plant-feeder-bank-off.csv \\
       --after fixtures/demo-plant-feeder-bank-on.csv \\
       --nameplate fixtures/demo-plant-bank-nameplate.toml
+  tracephase bank --capture site-visit/feeder-bank-switching.csv --rated-kvar 50 \\
+      --rated-voltage 400 --rated-frequency 50 --supply-mva 2
 
 Exit codes: 0 the check passed or is inconclusive; 1 the bank fails its check;
 2 a capture, the nameplate or an option could not be used.";
@@ -210,11 +212,16 @@ pub struct AnalyzeArgs {
 #[derive(Debug, Args)]
 pub struct BankArgs {
     /// Capture taken with the bank switched out.
-    #[arg(long, value_name = "FILE")]
-    pub before: PathBuf,
+    #[arg(long, value_name = "FILE", required_unless_present = "capture")]
+    pub before: Option<PathBuf>,
     /// Capture taken with the bank switched in.
-    #[arg(long, value_name = "FILE")]
-    pub after: PathBuf,
+    #[arg(long, value_name = "FILE", required_unless_present = "capture")]
+    pub after: Option<PathBuf>,
+    /// One capture across the bank's switching instead: the steady states either side of its
+    /// largest reactive step are the before and after (the inrush and 10 cycles of settling
+    /// left out), and the inrush's peak and ring frequency are measured.
+    #[arg(long, value_name = "FILE", conflicts_with_all = ["before", "after"])]
+    pub capture: Option<PathBuf>,
     /// Nameplate file (TOML) with any of the values below; options override it.
     #[arg(long, value_name = "FILE.toml")]
     pub nameplate: Option<PathBuf>,

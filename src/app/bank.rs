@@ -74,14 +74,37 @@ pub fn run_bank(a: &BankArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outco
             return Outcome::InputErrors;
         }
     };
-    let before = analyse_file(&a.before, &load, &settings);
-    let after = analyse_file(&a.after, &load, &settings);
-    let (before, after) = match (before, after) {
-        (Ok(b), Ok(a)) => (b, a),
-        (b, a) => {
-            for e in [b.err(), a.err()].into_iter().flatten() {
-                let _ = writeln!(err, "error: {e}");
+    let mut switched = None;
+    let (before, after) = match (&a.capture, &a.before, &a.after) {
+        (Some(path), ..) => match super::bank_capture::split(path, &load, &settings) {
+            Ok(s) => {
+                let pair = (s.before.clone(), s.after.clone());
+                switched = Some(s);
+                pair
             }
+            Err(e) => {
+                let _ = writeln!(err, "error: {e}");
+                return Outcome::InputErrors;
+            }
+        },
+        (None, Some(b), Some(f)) => {
+            let before = analyse_file(b, &load, &settings);
+            let after = analyse_file(f, &load, &settings);
+            match (before, after) {
+                (Ok(b), Ok(a)) => (b, a),
+                (b, a) => {
+                    for e in [b.err(), a.err()].into_iter().flatten() {
+                        let _ = writeln!(err, "error: {e}");
+                    }
+                    return Outcome::InputErrors;
+                }
+            }
+        }
+        _ => {
+            let _ = writeln!(
+                err,
+                "error: give --before and --after captures, or one --capture across the switching"
+            );
             return Outcome::InputErrors;
         }
     };
@@ -93,7 +116,22 @@ pub fn run_bank(a: &BankArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outco
         }
     };
     let r = check_bank(&sb, &sa, &plate);
-    if report::bank::write(out, &r, &plate, &before, &after, format(a.format)).is_err() {
+    let switching = switched.as_ref().map(|s| report::bank::Switching {
+        at_s: s.switching_s,
+        inrush: s.inrush,
+        expected_ring_hz: r.resonance_order.map(|h| h * after.quantities.frequency_hz),
+    });
+    if report::bank::write_with(
+        out,
+        &r,
+        &plate,
+        &before,
+        &after,
+        switching.as_ref(),
+        format(a.format),
+    )
+    .is_err()
+    {
         let _ = writeln!(
             err,
             "error: could not write the results (is the output closed?)"

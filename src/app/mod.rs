@@ -1,6 +1,7 @@
 //! Wiring: what was typed -> resolved settings -> load -> analyse -> exporters.
 
 pub mod bank;
+pub mod bank_capture;
 pub mod batch;
 pub mod escape;
 pub mod html;

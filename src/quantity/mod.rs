@@ -15,6 +15,7 @@
 pub mod coverage;
 pub mod crossing_shift;
 pub mod events;
+pub mod inrush;
 pub mod power;
 pub mod three_phase;
 pub mod uncertainty;

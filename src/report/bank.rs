@@ -4,6 +4,7 @@ use super::Format;
 use super::table::{num, pm, sign_off};
 use crate::analysis::Analysis;
 use crate::check::bank::{BankReport, Nameplate, PhaseBalance};
+use crate::quantity::inrush::Inrush;
 use serde::Serialize;
 use std::io::{self, Write};
 
@@ -20,9 +21,44 @@ struct BankRecord<'a> {
     before_span: super::wire::SpanRecord,
     after_span: super::wire::SpanRecord,
     nameplate: &'a Nameplate,
+    /// With `--capture`: the switching, its inrush and the ring expected from the supply data.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    switching: Option<SwitchingRecord>,
     #[serde(flatten)]
     report: &'a BankReport,
     cautions: &'static str,
+}
+
+/// The switching of a `bank --capture`: when, its inrush, and the ring the supply data predict.
+#[derive(Debug, Clone, Copy)]
+pub struct Switching {
+    /// When, seconds from the record's first sample.
+    pub at_s: f64,
+    /// Its inrush, where it could be measured.
+    pub inrush: Option<Inrush>,
+    /// f·√(Ssc/Qc) from the supply data, Hz; `None` without them.
+    pub expected_ring_hz: Option<f64>,
+}
+
+#[derive(Debug, Serialize)]
+struct SwitchingRecord {
+    at_s: f64,
+    inrush_peak_a: Option<f64>,
+    steady_peak_a: Option<f64>,
+    ring_hz: Option<f64>,
+    expected_ring_hz: Option<f64>,
+}
+
+impl From<&Switching> for SwitchingRecord {
+    fn from(s: &Switching) -> Self {
+        SwitchingRecord {
+            at_s: s.at_s,
+            inrush_peak_a: s.inrush.map(|x| x.peak_a),
+            steady_peak_a: s.inrush.map(|x| x.steady_peak_a),
+            ring_hz: s.inrush.and_then(|x| x.ring_hz),
+            expected_ring_hz: s.expected_ring_hz,
+        }
+    }
 }
 
 /// Writes the bank check in `format`.
@@ -34,7 +70,21 @@ pub fn write(
     after: &Analysis,
     format: Format,
 ) -> io::Result<()> {
+    write_with(out, r, plate, before, after, None, format)
+}
+
+/// [`write`], with the switching of a `bank --capture`.
+pub fn write_with(
+    out: &mut dyn Write,
+    r: &BankReport,
+    plate: &Nameplate,
+    before: &Analysis,
+    after: &Analysis,
+    switching: Option<&Switching>,
+    format: Format,
+) -> io::Result<()> {
     let record = BankRecord {
+        switching: switching.map(SwitchingRecord::from),
         before: before.path.display().to_string(),
         after: after.path.display().to_string(),
         before_span: super::wire::SpanRecord::new(before),
@@ -44,10 +94,42 @@ pub fn write(
         cautions: CAUTIONS,
     };
     match format {
-        Format::Table => table(out, r, plate, before, after)?,
+        Format::Table => {
+            if let Some(s) = switching {
+                writeln!(out, "{}", switching_text(s))?;
+            }
+            table(out, r, plate, before, after)?
+        }
         other => super::write_record(out, &record, other)?,
     }
     out.flush()
+}
+
+/// The switching in words: `switched at 2.0137 s; inrush peak 61.2 A (steady peak 22.1 A),
+/// ringing at 401 Hz (the supply data predict 400 Hz = f·√(Ssc/Qc))`.
+fn switching_text(s: &Switching) -> String {
+    let mut t = format!("switched at {:.4} s", s.at_s);
+    match s.inrush {
+        Some(x) => {
+            t.push_str(&format!(
+                "; inrush peak {} A (steady peak {} A)",
+                num(x.peak_a, 4),
+                num(x.steady_peak_a, 4)
+            ));
+            match x.ring_hz {
+                Some(r) => t.push_str(&format!(", ringing at {} Hz", num(r, 4))),
+                None => t.push_str(", no ringing above the noise"),
+            }
+        }
+        None => t.push_str("; the inrush could not be measured"),
+    }
+    if let Some(e) = s.expected_ring_hz {
+        t.push_str(&format!(
+            " (the supply data predict {} Hz = f·√(Ssc/Qc))",
+            num(e, 4)
+        ));
+    }
+    t
 }
 
 fn capture_line(a: &Analysis, scale: f64) -> String {
