@@ -263,7 +263,7 @@ pub fn analyze_traces(
 
 /// The delays of the voltage and the current trace a phase's samples come from (a 3-wire
 /// capture's lines share one delay, as the loader makes sure).
-fn phase_delays(capture: &Capture, ps: &condition::PhaseSamples<'_>) -> (f64, f64) {
+pub(crate) fn phase_delays(capture: &Capture, ps: &condition::PhaseSamples<'_>) -> (f64, f64) {
     let v = match capture.system {
         System::ThreeWire => capture.voltages.first(),
         _ => capture.voltages.get(ps.voltage_trace),

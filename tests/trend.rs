@@ -30,7 +30,6 @@ fn capture(v: Vec<f64>, i: Vec<f64>) -> Capture {
         currents: vec![Trace::plain("i", 3, i)],
         neutral: None,
         time: None,
-        skew_s: 0.0,
         warnings: Vec::new(),
         span: None,
         times: None,
