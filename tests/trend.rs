@@ -448,3 +448,23 @@ fn a_span_is_cut_into_windows_from_its_first_sample() {
     let left = r.left_out.unwrap();
     assert!((left.start_s - 1.7).abs() < 1e-9 && (left.end_s - 1.75).abs() < 1e-9);
 }
+
+/// Like every JSON object tracephase writes, a trend record starts with the layout's version.
+#[test]
+fn a_trend_record_starts_with_the_schema_version() {
+    let dir = TempDir::new().unwrap();
+    let (v, i) = synthesize(&Spec::clean(
+        RATE,
+        50.0,
+        4_000,
+        Waveform::sine(230.0, 0.0),
+        Waveform::sine(10.0, -30.0),
+    ));
+    let path = write_csv(dir.path(), "versioned.csv", &v, &i);
+    let out = tracephase()
+        .args(["trend", "--format", "json"])
+        .arg(&path)
+        .output()
+        .unwrap();
+    assert!(String::from_utf8_lossy(&out.stdout).starts_with("{\"schema\":1,"));
+}

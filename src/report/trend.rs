@@ -27,7 +27,7 @@ impl TrendWriter {
     pub fn write(&mut self, out: &mut dyn Write, r: &TrendRecord) -> io::Result<()> {
         match self.format {
             Format::Json => {
-                serde_json::to_writer(&mut *out, r)?;
+                serde_json::to_writer(&mut *out, &super::Versioned::new(r))?;
                 writeln!(out)?;
             }
             Format::Csv => self.csv(out, r)?,
