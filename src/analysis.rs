@@ -720,6 +720,13 @@ impl Analysis {
             three_phase: None,
             warnings,
             expected: None,
+            // this phase's events, as a single-phase capture's
+            events: self
+                .events
+                .iter()
+                .filter(|e| e.phase.is_none_or(|p| p == letter))
+                .map(|e| Event { phase: None, ..*e })
+                .collect(),
         })
     }
 
