@@ -3,7 +3,7 @@
 use super::Format;
 use super::table::{num, pm, sign_off};
 use crate::analysis::Analysis;
-use crate::check::bank::{BankReport, Nameplate, PhaseBalance};
+use crate::check::bank::{BankPhase, BankReport, Nameplate, PhaseBalance};
 use crate::quantity::inrush::Inrush;
 use serde::Serialize;
 use std::io::{self, Write};
@@ -168,29 +168,38 @@ pub fn scaling_words(p: &Nameplate, r: &BankReport) -> &'static str {
     }
 }
 
+/// One phase's figures in words: `delivered X ± U kvar{sep} C Y ± U µF (Z ± U % of the rated W
+/// µF)`, for the table and the report.
+pub(crate) fn phase_figures(p: &BankPhase, sep: &str) -> String {
+    format!(
+        "delivered {}{sep} C {} ({} of the rated {} µF)",
+        pm(
+            Some(p.delivered_kvar),
+            Some(p.delivered_uncertainty_kvar),
+            " kvar"
+        ),
+        pm(
+            Some(p.capacitance_uf),
+            Some(p.capacitance_uncertainty_uf),
+            " µF"
+        ),
+        pm(
+            Some(100.0 * p.ratio),
+            Some(100.0 * p.ratio_uncertainty),
+            " %"
+        ),
+        num(p.rated_capacitance_uf, 4),
+    )
+}
+
 /// The per-phase lines of a three-phase bank check.
 fn phase_lines(out: &mut dyn Write, b: &PhaseBalance) -> io::Result<()> {
     for (k, (name, p)) in b.phases.iter().enumerate() {
         let head = if k == 0 { "phases" } else { "" };
         writeln!(
             out,
-            "  {head:<13}{name}: delivered {}, C {} ({} of the rated {} µF) {}{}",
-            pm(
-                Some(p.delivered_kvar),
-                Some(p.delivered_uncertainty_kvar),
-                " kvar"
-            ),
-            pm(
-                Some(p.capacitance_uf),
-                Some(p.capacitance_uncertainty_uf),
-                " µF"
-            ),
-            pm(
-                Some(100.0 * p.ratio),
-                Some(100.0 * p.ratio_uncertainty),
-                " %"
-            ),
-            num(p.rated_capacitance_uf, 4),
+            "  {head:<13}{name}: {} {}{}",
+            phase_figures(p, ","),
             super::style::word(&p.verdict.to_string()),
             if p.weak {
                 format!(", {}", super::style::word("WEAK"))

@@ -224,23 +224,8 @@ pub(super) fn bank_rows(h: &mut String, b: &PhaseBalance) -> std::fmt::Result {
             h,
             &format!("phase {name}"),
             &format!(
-                "delivered {}; C {} ({} of the rated {} µF): {}{}",
-                pm(
-                    Some(p.delivered_kvar),
-                    Some(p.delivered_uncertainty_kvar),
-                    " kvar"
-                ),
-                pm(
-                    Some(p.capacitance_uf),
-                    Some(p.capacitance_uncertainty_uf),
-                    " µF"
-                ),
-                pm(
-                    Some(100.0 * p.ratio),
-                    Some(100.0 * p.ratio_uncertainty),
-                    " %"
-                ),
-                num(p.rated_capacitance_uf, 4),
+                "{}: {}{}",
+                crate::report::bank::phase_figures(p, ";"),
                 p.verdict,
                 if p.weak { ", weak" } else { "" }
             ),
