@@ -285,10 +285,10 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
     let cli_skew_s = settings.skew_s;
     condition::scale(&mut capture, settings.v_scale, settings.i_scale);
     let rate = capture.sample_rate_hz;
-    let span = capture.span.unwrap_or(Span::whole(capture.len()));
+    let span = capture.span.unwrap_or(Span::whole(capture.len(), rate));
     let fail = |source| AnalysisError {
         path: capture.path.clone(),
-        span: (!span.is_whole()).then(|| (span.start_s(rate), span.end_s(rate))),
+        span: (!span.is_whole()).then(|| (span.start_s(), span.end_s(rate))),
         source,
     };
     let mut warnings = std::mem::take(&mut capture.warnings);
@@ -434,7 +434,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             threshold: settings.pf_threshold,
         });
     }
-    let events = record_events(&samples, &phases, rate, span.start_s(rate), many);
+    let events = record_events(&samples, &phases, rate, span.start_s(), many);
     let switchings: Vec<&Event> = events
         .iter()
         .filter(|e| e.kind == EventKind::Switching)

@@ -142,6 +142,20 @@ pub enum Warning {
         /// When the first was, seconds from the record's first sample.
         first_s: f64,
     },
+    /// The record has several sample rates and no span was asked: its longest part at one rate
+    /// was analysed.
+    RatePartChosen {
+        /// The rate of the part analysed.
+        rate_hz: f64,
+        /// Its start, seconds after the record's first sample.
+        start_s: f64,
+        /// Its end, seconds after the record's first sample.
+        end_s: f64,
+        /// Every part, `4000 Hz from 0 to 0.5 s, 1000 Hz from 0.5 to 1.5 s`.
+        parts: String,
+        /// How to ask for another part: `--from 0 --to 0.5`.
+        example: String,
+    },
     /// The time column gives no unit; seconds were assumed.
     TimeUnitAssumed {
         /// `'X-axis' (column 1)`.
@@ -290,6 +304,7 @@ impl Warning {
             Warning::ColumnsIgnored { .. } => "columns-ignored",
             Warning::TimeUnitAssumed { .. } => "time-unit-assumed",
             Warning::NotSteady { .. } => "not-steady",
+            Warning::RatePartChosen { .. } => "rate-part-chosen",
         }
     }
 }
@@ -402,6 +417,18 @@ impl fmt::Display for Warning {
                 f,
                 "the time column {column} gives no unit: read as seconds; if it is not, name the \
                  unit in the header (e.g. 'Time (ms)') or give the rate with --rate HZ"
+            ),
+            Warning::RatePartChosen {
+                rate_hz,
+                start_s,
+                end_s,
+                parts,
+                example,
+            } => write!(
+                f,
+                "the record has several sample rates ({parts}): analysed its longest part, \
+                 {rate_hz} Hz from {start_s} to {end_s} s; choose another with --from/--to \
+                 (e.g. {example})"
             ),
             Warning::NotSteady {
                 switchings,

@@ -8,7 +8,7 @@
 
 mod common;
 
-use common::comtrade::{Chan, Fmt, write_record};
+use common::comtrade::{Chan, Fmt, write_record, write_record_rates};
 use proptest::prelude::*;
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::f64::consts::PI;
@@ -308,10 +308,18 @@ proptest! {
         ],
         edits in proptest::collection::vec(edit(), 0..4),
         fmt in prop_oneof![Just(Fmt::Ascii), Just(Fmt::Binary), Just(Fmt::Binary32), Just(Fmt::Float32)],
+        two_rates in any::<bool>(),
     ) {
         let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
         let dir = TempDir::new().unwrap();
-        let cfg = write_record(dir.path(), "m", &comtrade_channels(), 5000.0, fmt);
+        // one rate, or two (their end samples and rates are among the numbers replaced)
+        let rates: &[(f64, usize)] = if two_rates {
+            &[(5000.0, 250), (1000.0, 400)]
+        } else {
+            &[(5000.0, 400)]
+        };
+        let times = ("02/12/2026,08:00:00.000000", "02/12/2026,08:00:00.100000");
+        let cfg = write_record_rates(dir.path(), "m", &comtrade_channels(), rates, fmt, times);
         let text = std::fs::read_to_string(&cfg).unwrap();
         // the runs of digits in the .cfg; one of them is replaced
         let runs: Vec<(usize, usize)> = {
@@ -395,4 +403,15 @@ fn the_unmutated_files_load() {
         ..Default::default()
     };
     assert!(load(&cfg, &opts).is_ok());
+    let times = ("02/12/2026,08:00:00.000000", "02/12/2026,08:00:00.100000");
+    let rates = [(5000.0, 250), (1000.0, 400)];
+    let two = write_record_rates(
+        dir.path(),
+        "two",
+        &comtrade_channels(),
+        &rates,
+        Fmt::Ascii,
+        times,
+    );
+    assert_eq!(load(&two, &opts).map(|c| c.len()).ok(), Some(150));
 }

@@ -36,7 +36,7 @@ pub fn split(path: &Path, load: &LoadOptions, settings: &Settings) -> Result<Swi
     let fs = c.sample_rate_hz;
     let f = whole.quantities.frequency_hz;
     let per_cycle = fs / f;
-    let base = c.span.map_or(0, |s| s.first);
+    let base_s = c.span.map_or(0.0, |s| s.start_s);
     let switchings: Vec<_> = whole
         .events
         .iter()
@@ -62,11 +62,7 @@ pub fn split(path: &Path, load: &LoadOptions, settings: &Settings) -> Result<Swi
             )
         })?;
     // samples of this capture (which may itself be a span of the record)
-    let local = |t_s: f64| {
-        ((t_s * fs).round() as usize)
-            .saturating_sub(base)
-            .min(c.len())
-    };
+    let local = |t_s: f64| (((t_s - base_s) * fs).round().max(0.0) as usize).min(c.len());
     let at = local(largest.time_s);
     let settle = (SETTLE_CYCLES * per_cycle).round() as usize;
     let guard = (GUARD_CYCLES * per_cycle).round() as usize;

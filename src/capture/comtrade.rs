@@ -10,6 +10,11 @@
 //! FLOAT32, an empty ASCII field) are refused with the sample that holds one, never read as
 //! numbers. The single-file `.cff` form of 2013 is not read yet and says so.
 //!
+//! Sample rates: one rate; none, with the rate from the time stamps and `timemult`; or several,
+//! each with its last sample (`samp,endsamp`). A record with several rates is a run of
+//! [`super::RateSegment`]s; the capture holds the one part a span lies in, or the longest, with
+//! its place in the record as its [`super::Span`] ([`super::span::choose_segment`]).
+//!
 //! Each channel's skew (the time after the time stamp its sample was taken) becomes its trace's
 //! delay ([`super::Trace::delay_s`]), which the analysis removes channel by channel.
 //!
@@ -628,29 +633,20 @@ fn channel_of(k: usize, c: &AnalogChannel) -> Channel {
     ch
 }
 
-/// The sample rate of the whole record: the one rate, or the time stamps' mean step.
-fn record_rate(cfg: &Config, stamps: &[f64]) -> Result<(f64, Vec<Warning>), String> {
+/// The sample rate of a record at one rate: the one rate, or the time stamps' mean step.
+fn record_rate(cfg: &Config, stamps: &[f64]) -> Result<f64, String> {
     match cfg.rates.as_slice() {
-        [(rate, _)] => Ok((*rate, Vec::new())),
         [] => {
             let (first, last) = (stamps.first().copied(), stamps.last().copied());
             match (first, last) {
                 (Some(a), Some(b)) if b > a && stamps.len() > 1 => {
                     let step_s = (b - a) * cfg.timemult * 1e-6 / (stamps.len() - 1) as f64;
-                    Ok((1.0 / step_s, Vec::new()))
+                    Ok(1.0 / step_s)
                 }
                 _ => Err("no sample rate and no increasing time stamps to take one from".into()),
             }
         }
-        many => Err(format!(
-            "{} sample rates in one record ({}): analysing a span at one rate is not supported \
-             yet; export the part at one rate",
-            many.len(),
-            many.iter()
-                .map(|(r, e)| format!("{r} Hz to sample {e}"))
-                .collect::<Vec<_>>()
-                .join(", ")
-        )),
+        [(rate, _), ..] => Ok(*rate),
     }
 }
 
@@ -704,9 +700,38 @@ pub(crate) fn load(cfg_path: &Path, opts: &LoadOptions) -> Result<Capture, LoadE
     let set = super::pick_set(&channels, super::selection(opts))
         .map_err(|kind| LoadError::new(cfg_path, None, kind))?;
     let wanted = set.wanted();
-    let (columns, stamps) = read_dat(&dat, &cfg, &wanted)?;
-    let (file_rate, mut warnings) = record_rate(&cfg, &stamps)
-        .map_err(|m| LoadError::new(cfg_path, None, LoadErrorKind::BadRecord(m)))?;
+    let (mut columns, stamps) = read_dat(&dat, &cfg, &wanted)?;
+    let times = record_times(&cfg);
+    let bad = |m: String| LoadError::new(cfg_path, None, LoadErrorKind::BadRecord(m));
+    let mut warnings = Vec::new();
+    // a record with several rates is analysed one part at a time: the part a span lies in, or
+    // the longest; its samples are cut out here and its place in the record kept
+    let mut part = None;
+    if cfg.rates.len() > 1 {
+        if opts.rate_hz.is_some() {
+            return Err(bad(format!(
+                "--rate was given, but this record states {} sample rates of its own: leave \
+                 --rate out",
+                cfg.rates.len()
+            )));
+        }
+        let segments = super::span::segments(&cfg.rates);
+        let (k, chosen) = super::span::choose_segment(&segments, opts.span.as_ref(), Some(&times))
+            .map_err(|kind| LoadError::new(cfg_path, None, kind))?;
+        let seg = segments[k];
+        let record_s = segments.last().map_or(0.0, |s| s.end_s());
+        let total = columns.first().map_or(0, Vec::len);
+        for col in &mut columns {
+            col.truncate(seg.first + seg.len);
+            col.drain(..seg.first.min(col.len()));
+        }
+        warnings.extend(chosen);
+        part = Some((seg.rate_hz, seg.span(total, record_s)));
+    }
+    let file_rate = match part {
+        Some((rate, _)) => rate,
+        None => record_rate(&cfg, &stamps).map_err(bad)?,
+    };
     let sample_rate_hz = match opts.rate_hz {
         Some(r) => {
             if (r - file_rate).abs() > 1e-6 * file_rate {
@@ -766,9 +791,10 @@ pub(crate) fn load(cfg_path: &Path, opts: &LoadOptions) -> Result<Capture, LoadE
         sample_rate_hz,
         time: None,
         warnings,
-        times: Some(record_times(&cfg)),
+        times: Some(times),
     };
     let mut capture = Capture::assemble(head, &channels, &set, columns, None);
+    capture.span = part.map(|(_, span)| span);
     // a channel's skew is how long after the time stamp its sample was taken: it holds the
     // signal from that much later, a delay of minus the skew
     let traces = capture

@@ -20,7 +20,7 @@ pub use channel::{Channel, Content, Phase, Role, Unit, parse_unit, split_header}
 pub use error::{Ambiguity, LoadError, LoadErrorKind, WrongRole};
 pub(crate) use pick::{ChannelSet, pick_set};
 pub use pick::{Choice, ChosenBy, Place, Selection, System};
-pub use span::{RecordTimes, SpanRequest, TimeZero, select};
+pub use span::{RateSegment, RecordTimes, SpanRequest, TimeZero, select};
 
 use crate::warning::Warning;
 use std::fmt;
@@ -301,7 +301,10 @@ pub struct Capture {
     pub times: Option<RecordTimes>,
 }
 
-/// A part of a record: samples `first .. first + len` of the traces as loaded.
+/// A part of a record: samples `first .. first + len` of the traces as loaded, and where it lies
+/// in time. A record at one sample rate places sample `k` at `k / rate`; a record with several
+/// rates ([`RateSegment`]) places each part at the time its earlier parts took, so `start_s` is
+/// stated, never worked out from `first` alone.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Span {
     /// Index of the first sample kept, counted from the record's first sample.
@@ -310,18 +313,22 @@ pub struct Span {
     pub len: usize,
     /// Number of samples in the whole record.
     pub of: usize,
+    /// Time of the first sample kept, seconds after the record's first sample.
+    pub start_s: f64,
+    /// Length of the whole record, seconds (its last sample plus one interval at its rate).
+    pub record_s: f64,
 }
 
 impl Span {
     /// Start of the span, seconds after the record's first sample.
-    pub fn start_s(&self, sample_rate_hz: f64) -> f64 {
-        self.first as f64 / sample_rate_hz
+    pub fn start_s(&self) -> f64 {
+        self.start_s
     }
 
     /// End of the span (one sample interval after its last sample), seconds after the record's
-    /// first sample.
+    /// first sample; the span's samples are `sample_rate_hz` apart.
     pub fn end_s(&self, sample_rate_hz: f64) -> f64 {
-        (self.first + self.len) as f64 / sample_rate_hz
+        self.start_s + self.len as f64 / sample_rate_hz
     }
 }
 
@@ -375,14 +382,12 @@ impl Capture {
             samples: t.samples[start..end].to_vec(),
             ..t.clone_without_samples()
         };
-        let (base, of) = match self.span {
-            Some(s) => (s.first, s.of),
-            None => (0, self.len()),
-        };
+        let rate = self.sample_rate_hz;
+        let base = self.span.unwrap_or(Span::whole(self.len(), rate));
         Capture {
             path: self.path.clone(),
             format: self.format.clone(),
-            sample_rate_hz: self.sample_rate_hz,
+            sample_rate_hz: rate,
             system: self.system,
             voltages: self.voltages.iter().map(cut).collect(),
             currents: self.currents.iter().map(cut).collect(),
@@ -391,9 +396,11 @@ impl Capture {
             warnings: self.warnings.clone(),
             times: self.times.clone(),
             span: Some(Span {
-                first: base + start,
+                first: base.first + start,
                 len: end - start,
-                of,
+                of: base.of,
+                start_s: base.start_s + start as f64 / rate,
+                record_s: base.record_s,
             }),
         }
     }
@@ -571,8 +578,9 @@ mod tests {
         assert_eq!(inner.current().samples.last(), Some(&89.0));
         let span = inner.span.unwrap();
         assert_eq!((span.first, span.len, span.of), (15, 75, 100));
-        assert_eq!(span.start_s(10.0), 1.5);
+        assert_eq!(span.start_s(), 1.5);
         assert_eq!(span.end_s(10.0), 9.0);
+        assert_eq!(span.record_s, 10.0);
     }
 
     #[test]

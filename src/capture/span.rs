@@ -5,9 +5,18 @@
 //! through [`Capture::span`], refusing a span that is not inside the record. A sample at time
 //! `t = k / rate` after the first sample is kept when `from ≤ t < to`, so `--from 0 --to 0.1` at
 //! 1000 Hz keeps samples 0 to 99: exactly five cycles of 50 Hz.
+//!
+//! A record with several sample rates (a COMTRADE `.cfg` with `nrates` > 1) is a run of
+//! [`RateSegment`]s, each at one rate and starting when the one before it ends (its samples times
+//! one interval at its rate). Times still count from the record's first sample, so `--from/--to`
+//! mean the same as on a record at one rate; [`choose_segment`] keeps the one part a span lies in
+//! (a span across a change of rate is refused, naming the parts), or, without a span, the longest
+//! part with a [`Warning::RatePartChosen`] saying so. The capture of that part carries its place
+//! in the record ([`Span::start_s`]), so [`select`] and every output count time the same way.
 
 use super::error::LoadErrorKind;
 use super::{Capture, Span};
+use crate::warning::Warning;
 use std::fmt;
 
 /// Where the times of a [`SpanRequest`] count from.
@@ -115,39 +124,49 @@ pub struct RecordTimes {
 /// (`0.1 × 1000 Hz` is 100.00000000000001 in binary floating point).
 const EDGE_TOLERANCE: f64 = 1e-6;
 
+/// Where time zero lies, seconds after the record's first sample, or why it cannot be placed.
+fn zero_s(request: &SpanRequest, times: Option<&RecordTimes>) -> Result<f64, String> {
+    match request.zero {
+        TimeZero::Start => Ok(0.0),
+        TimeZero::Trigger => {
+            let Some(times) = times.filter(|t| t.trigger.is_some()) else {
+                return Err(
+                    "times counted from the trigger, but the file states no trigger time (only \
+                     COMTRADE records do): count from the first sample instead"
+                        .into(),
+                );
+            };
+            times.trigger_offset_s.ok_or_else(|| {
+                format!(
+                    "the trigger time '{}' cannot be placed against the start time '{}': count \
+                     from the first sample instead",
+                    times.trigger.as_deref().unwrap_or(""),
+                    times.start.as_deref().unwrap_or("")
+                )
+            })
+        }
+    }
+}
+
 /// The part of `capture` that `request` asks for, as a capture of its own ([`Capture::span`]).
+/// `capture` may itself be a part of its record (one [`RateSegment`]): the request's times count
+/// from the record's first sample (or trigger) all the same.
 pub fn select(capture: &Capture, request: &SpanRequest) -> Result<Capture, LoadErrorKind> {
     let rate = capture.sample_rate_hz;
     let n = capture.len();
     let bad = |m: String| LoadErrorKind::BadSpan(format!("{request}: {m}"));
-    let zero = match request.zero {
-        TimeZero::Start => 0.0,
-        TimeZero::Trigger => {
-            let times = capture.times.as_ref().filter(|t| t.trigger.is_some());
-            let Some(times) = times else {
-                return Err(bad(
-                    "times counted from the trigger, but the file states no trigger time (only \
-                     COMTRADE records do): count from the first sample instead"
-                        .into(),
-                ));
-            };
-            match times.trigger_offset_s {
-                Some(t) => t,
-                None => {
-                    return Err(bad(format!(
-                        "the trigger time '{}' cannot be placed against the start time '{}': \
-                         count from the first sample instead",
-                        times.trigger.as_deref().unwrap_or(""),
-                        times.start.as_deref().unwrap_or("")
-                    )));
-                }
-            }
-        }
-    };
-    let duration = n as f64 / rate;
+    let zero = zero_s(request, capture.times.as_ref()).map_err(bad)?;
+    // the time of this capture's first sample in its record
+    let offset = capture.span.map_or(0.0, |s| s.start_s);
+    let end_s = offset + n as f64 / rate;
     let whole = || {
+        let what = if capture.span.is_some_and(|s| s.len < s.of) {
+            "the part of the record at this rate"
+        } else {
+            "the record"
+        };
         format!(
-            "the record runs from 0 to {duration} s after its first sample ({n} samples at \
+            "{what} runs from {offset} to {end_s} s after its first sample ({n} samples at \
              {rate} Hz){}",
             match request.zero {
                 TimeZero::Trigger => format!(", its trigger at {zero} s"),
@@ -155,7 +174,7 @@ pub fn select(capture: &Capture, request: &SpanRequest) -> Result<Capture, LoadE
             }
         )
     };
-    let index = |t: f64| (t * rate - EDGE_TOLERANCE).ceil();
+    let index = |t: f64| ((t - offset) * rate - EDGE_TOLERANCE).ceil();
     let first = match request.from_s {
         None => 0.0,
         Some(from) => index(from + zero),
@@ -189,13 +208,163 @@ pub fn select(capture: &Capture, request: &SpanRequest) -> Result<Capture, LoadE
     Ok(capture.span(first..end))
 }
 
+/// A stretch of a record sampled at one rate.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RateSegment {
+    /// Samples per second.
+    pub rate_hz: f64,
+    /// Index of its first sample, counted from the record's first sample (0-based).
+    pub first: usize,
+    /// Number of samples.
+    pub len: usize,
+    /// Time of its first sample, seconds after the record's first sample.
+    pub start_s: f64,
+}
+
+impl RateSegment {
+    /// One interval after its last sample, seconds after the record's first sample (where the
+    /// next segment starts).
+    pub fn end_s(&self) -> f64 {
+        self.start_s + self.len as f64 / self.rate_hz
+    }
+
+    /// The segment as a [`Span`] of a record of `of` samples lasting `record_s` seconds.
+    pub fn span(&self, of: usize, record_s: f64) -> Span {
+        Span {
+            first: self.first,
+            len: self.len,
+            of,
+            start_s: self.start_s,
+            record_s,
+        }
+    }
+
+    /// `1000 Hz from 0.5 to 1.5 s`.
+    fn describe(&self) -> String {
+        format!(
+            "{} Hz from {} to {} s",
+            self.rate_hz,
+            self.start_s,
+            self.end_s()
+        )
+    }
+}
+
+/// The segments of a record from its rates and the 1-based number of the last sample at each
+/// (a COMTRADE `.cfg`'s `samp,endsamp` lines): segment `k` holds the samples after the previous
+/// one's last up to its own, `1 / rate` apart, and starts when the previous one ends. The end
+/// samples must rise (the caller has checked it).
+pub fn segments(rates: &[(f64, u64)]) -> Vec<RateSegment> {
+    let mut out = Vec::with_capacity(rates.len());
+    let (mut first, mut start_s) = (0u64, 0.0);
+    for &(rate_hz, end) in rates {
+        let len = end.saturating_sub(first);
+        let seg = RateSegment {
+            rate_hz,
+            first: first as usize,
+            len: len as usize,
+            start_s,
+        };
+        start_s = seg.end_s();
+        first = end;
+        out.push(seg);
+    }
+    out
+}
+
+/// The segments in words: `4000 Hz from 0 to 0.5 s, 1000 Hz from 0.5 to 1.5 s`.
+fn list(segments: &[RateSegment]) -> String {
+    segments
+        .iter()
+        .map(RateSegment::describe)
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// Which segment of a record with several rates to analyse: the one `request` lies in, or without
+/// a request the longest in time (the earliest of equals), with a warning naming it. A request
+/// that crosses a change of rate, or lies outside every segment, is refused with the segments
+/// and how to ask for one.
+pub fn choose_segment(
+    segments: &[RateSegment],
+    request: Option<&SpanRequest>,
+    times: Option<&RecordTimes>,
+) -> Result<(usize, Option<Warning>), LoadErrorKind> {
+    let example = |s: &RateSegment, zero: f64| {
+        format!("--from {} --to {}", s.start_s - zero, s.end_s() - zero)
+    };
+    let Some(request) = request else {
+        let mut best = 0;
+        for (k, s) in segments.iter().enumerate() {
+            if s.end_s() - s.start_s > segments[best].end_s() - segments[best].start_s {
+                best = k;
+            }
+        }
+        // the example asks for another part than the one analysed
+        let other = usize::from(best == 0);
+        let chosen = segments
+            .get(best)
+            .copied()
+            .ok_or_else(|| LoadErrorKind::BadRecord("the record states no sample rate".into()))?;
+        return Ok((
+            best,
+            Some(Warning::RatePartChosen {
+                rate_hz: chosen.rate_hz,
+                start_s: chosen.start_s,
+                end_s: chosen.end_s(),
+                parts: list(segments),
+                example: segments
+                    .get(other)
+                    .map_or(String::new(), |s| example(s, 0.0)),
+            }),
+        ));
+    };
+    let bad = |m: String| LoadErrorKind::BadSpan(format!("{request}: {m}"));
+    let zero = zero_s(request, times).map_err(bad)?;
+    let end = segments.last().map_or(0.0, RateSegment::end_s);
+    let from = request.from_s.map_or(0.0, |t| t + zero);
+    let to = request.to_s.map_or(end, |t| t + zero);
+    // the segment holding the span's first sample: from is on or after its start and before
+    // its end (edges within a small fraction of a sample interval count as on them)
+    let found = segments.iter().position(|s| {
+        let tol = EDGE_TOLERANCE / s.rate_hz;
+        from >= s.start_s - tol && from < s.end_s() - tol && to <= s.end_s() + tol
+    });
+    match found {
+        Some(k) => Ok((k, None)),
+        None => {
+            let zero_words = match request.zero {
+                TimeZero::Trigger => format!(" (the trigger at {zero} s)"),
+                TimeZero::Start => String::new(),
+            };
+            let within = segments
+                .iter()
+                .any(|s| from >= s.start_s && from < s.end_s())
+                && to <= end;
+            Err(bad(format!(
+                "{}; the record's parts at one rate, in seconds after its first sample{zero_words}, \
+                 are {}: ask for a span inside one of them (e.g. {})",
+                if within {
+                    "it crosses a change of sample rate"
+                } else {
+                    "it is not inside the record"
+                },
+                list(segments),
+                segments.first().map_or(String::new(), |s| example(s, zero))
+            )))
+        }
+    }
+}
+
 impl Span {
-    /// The span of a whole record of `len` samples.
-    pub fn whole(len: usize) -> Span {
+    /// The span of a whole record of `len` samples at `sample_rate_hz`.
+    pub fn whole(len: usize, sample_rate_hz: f64) -> Span {
         Span {
             first: 0,
             len,
             of: len,
+            start_s: 0.0,
+            record_s: len as f64 / sample_rate_hz,
         }
     }
 

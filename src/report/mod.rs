@@ -78,9 +78,9 @@ pub fn span_text(a: &Analysis) -> Option<String> {
     }
     let mut text = format!(
         "{} to {} s of {} s (samples {} to {} of {})",
-        seconds(s.start_s(rate)),
+        seconds(s.start_s()),
         seconds(s.end_s(rate)),
-        seconds(s.of as f64 / rate),
+        seconds(s.record_s),
         s.first,
         s.first + s.len - 1,
         s.of
@@ -88,7 +88,7 @@ pub fn span_text(a: &Analysis) -> Option<String> {
     if let Some(t) = a.times.as_ref().and_then(|t| t.trigger_offset_s) {
         text.push_str(&format!(
             ", {} to {} s from the trigger",
-            seconds(s.start_s(rate) - t),
+            seconds(s.start_s() - t),
             seconds(s.end_s(rate) - t)
         ));
     }

@@ -118,9 +118,9 @@ impl SpanRecord {
         let (span, rate) = (a.span, a.sample_rate_hz);
         let trigger = a.times.as_ref().and_then(|t| t.trigger_offset_s);
         SpanRecord {
-            start_s: span.start_s(rate),
+            start_s: span.start_s(),
             end_s: span.end_s(rate),
-            trigger_start_s: trigger.map(|t| span.start_s(rate) - t),
+            trigger_start_s: trigger.map(|t| span.start_s() - t),
             trigger_end_s: trigger.map(|t| span.end_s(rate) - t),
             first_sample: span.first,
             samples: span.len,

@@ -258,7 +258,7 @@ pub fn trend(
         span: capture
             .span
             .filter(|s| !s.is_whole())
-            .map(|s| (s.start_s(fs), s.end_s(fs))),
+            .map(|s| (s.start_s(), s.end_s(fs))),
         source,
     };
     if capture.len() < estimate::MIN_SAMPLES {
@@ -278,13 +278,14 @@ pub fn trend(
         .unwrap_or_else(|| default_cycles(est.frequency_hz));
     let (list, rest) = windows(track, fs, est.frequency_hz, cycles);
     // times count from the record's first sample, also when a span of it was asked for
-    let base = capture.span.map_or(0, |s| s.first);
+    // (a record with several rates: from the start of the part at this rate)
+    let base = capture.span.map_or(0.0, |s| s.start_s);
     let left_out = (rest > 0).then(|| {
         let f = list.last().map_or(est.frequency_hz, |w| w.frequency_hz);
-        let end = base + capture.len();
+        let end = capture.len();
         LeftOut {
-            start_s: (end - rest) as f64 / fs,
-            end_s: end as f64 / fs,
+            start_s: base + (end - rest) as f64 / fs,
+            end_s: base + end as f64 / fs,
             cycles: rest as f64 * f / fs,
         }
     });
@@ -312,16 +313,15 @@ pub fn trend(
 fn window_figures(
     index: usize,
     w: &Window,
-    base: usize,
+    base_s: f64,
     fs: f64,
     analysed: Result<window::WindowAnalysis, EstimateError>,
 ) -> WindowFigures {
-    let start = base + w.first;
     let mut row = WindowFigures {
         index,
         windows: 1,
-        start_s: start as f64 / fs,
-        end_s: (start + w.len) as f64 / fs,
+        start_s: base_s + w.first as f64 / fs,
+        end_s: base_s + (w.first + w.len) as f64 / fs,
         cycles: w.len as f64 * w.frequency_hz / fs,
         frequency_hz: w.frequency_hz,
         phases: Err(String::new()),

@@ -54,9 +54,46 @@ pub fn write_record_at(
     chans: &[Chan],
     rate: f64,
     fmt: Fmt,
+    times: (&str, &str),
+) -> PathBuf {
+    let n = chans[0].raw.len();
+    write_record_rates(dir, name, chans, &[(rate, n)], fmt, times)
+}
+
+/// The time of each sample, seconds after the first, of a record at `rates` (each rate with the
+/// 1-based number of its last sample): the samples of each rate are `1 / rate` apart and the
+/// first sample at a new rate comes one interval of the old rate after the last sample at it
+/// (IEEE C37.111 `samp,endsamp` lines, from memory).
+pub fn sample_times(rates: &[(f64, usize)]) -> Vec<f64> {
+    let mut times = Vec::new();
+    let (mut first, mut start) = (0usize, 0.0);
+    for &(rate, end) in rates {
+        for k in first..end {
+            times.push(start + (k - first) as f64 / rate);
+        }
+        start += (end - first) as f64 / rate;
+        first = end;
+    }
+    times
+}
+
+/// Writes `name.cfg` and `name.dat` (1999 revision) with one `samp,endsamp` line per entry of
+/// `rates` (the rate and the 1-based number of its last sample; the last must be the channels'
+/// length) and returns the cfg's path.
+pub fn write_record_rates(
+    dir: &Path,
+    name: &str,
+    chans: &[Chan],
+    rates: &[(f64, usize)],
+    fmt: Fmt,
     (start, trigger): (&str, &str),
 ) -> PathBuf {
     let n = chans[0].raw.len();
+    assert_eq!(
+        rates.last().map(|r| r.1),
+        Some(n),
+        "the last rate ends at the last sample"
+    );
     let mut cfg = format!(
         "Test bench recorder,unit 1,1999\n{},{}A,0D\n",
         chans.len(),
@@ -77,16 +114,17 @@ pub fn write_record_at(
             c.ratio.2
         ));
     }
-    cfg.push_str(&format!(
-        "50\n1\n{rate},{n}\n{start}\n{trigger}\n{}\n1\n",
-        fmt.name()
-    ));
+    cfg.push_str(&format!("50\n{}\n", rates.len()));
+    for (rate, end) in rates {
+        cfg.push_str(&format!("{rate},{end}\n"));
+    }
+    cfg.push_str(&format!("{start}\n{trigger}\n{}\n1\n", fmt.name()));
     let cfg_path = dir.join(format!("{name}.cfg"));
     std::fs::write(&cfg_path, cfg).unwrap();
-    let step_us = 1e6 / rate;
+    let times = sample_times(rates);
     let mut dat = Vec::new();
-    for s in 0..n {
-        let stamp = (s as f64 * step_us).round() as u32;
+    for (s, t) in times.iter().enumerate() {
+        let stamp = (t * 1e6).round() as u32;
         match fmt {
             Fmt::Ascii => {
                 let vals: Vec<String> = chans.iter().map(|c| format!("{}", c.raw[s])).collect();
