@@ -386,7 +386,8 @@ fn plot_dir_gets_one_svg_per_plot_and_capture() {
     let a = analyse(RLC);
     let other = dir.path().join("other");
     let written =
-        tracephase::app::html::write_plot_dir(&other, &a, None, &PlotOptions::default()).unwrap();
+        tracephase::app::html::write_plot_dir(&other, &a, None, None, &PlotOptions::default())
+            .unwrap();
     assert_eq!(written.len(), 4);
     assert!(written.iter().all(|p| p.starts_with(&other) && p.exists()));
 }
@@ -496,6 +497,7 @@ fn bank_and_meter_checks_get_their_sections_and_cautions() {
         vec![Entry::Analysed {
             analysis: &before,
             expectation: None,
+            trend: None,
         }],
     );
     doc.bank = Some(BankSection {
@@ -576,6 +578,7 @@ fn a_report_written_in_pieces_equals_one_written_at_once() {
         Entry::Analysed {
             analysis: &a,
             expectation: None,
+            trend: None,
         },
         Entry::Failed {
             file: "site/broken.csv".into(),
@@ -584,6 +587,7 @@ fn a_report_written_in_pieces_equals_one_written_at_once() {
         Entry::Analysed {
             analysis: &b,
             expectation: None,
+            trend: None,
         },
     ];
     let options = PlotOptions {

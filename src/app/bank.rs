@@ -144,10 +144,12 @@ pub fn run_bank(a: &BankArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outco
             Entry::Analysed {
                 analysis: &before,
                 expectation: None,
+                trend: None,
             },
             Entry::Analysed {
                 analysis: &after,
                 expectation: None,
+                trend: None,
             },
         ];
         let mut doc = HtmlDoc::new("tracephase capacitor bank check", entries);

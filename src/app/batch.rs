@@ -455,16 +455,12 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     // Captures are planned, analysed on the pool and written back in order, each row as soon as
     // it and every row before it are done; at most WINDOW captures are in between.
     // A capture's part of the report, from its row and its analysis.
-    let report_part = |anchor: usize,
-                       row: &summary::Row,
-                       analysis: &Option<(
-        crate::analysis::Analysis,
-        Option<crate::check::expected::Expectation>,
-    )>| {
+    let report_part = |anchor: usize, row: &summary::Row, analysis: &Option<batch::Kept>| {
         let entry = match analysis {
-            Some((a, x)) => Entry::Analysed {
+            Some((a, x, trend)) => Entry::Analysed {
                 analysis: a,
                 expectation: x.as_ref(),
+                trend: trend.as_ref(),
             },
             None => Entry::Failed {
                 file: row.file.clone(),
@@ -494,13 +490,13 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
             // The row is kept as it was; a report still needs the capture's section, so the
             // capture is read and analysed again for it (same file, same settings: same figures).
             let part = keep.then(|| {
-                let (row, analysis) = batch::process_keeping(&job);
+                let (row, analysis) = batch::process_keeping(&job, keep);
                 report_part(anchor, &row, &analysis)
             });
             return Outcome1::Kept(p.clone(), part, job.announce);
         }
         let t = Instant::now();
-        let (row, analysis) = batch::process_keeping(&job);
+        let (row, analysis) = batch::process_keeping(&job, keep);
         let took = t.elapsed();
         if row.not_a_capture {
             return Outcome1::NotACapture(row.message, job.announce);

@@ -5,10 +5,9 @@
 //! over it, so an interrupted run never leaves half a report. Bad files give one `error:` line
 //! each and still appear in the report as failed entries.
 
-use super::bank::analyse_file;
 use super::{ConfigError, Outcome, resolve_channels};
-use crate::analysis::{Analysis, Settings};
-use crate::capture::LoadOptions;
+use crate::analysis::{self, Analysis, Settings};
+use crate::capture::{self, LoadOptions};
 use crate::check::circuit::Circuit;
 use crate::check::expected::Expectation;
 use crate::check::tolerance::{Distribution, MonteCarloConfig};
@@ -16,7 +15,9 @@ use crate::cli::ReportArgs;
 use crate::report::html::{
     BatchRow, Digest, Entry, HtmlDoc, settings_rows, write_html, write_html_around,
 };
+use crate::report::plot::trend::{MIN_WINDOWS, TrendResult};
 use crate::report::plot::{self, Plot, PlotOptions};
+use crate::trend as over_time;
 use std::collections::HashMap;
 use std::fs;
 use std::io::{self, Write};
@@ -51,9 +52,10 @@ fn entries(results: &[FileResult]) -> Vec<Entry<'_>> {
     results
         .iter()
         .map(|r| match r {
-            Ok((analysis, predicted)) => Entry::Analysed {
+            Ok((analysis, predicted, trend)) => Entry::Analysed {
                 analysis,
                 expectation: predicted.as_ref(),
+                trend: trend.as_ref(),
             },
             Err((file, message)) => Entry::Failed {
                 file: file.clone(),
@@ -63,8 +65,26 @@ fn entries(results: &[FileResult]) -> Vec<Entry<'_>> {
         .collect()
 }
 
-/// One file's result: the analysis and its model prediction, or the file and why it failed.
-pub type FileResult = Result<(Analysis, Option<Expectation>), (String, String)>;
+/// One file's result: the analysis, its model prediction and its trend (for a report's trend
+/// plot), or the file and why it failed.
+pub type FileResult =
+    Result<(Analysis, Option<Expectation>, Option<TrendResult>), (String, String)>;
+
+/// Loads and analyses one file, with its trend when `with_trend`.
+pub(super) fn analyse_with_trend(
+    path: &Path,
+    load: &LoadOptions,
+    settings: &Settings,
+    with_trend: bool,
+) -> Result<(Analysis, Option<TrendResult>), String> {
+    let c = capture::load(path, load).map_err(|e| e.to_string())?;
+    let trend = with_trend
+        .then(|| over_time::trend_if_long(&c, settings, MIN_WINDOWS))
+        .flatten()
+        .map(|t| t.map_err(|e| e.to_string()));
+    let a = analysis::analyze(c, settings).map_err(|e| e.to_string())?;
+    Ok((a, trend))
+}
 
 /// Runs `report`.
 pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> Outcome {
@@ -78,8 +98,8 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
     let mut outcome = Outcome::Ok;
     let mut results: Vec<FileResult> = Vec::with_capacity(a.files.len());
     for path in &a.files {
-        match analyse_file(path, &cfg.load, &cfg.settings) {
-            Ok(mut an) => {
+        match analyse_with_trend(path, &cfg.load, &cfg.settings, true) {
+            Ok((mut an, trend)) => {
                 let mut predicted = None;
                 if let Some((circuit, mc)) = &cfg.expect {
                     if let Err(e) = an.single_phase_only("--expect") {
@@ -92,7 +112,7 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
                         outcome = outcome.worst(Outcome::VerdictFailed);
                     }
                 }
-                results.push(Ok((an, predicted)));
+                results.push(Ok((an, predicted, trend)));
             }
             Err(msg) => {
                 let _ = writeln!(err, "error: {msg}");
@@ -168,7 +188,7 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
     if let Some(dir) = &a.plot_dir {
         let mut used: HashMap<String, usize> = HashMap::new();
         let mut count = 0;
-        for (an, predicted) in results.iter().flatten() {
+        for (an, predicted, trend) in results.iter().flatten() {
             let base = file_stem(an);
             let seen = used.entry(base.clone()).or_insert(0);
             *seen += 1;
@@ -177,7 +197,12 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
             } else {
                 format!("{base}-{seen}")
             };
-            let plots = plot::plots_with(an, &options, predicted.as_ref());
+            let mut plots = plot::plots_with(an, &options, predicted.as_ref());
+            plots.extend(
+                trend
+                    .as_ref()
+                    .and_then(|t| plot::trend::report_plot(t, &an.events)),
+            );
             match write_plots(dir, &stem, &plots) {
                 Ok(paths) => count += paths.len(),
                 Err(e) => {
@@ -196,19 +221,19 @@ pub fn run_report(a: &ReportArgs, out: &mut dyn Write, err: &mut dyn Write) -> O
     outcome
 }
 
-/// Writes every plot of `a` (default options) as `STEM-NAME.svg` into `dir`, creating it, and
-/// returns the paths written. STEM is the capture's file stem, made safe for any file system.
+/// Writes every plot of `a` (default options; the trend plot when `trend` has enough windows)
+/// as `STEM-NAME.svg` into `dir`, creating it, and returns the paths written. STEM is the
+/// capture's file stem, made safe for any file system.
 pub fn write_plot_dir(
     dir: &Path,
     a: &Analysis,
     expectation: Option<&Expectation>,
+    trend: Option<&TrendResult>,
     options: &PlotOptions,
 ) -> io::Result<Vec<PathBuf>> {
-    write_plots(
-        dir,
-        &file_stem(a),
-        &plot::plots_with(a, options, expectation),
-    )
+    let mut plots = plot::plots_with(a, options, expectation);
+    plots.extend(trend.and_then(|t| plot::trend::report_plot(t, &a.events)));
+    write_plots(dir, &file_stem(a), &plots)
 }
 
 fn write_plots(dir: &Path, stem: &str, plots: &[Plot]) -> io::Result<Vec<PathBuf>> {

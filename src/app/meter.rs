@@ -93,6 +93,7 @@ pub fn run_meter(a: &MeterArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
         let entries = vec![Entry::Analysed {
             analysis: &analysis,
             expectation: None,
+            trend: None,
         }];
         let mut doc = HtmlDoc::new("tracephase meter check", entries);
         doc.settings = settings_rows(&settings);

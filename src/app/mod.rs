@@ -10,7 +10,7 @@ pub mod shell;
 pub mod trend;
 
 use crate::analysis::{self, Settings};
-use crate::capture::{self, ChannelSel, LoadOptions, SpanRequest};
+use crate::capture::{ChannelSel, LoadOptions, SpanRequest};
 use crate::check::circuit::Circuit;
 use crate::check::expected::expectation;
 use crate::check::tolerance::{Distribution, MAX_DRAWS, MonteCarloConfig};
@@ -336,11 +336,9 @@ pub fn run_analyze(
     let mut kept: Vec<html::FileResult> = Vec::new();
     let mut csv_kind: Option<bool> = None;
     for path in files {
-        let result = capture::load(path, &cfg.load)
-            .map_err(|e| e.to_string())
-            .and_then(|c| analysis::analyze(c, &cfg.settings).map_err(|e| e.to_string()));
+        let result = html::analyse_with_trend(path, &cfg.load, &cfg.settings, keep);
         match result {
-            Ok(mut a) => {
+            Ok((mut a, trend)) => {
                 let mut predicted = None;
                 if let Some((circuit, mc)) = &cfg.expect {
                     if let Err(e) = a.single_phase_only("--expect") {
@@ -376,7 +374,7 @@ pub fn run_analyze(
                 }
                 io_ok &= exporter.write(out, &a).is_ok();
                 if keep {
-                    kept.push(Ok((a, predicted)));
+                    kept.push(Ok((a, predicted, trend)));
                 }
             }
             Err(msg) => {
@@ -391,8 +389,15 @@ pub fn run_analyze(
         }
     }
     if let Some(dir) = &cfg.plot_dir {
-        for (a, predicted) in kept.iter().flatten() {
-            if let Err(e) = html::write_plot_dir(dir, a, predicted.as_ref(), &cfg.plot_options) {
+        for (a, predicted, trend) in kept.iter().flatten() {
+            let written = html::write_plot_dir(
+                dir,
+                a,
+                predicted.as_ref(),
+                trend.as_ref(),
+                &cfg.plot_options,
+            );
+            if let Err(e) = written {
                 let _ = writeln!(
                     err,
                     "error: {}: could not write the plots: {e}",

@@ -23,6 +23,7 @@ use crate::check::expected::Expectation;
 use crate::check::meter::{self, AccuracyClass, MeterVerdict, PfSign, Reading};
 use crate::check::tolerance::{Distribution, MAX_DRAWS, MonteCarloConfig};
 use crate::quantity::uncertainty::{Adc, UncertaintyInputs};
+use crate::report::plot::trend::{MIN_WINDOWS, TrendResult};
 use crate::report::wire::AnalysisRecord;
 use crate::warning::Severity;
 use serde_json::Value;
@@ -454,14 +455,19 @@ pub fn fingerprint_file(path: &Path) -> std::io::Result<String> {
 
 /// Loads, analyses and checks one capture. Never fails: trouble becomes an `error` row.
 pub fn process(job: &Job) -> Row {
-    process_keeping(job).0
+    process_keeping(job, false).0
 }
 
-/// [`process`], also returning the analysis and the circuit model's prediction (for a report)
-/// when there is one. The row's content fingerprint is of the bytes analysed
-/// ([`content::read_checked`]); a capture that changed while it was read is an error row.
-pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Expectation>)>) {
-    let ((mut row, kept), hash) = content::read_checked(&job.path, || analyse_row(job));
+/// What a report needs of an analysed capture: the analysis, the circuit model's prediction when
+/// there is one, and the capture's windows over time for its trend plot when asked for and the
+/// capture is long enough ([`crate::report::plot::trend::MIN_WINDOWS`]).
+pub type Kept = (analysis::Analysis, Option<Expectation>, Option<TrendResult>);
+
+/// [`process`], also returning what a report needs ([`Kept`]; the trend only `with_trend`).
+/// The row's content fingerprint is of the bytes analysed ([`content::read_checked`]); a
+/// capture that changed while it was read is an error row.
+pub fn process_keeping(job: &Job, with_trend: bool) -> (Row, Option<Kept>) {
+    let ((mut row, kept), hash) = content::read_checked(&job.path, || analyse_row(job, with_trend));
     match hash {
         Ok(h) => {
             row.content_hash = h;
@@ -482,7 +488,7 @@ pub fn process_keeping(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Ex
     }
 }
 
-fn analyse_row(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Expectation>)>) {
+fn analyse_row(job: &Job, with_trend: bool) -> (Row, Option<Kept>) {
     let file = summary::path_text(&job.path);
     let mut row = Row {
         file: file.clone(),
@@ -502,8 +508,16 @@ fn analyse_row(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Expectatio
             return (row, None);
         }
     };
+    let mut trend = None;
     let analysed = match capture::load(&job.path, &setup.load) {
-        Ok(c) => analysis::analyze(c, &setup.settings).map_err(|e| e.to_string()),
+        Ok(c) => {
+            // the trend first: the analysis takes the capture
+            trend = with_trend
+                .then(|| crate::trend::trend_if_long(&c, &setup.settings, MIN_WINDOWS))
+                .flatten()
+                .map(|t| t.map_err(|e| e.to_string()));
+            analysis::analyze(c, &setup.settings).map_err(|e| e.to_string())
+        }
         Err(e) => {
             // only a `.txt` is taken for notes: a `.csv` or `.wav` of no use is a failed export
             row.not_a_capture = e.kind.is_not_a_capture()
@@ -658,7 +672,7 @@ fn analyse_row(job: &Job) -> (Row, Option<(analysis::Analysis, Option<Expectatio
         }
     }
     row.result = Some(result);
-    (row, Some((a, predicted)))
+    (row, Some((a, predicted, trend)))
 }
 
 /// The bank check of an analysed capture against its bank-out capture, analysed here with the

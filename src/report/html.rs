@@ -12,6 +12,7 @@
 
 mod three_phase;
 
+use super::plot::trend::TrendResult;
 use super::plot::{self, Plot, PlotOptions};
 use super::table::{num, pm};
 use crate::analysis::{Analysis, Settings};
@@ -64,6 +65,8 @@ pub enum Entry<'a> {
         analysis: &'a Analysis,
         /// The model's prediction at the measured frequency.
         expectation: Option<&'a Expectation>,
+        /// Its windows over time, for the trend plot (`None`: not computed, too short).
+        trend: Option<&'a TrendResult>,
     },
     /// A file that could not be read or analysed.
     Failed {
@@ -343,7 +346,8 @@ fn entry_section(
         Entry::Analysed {
             analysis,
             expectation,
-        } => capture_section(h, k, analysis, *expectation, options),
+            trend,
+        } => capture_section(h, k, analysis, *expectation, *trend, options),
         Entry::Failed { file, message } => writeln!(
             h,
             "<section id=\"capture-{k}\">\n<h2>{} <span class=\"badge error\">error\
@@ -620,6 +624,7 @@ fn capture_section(
     k: usize,
     a: &Analysis,
     expectation: Option<&Expectation>,
+    trend: Option<&TrendResult>,
     options: &PlotOptions,
 ) -> std::fmt::Result {
     let q = &a.quantities;
@@ -665,7 +670,7 @@ fn capture_section(
             h,
             "<p class=\"note\">The phasor diagram shows the three phases, the waveform and spectrum plots each phase (their captions say which); the power triangle shows phase a.</p>"
         )?;
-        return capture_tail(h, a, expectation, options);
+        return capture_tail(h, a, expectation, trend, options);
     }
     writeln!(
         h,
@@ -786,7 +791,7 @@ fn capture_section(
         ),
     )?;
     writeln!(h, "</table>")?;
-    capture_tail(h, a, expectation, options)
+    capture_tail(h, a, expectation, trend, options)
 }
 
 /// The frequency of a three-phase capture, above its per-phase table.
@@ -812,13 +817,23 @@ fn capture_tail(
     h: &mut String,
     a: &Analysis,
     expectation: Option<&Expectation>,
+    trend: Option<&TrendResult>,
     options: &PlotOptions,
 ) -> std::fmt::Result {
     if let Some(e) = &a.expected {
         expected_block(h, e)?;
     }
-    let plots = plot::plots_with(a, options, expectation);
+    let mut plots = plot::plots_with(a, options, expectation);
+    plots.extend(trend.and_then(|t| plot::trend::report_plot(t, &a.events)));
     write_plots(h, &plots)?;
+    // the events, as `analyze` lists them (the trend plot marks the same ones)
+    if !a.events.is_empty() {
+        writeln!(h, "<h3>Events</h3>\n<ul class=\"notes\">")?;
+        for e in &a.events {
+            writeln!(h, "<li>{}</li>", escape(&super::table::event_text(e)))?;
+        }
+        writeln!(h, "</ul>")?;
+    }
     // warnings always (their absence is news), findings and notes when there are any
     for (title, severity, class) in [
         ("Warnings", Severity::Warning, "warn"),

@@ -252,6 +252,32 @@ pub fn trend(
     settings: &Settings,
     ts: &TrendSettings,
 ) -> Result<Trend, AnalysisError> {
+    trend_of(&capture, settings, ts)
+}
+
+/// No window of the default length is shorter than 12 cycles of 70 Hz (0.171 s,
+/// [`default_cycles`]).
+const SHORTEST_WINDOW_S: f64 = 0.17;
+
+/// [`trend_of`] with the default windows, for a capture long enough to hold `min_windows` of
+/// them; `None` (nothing computed) for a shorter one.
+pub fn trend_if_long(
+    capture: &Capture,
+    settings: &Settings,
+    min_windows: usize,
+) -> Option<Result<Trend, AnalysisError>> {
+    let seconds = capture.len() as f64 / capture.sample_rate_hz;
+    (seconds >= min_windows as f64 * SHORTEST_WINDOW_S)
+        .then(|| trend_of(capture, settings, &TrendSettings::default()))
+}
+
+/// [`trend`] of a capture that stays the caller's (a report analyses the same capture whole
+/// afterwards, without a second copy of its samples).
+pub fn trend_of(
+    capture: &Capture,
+    settings: &Settings,
+    ts: &TrendSettings,
+) -> Result<Trend, AnalysisError> {
     let fs = capture.sample_rate_hz;
     let fail = |source| AnalysisError {
         path: capture.path.clone(),
@@ -300,13 +326,13 @@ pub fn trend(
         })
         .collect();
     Ok(Trend {
-        path: capture.path,
+        path: capture.path.clone(),
         sample_rate_hz: fs,
         system: capture.system,
         window_cycles: cycles,
         windows: rows,
         left_out,
-        warnings: capture.warnings,
+        warnings: capture.warnings.clone(),
     })
 }
 

@@ -41,9 +41,24 @@ bin=target/release/tracephase
 "$bin" analyze fixtures/demo-*.csv --format json >"$work/demo.jsonl"
 "$bin" report fixtures/demo-lab-bench-series-rlc-semicolon-decimal-comma.csv \
   --expect fixtures/demo-lab-bench-series-rlc.toml -o "$work/expect.html"
-# the plots each capture section promises: the four of every capture, and the tolerance band
-# where a circuit model was given
-declare -A PLOTS=([demo]=waveform,phasor,spectrum,triangle [expect]=waveform,phasor,spectrum,triangle,band)
+# a capture of 3 s (15 windows) with a load switched at 2.0 s, for the trend plot
+python3 - "$work/long-bank-switching.csv" <<'PY'
+import math, sys
+with open(sys.argv[1], "w") as f:
+    f.write("time,V,I\n")
+    for k in range(30000):
+        t = k / 10000
+        w = 2 * math.pi * 50 * t
+        i = (20, -36.87) if t < 2.0 else (13.5, -8.0)
+        v = 230 * math.sqrt(2) * math.sin(w)
+        c = i[0] * math.sqrt(2) * math.sin(w + math.radians(i[1])) + 2 * math.sqrt(2) * math.sin(5 * w)
+        f.write(f"{t:.4f},{v:.4f},{c:.4f}\n")
+PY
+"$bin" report "$work/long-bank-switching.csv" -o "$work/long.html"
+# the plots each capture section promises: the four of every capture, the tolerance band where a
+# circuit model was given, and the trend of a capture of four windows or more
+declare -A PLOTS=([demo]=waveform,phasor,spectrum,triangle [expect]=waveform,phasor,spectrum,triangle,band \
+  [long]=waveform,phasor,spectrum,triangle,trend)
 
 # Flags: no sandbox (CI runs as root in a container), no GPU, no background traffic, and every
 # host name resolves to nothing, so the page cannot fetch anything even if it tried.
@@ -58,7 +73,7 @@ chromium() {
 }
 
 status=0
-for page in demo expect; do
+for page in demo expect long; do
   html="$work/$page.html"
   echo "-- rendering $page.html"
   # The DOM after loading, with the console logged to stderr.

@@ -9,7 +9,8 @@
 //! - [`spectrum`]: harmonics in percent of the fundamental against the IEEE 519-2014 limits;
 //! - [`triangle`]: P, Q1, S1 and the non-fundamental apparent power SN (IEEE 1459);
 //! - [`band`]: a model's tolerance band, its Monte Carlo histogram and the measured angle ± U;
-//! - [`pf`]: the true PF of many captures, for a batch summary.
+//! - [`pf`]: the true PF of many captures, for a batch summary;
+//! - [`trend`]: PF, Q1 and THD-I of each 10/12-cycle window of a long capture, with its events.
 //!
 //! Plots are drawn with plotters' SVG backend and no font feature: the viewer draws the text in
 //! its own sans-serif, label widths are estimated, so label areas are given room. Nothing in a
@@ -20,6 +21,7 @@ pub mod pf;
 pub mod phasor;
 pub mod phasor3;
 pub mod spectrum;
+pub mod trend;
 pub mod triangle;
 pub mod waveform;
 
@@ -118,7 +120,8 @@ impl Default for PlotOptions {
 pub struct Plot {
     /// Short name, used in file names: `waveform`, `phasor`, `spectrum`, `triangle`, `band`;
     /// for a three-phase capture also `waveform-b`, `spectrum-b`, `waveform-c`, `spectrum-c`
-    /// (the unsuffixed waveform and spectrum are phase a's).
+    /// (the unsuffixed waveform and spectrum are phase a's); `trend` for a capture of at least
+    /// [`trend::MIN_WINDOWS`] windows.
     pub name: &'static str,
     /// What it shows, for a figure caption.
     pub caption: String,
