@@ -139,14 +139,15 @@ fn the_plotted_series_are_the_trends_rows_and_the_switching_is_marked_at_its_ins
     assert!(texts.iter().any(|t| t.contains("THD-I (% of I1)")));
 }
 
-/// Three windows are fewer than [`MIN_WINDOWS`]: no trend plot.
+/// Three windows are fewer than [`MIN_WINDOWS`]: no trend plot; four are enough.
 #[test]
-fn a_capture_of_three_windows_has_no_trend_plot() {
-    let (c, ..) = switched(6_000);
-    let t = trend_of(&c, &Settings::default(), &TrendSettings::default()).unwrap();
-    assert_eq!(t.windows.len(), 3);
-    assert!(MIN_WINDOWS > 3);
-    assert!(trend_plot::series(&t, &[]).is_none());
+fn a_capture_of_three_windows_has_no_trend_plot_and_one_of_four_has() {
+    for (samples, windows, drawn) in [(6_000, 3, false), (8_000, MIN_WINDOWS, true)] {
+        let (c, ..) = switched(samples);
+        let t = trend_of(&c, &Settings::default(), &TrendSettings::default()).unwrap();
+        assert_eq!(t.windows.len(), windows);
+        assert_eq!(trend_plot::series(&t, &[]).is_some(), drawn);
+    }
 }
 
 /// A balanced 4-wire load with phase b's current switched: one line per phase in each panel and

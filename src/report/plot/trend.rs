@@ -5,7 +5,7 @@
 //! - **When.** Only for a capture of at least [`MIN_WINDOWS`] whole windows (about 0.8 s at
 //!   50 Hz): fewer points show no trend, and the capture's own figures say it all.
 //! - **What.** Top: displacement PF cos θ1 (solid) and true PF P/S (dashed); middle: Q1 (var,
-//!   + inductive, IEEE Std 1459-2010); bottom: THD of the current in % of I1. A three-phase
+//!   positive inductive, IEEE Std 1459-2010); bottom: THD of the current in % of I1. A three-phase
 //!   capture has one line per phase in each panel, in the phase's colour, and the system's lines
 //!   in ink: the effective PFe = P/Se (IEEE 1459 §3.2) and Σ Q1 (our choice: one panel per
 //!   quantity keeps phases comparable at a glance, which per-phase panels would not).
