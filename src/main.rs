@@ -17,6 +17,6 @@ fn main() -> ExitCode {
     let mut out = std::io::BufWriter::new(stdout);
     // not held locked: a batch's Ctrl-C handler writes to it from its own thread; control
     // characters from file names and typed text are shown, not obeyed
-    let mut err = app::escape::Escaped(std::io::stderr());
+    let mut err = app::escape::Escaped::new(std::io::stderr());
     ExitCode::from(app::run(cli, &mut out, &mut err).code())
 }

@@ -4,8 +4,30 @@
 
 use std::io::{self, Write};
 
-/// A writer that escapes control characters before they reach `W`.
-pub struct Escaped<W: Write>(pub W);
+/// A writer that escapes control characters before they reach `W`. A C1 control is two bytes
+/// in UTF-8 (`0xc2` then `0x80`-`0x9f`); a write ending in `0xc2` holds that byte back until the
+/// next write (or a flush) shows what follows, so a control split across two writes is escaped
+/// too.
+pub struct Escaped<W: Write> {
+    inner: W,
+    /// A `0xc2` that ended the last write.
+    held: bool,
+}
+
+impl<W: Write> Escaped<W> {
+    /// Escapes what is written before it reaches `inner`.
+    pub fn new(inner: W) -> Self {
+        Escaped { inner, held: false }
+    }
+
+    /// Writes the held `0xc2`, if any, as it is (what followed it was not a C1 control's end).
+    fn release(&mut self) -> io::Result<()> {
+        if std::mem::take(&mut self.held) {
+            self.inner.write_all(&[0xc2])?;
+        }
+        Ok(())
+    }
+}
 
 /// `bytes` with every control character but `\n` and `\t` escaped.
 pub fn escape_controls(bytes: &[u8]) -> Vec<u8> {
@@ -30,12 +52,31 @@ pub fn escape_controls(bytes: &[u8]) -> Vec<u8> {
 
 impl<W: Write> Write for Escaped<W> {
     fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
-        self.0.write_all(&escape_controls(buf))?;
+        if buf.is_empty() {
+            return Ok(0);
+        }
+        let mut bytes = Vec::with_capacity(buf.len() + 1);
+        if std::mem::take(&mut self.held) {
+            bytes.push(0xc2);
+        }
+        bytes.extend_from_slice(buf);
+        if bytes.last() == Some(&0xc2) {
+            bytes.pop();
+            self.held = true;
+        }
+        self.inner.write_all(&escape_controls(&bytes))?;
         Ok(buf.len())
     }
 
     fn flush(&mut self) -> io::Result<()> {
-        self.0.flush()
+        self.release()?;
+        self.inner.flush()
+    }
+}
+
+impl<W: Write> Drop for Escaped<W> {
+    fn drop(&mut self) {
+        let _ = self.release();
     }
 }
 
@@ -51,5 +92,31 @@ mod tests {
             shown,
             "error: \\x1b[31mred\\x00.csv\\u{9b}2J: bad\n\tnext line, Zähler\n"
         );
+    }
+
+    /// U+009B (CSI, as UTF-8 `c2 9b`) split between two writes, as a caller writing bytes in
+    /// pieces may split it (the case); the C1 range U+0080-U+009F is the Unicode
+    /// standard's (from memory).
+    #[test]
+    fn a_c1_control_split_across_two_writes_is_escaped() {
+        let mut out = Vec::new();
+        {
+            let mut w = Escaped::new(&mut out);
+            w.write_all(b"error: x\xc2").unwrap();
+            w.write_all(b"\x9b2J.csv: bad\n").unwrap();
+        }
+        assert_eq!(
+            String::from_utf8(out).unwrap(),
+            "error: x\\u{9b}2J.csv: bad\n"
+        );
+        // a held 0xc2 that begins an ordinary character goes out whole with it; at a flush it
+        // goes out as it is
+        let mut out = Vec::new();
+        let mut w = Escaped::new(&mut out);
+        w.write_all(b"Z\xc2").unwrap();
+        w.write_all(b"\xa0h\xc2").unwrap();
+        w.flush().unwrap();
+        drop(w);
+        assert_eq!(out, b"Z\xc2\xa0h\xc2");
     }
 }
