@@ -176,6 +176,71 @@ fn a_sidecar_mistake_is_told_once_with_its_file_and_line() {
     );
 }
 
+/// The issue's invalid glob in a `[[files]]` section: a set opened with `[` and never closed.
+/// The sidecar is refused like any other mistake (one line with its file and line, exit 2, its
+/// folder's captures error rows) and the captures beside it keep their results.
+#[test]
+fn an_invalid_pattern_is_an_error_naming_the_sidecar_and_line() {
+    let dir = TempDir::new().unwrap();
+    let site = dir.path().join("site");
+    capture(&site.join("motors/m1.csv"), "t,v,i", 1.0);
+    capture(&site.join("feeder.csv"), "t,v,i", 1.0);
+    std::fs::write(
+        site.join("motors/tracephase.toml"),
+        "i_scale = 10\n[[files]]\npattern = \"m[12.csv\"\ni_scale = 100\n",
+    )
+    .unwrap();
+    let (rows, err, code) = run(&site, &[]);
+    assert_eq!(code, 2, "{err}");
+    let errors: Vec<&str> = err.lines().filter(|l| l.starts_with("error:")).collect();
+    assert_eq!(errors.len(), 1, "{err}");
+    assert!(
+        errors[0].contains("motors/tracephase.toml: line 3: pattern \"m[12.csv\" opens a set"),
+        "{}",
+        errors[0]
+    );
+    let status: Vec<&str> = rows.iter().map(|r| r["status"].as_str().unwrap()).collect();
+    assert_eq!(status, ["ok", "error"], "{rows:?}");
+}
+
+/// The issue's silent pattern: `[[files]]` sections whose pattern matches no capture (a name
+/// misremembered) are each told with the sidecar, line and pattern, and counted in the batch's
+/// last line; the pattern that does match is not.
+#[test]
+fn a_pattern_matching_no_capture_is_a_warning_with_its_line() {
+    let dir = TempDir::new().unwrap();
+    let site = dir.path().join("site");
+    capture(&site.join("motors/m1-clamp-a.csv"), "t,v,i", 1.0);
+    capture(&site.join("motors/deep/m2.csv"), "t,v,i", 1.0);
+    std::fs::write(
+        site.join("motors/tracephase.toml"),
+        "i_scale = 10\n[[files]]\npattern = \"*-clamp-b*\"\ni_scale = 100\n\n\
+         [[files]]\npattern = \"m2.csv\"\nharmonics = 13\n[[files]]\npattern = \"*.wav\"\n\
+         harmonics = 7\n",
+    )
+    .unwrap();
+    let (rows, err, code) = run(&site, &[]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(rows.len(), 2);
+    let warnings: Vec<&str> = err.lines().filter(|l| l.starts_with("warning:")).collect();
+    assert_eq!(warnings.len(), 2, "{err}");
+    assert!(
+        warnings[0].contains("motors/tracephase.toml: line 3: the [[files]] pattern \"*-clamp-b*\" matches no capture"),
+        "{}",
+        warnings[0]
+    );
+    assert!(
+        warnings[1].contains("motors/tracephase.toml: line 10: the [[files]] pattern \"*.wav\""),
+        "{}",
+        warnings[1]
+    );
+    let last = err.lines().last().unwrap();
+    assert!(
+        last.starts_with("batch: ") && last.contains("2 sidecar patterns matched no capture"),
+        "{last}"
+    );
+}
+
 #[test]
 fn command_line_values_are_checked_by_the_same_rules() {
     let dir = TempDir::new().unwrap();

@@ -123,6 +123,8 @@ pub struct Planner<'a> {
     files: FileCache,
     /// Settings errors already told (each is told once, however many captures it stops).
     told: HashSet<String>,
+    /// For each sidecar read (by folder), which of its `[[files]]` patterns matched a capture.
+    matched: HashMap<PathBuf, Vec<bool>>,
 }
 
 /// The files settings refer to (circuit models, nameplates, bank-out captures), each read once,
@@ -152,7 +154,34 @@ impl<'a> Planner<'a> {
             sidecars: HashMap::new(),
             files: FileCache::default(),
             told: HashSet::new(),
+            matched: HashMap::new(),
         }
+    }
+
+    /// One line for each `[[files]]` pattern of the sidecars read that matched none of the
+    /// captures planned so far (call it when all are planned), naming the sidecar, the line and
+    /// the pattern, in the order of the sidecars' paths and lines.
+    pub fn unmatched_patterns(&self) -> Vec<String> {
+        let mut out = Vec::new();
+        let mut dirs: Vec<&PathBuf> = self.matched.keys().collect();
+        dirs.sort();
+        for dir in dirs {
+            let Some(Some(Ok(s))) = self.sidecars.get(dir) else {
+                continue;
+            };
+            for (p, seen) in s.files.iter().zip(&self.matched[dir]) {
+                if !seen {
+                    out.push(format!(
+                        "{}: line {}: the [[files]] pattern \"{}\" matches no capture of this \
+                         batch; its settings were used nowhere",
+                        dir.join(SIDECAR).display(),
+                        p.line,
+                        p.pattern
+                    ));
+                }
+            }
+        }
+        out
     }
 
     /// The job of one capture.
@@ -178,7 +207,17 @@ impl<'a> Planner<'a> {
                 s
             });
             match entry {
-                Some(Ok(s)) => s.layers_for(&name).for_each(|l| layer.apply(l)),
+                Some(Ok(s)) => {
+                    layer.apply(&s.base);
+                    let seen = self
+                        .matched
+                        .entry(dir.clone())
+                        .or_insert_with(|| vec![false; s.files.len()]);
+                    for (k, p) in s.matching(&name) {
+                        seen[k] = true;
+                        layer.apply(&p.layer);
+                    }
+                }
                 Some(Err(e)) => trouble = Some(e.clone()),
                 None => {}
             }

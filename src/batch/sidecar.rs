@@ -361,8 +361,11 @@ pub struct Sidecar {
 /// Settings for the files whose name matches `pattern`.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct PatternLayer {
-    /// Glob on the file name: `*` any run of characters, `?` one character.
+    /// Glob on the file name: `*` any run of characters, `?` one character, `[...]` one of a
+    /// set ([`check_pattern`]).
     pub pattern: String,
+    /// 1-based line of the `pattern` key in the sidecar.
+    pub line: usize,
     /// The settings.
     pub layer: Layer,
 }
@@ -412,13 +415,19 @@ impl Sidecar {
     }
 
     /// The layers this sidecar gives a file named `name`, in the order they apply.
-    pub fn layers_for<'a>(&'a self, name: &str) -> impl Iterator<Item = &'a Layer> {
-        std::iter::once(&self.base).chain(
-            self.files
-                .iter()
-                .filter(move |p| glob_match(&p.pattern, name))
-                .map(|p| &p.layer),
-        )
+    pub fn layers_for<'a>(&'a self, name: &'a str) -> impl Iterator<Item = &'a Layer> {
+        std::iter::once(&self.base).chain(self.matching(name).map(|(_, p)| &p.layer))
+    }
+
+    /// The `[[files]]` sections whose pattern matches `name`, with their index, in file order.
+    pub fn matching<'a>(
+        &'a self,
+        name: &'a str,
+    ) -> impl Iterator<Item = (usize, &'a PatternLayer)> + 'a {
+        self.files
+            .iter()
+            .enumerate()
+            .filter(move |(_, p)| glob_match(&p.pattern, name))
     }
 }
 
@@ -442,17 +451,108 @@ pub fn check_options(layer: &Layer) -> Result<(), String> {
     }
 }
 
-/// Glob match of a whole file name: `*` any run of characters (also none), `?` one character.
+/// One piece of a file-name pattern.
+#[derive(Debug, Clone, PartialEq)]
+enum Piece {
+    /// `*`: any run of characters, also none.
+    Star,
+    /// `?`: one character.
+    One,
+    /// `[abc]`, `[a-z]`, `[!a-c]`: one character of the set (or, with `!`, not of it).
+    Set {
+        not: bool,
+        ranges: Vec<(char, char)>,
+    },
+    /// Any other character, itself.
+    Is(char),
+}
+
+/// Checks a file-name pattern: `*` any run of characters, `?` one character, `[...]` one of a
+/// set (`[ab]`, `[0-9]`, `[!x]`), every other character itself. `Err` says what is wrong in
+/// words: a `[` without its `]`, a range written backwards, a folder separator (patterns match
+/// file names, not paths).
+pub fn check_pattern(pattern: &str) -> Result<(), String> {
+    pieces(pattern).map(|_| ())
+}
+
+fn pieces(pattern: &str) -> Result<Vec<Piece>, String> {
+    if pattern.contains(['/', '\\']) {
+        return Err(format!(
+            "pattern \"{pattern}\" holds a folder separator: a pattern matches file names only; \
+             put a tracephase.toml in that folder instead"
+        ));
+    }
+    let mut out = Vec::new();
+    let mut chars = pattern.chars().peekable();
+    while let Some(c) = chars.next() {
+        out.push(match c {
+            '*' => Piece::Star,
+            '?' => Piece::One,
+            '[' => {
+                let not = chars.next_if_eq(&'!').is_some();
+                let mut ranges = Vec::new();
+                // a `]` first in the set is itself
+                let mut first = true;
+                loop {
+                    let Some(a) = chars.next() else {
+                        return Err(format!(
+                            "pattern \"{pattern}\" opens a set with `[` and never closes it with \
+                             `]`: write [ab] for one of a or b, or ? for any one character"
+                        ));
+                    };
+                    if a == ']' && !first {
+                        break;
+                    }
+                    first = false;
+                    let mut ahead = chars.clone();
+                    let b = match (ahead.next(), ahead.next()) {
+                        (Some('-'), Some(b)) if b != ']' => {
+                            chars.next();
+                            chars.next();
+                            b
+                        }
+                        _ => a,
+                    };
+                    if b < a {
+                        return Err(format!(
+                            "pattern \"{pattern}\": the range {a}-{b} runs backwards; write {b}-{a}"
+                        ));
+                    }
+                    ranges.push((a, b));
+                }
+                Piece::Set { not, ranges }
+            }
+            c => Piece::Is(c),
+        });
+    }
+    Ok(out)
+}
+
+impl Piece {
+    fn takes(&self, c: char) -> bool {
+        match self {
+            Piece::Star => false,
+            Piece::One => true,
+            Piece::Set { not, ranges } => ranges.iter().any(|&(a, b)| (a..=b).contains(&c)) != *not,
+            Piece::Is(p) => *p == c,
+        }
+    }
+}
+
+/// Glob match of a whole file name by the pattern rules of [`check_pattern`]; an invalid
+/// pattern matches nothing (a sidecar never holds one: it is refused where it is read).
 pub fn glob_match(pattern: &str, name: &str) -> bool {
-    let p: Vec<char> = pattern.chars().collect();
+    let Ok(p) = pieces(pattern) else {
+        return false;
+    };
     let n: Vec<char> = name.chars().collect();
     let (mut pi, mut ni) = (0, 0);
     let (mut star, mut mark) = (None, 0);
     while ni < n.len() {
-        if pi < p.len() && (p[pi] == '?' || p[pi] == n[ni]) {
+        if pi < p.len() && p[pi] != Piece::Star && p[pi].takes(n[ni]) {
             pi += 1;
             ni += 1;
-        } else if pi < p.len() && p[pi] == '*' {
+        } else if pi < p.len() && p[pi] == Piece::Star {
             star = Some(pi);
             mark = ni;
             pi += 1;
@@ -464,7 +564,7 @@ pub fn glob_match(pattern: &str, name: &str) -> bool {
             return false;
         }
     }
-    while pi < p.len() && p[pi] == '*' {
+    while pi < p.len() && p[pi] == Piece::Star {
         pi += 1;
     }
     pi == p.len()
@@ -483,6 +583,28 @@ mod tests {
         assert!(glob_match("*", ""));
         assert!(glob_match("a*b*c", "aXXbYYc"));
         assert!(!glob_match("a*b*c", "aXXbYY"));
+        // sets as POSIX shell globs have them (common practice)
+        assert!(glob_match("feeder-[ab].csv", "feeder-b.csv"));
+        assert!(!glob_match("feeder-[ab].csv", "feeder-c.csv"));
+        assert!(glob_match("step[0-9]*", "step7-after.csv"));
+        assert!(!glob_match("step[!0-9]*", "step7-after.csv"));
+        assert!(glob_match("x[]]y", "x]y"));
+        assert!(glob_match("a-[x-]", "a--"));
+    }
+
+    /// The issue's invalid globs: a set never closed, a range backwards, a path.
+    #[test]
+    fn invalid_patterns_say_what_is_wrong() {
+        for (p, says) in [
+            ("feeder-[ab.csv", "never closes it with `]`"),
+            ("step[9-0].csv", "runs backwards"),
+            ("motors/*.csv", "folder separator"),
+        ] {
+            let e = check_pattern(p).unwrap_err();
+            assert!(e.contains(says), "{p}: {e}");
+            assert!(!glob_match(p, "feeder-a.csv"));
+        }
+        assert_eq!(check_pattern("*clamp-b*"), Ok(()));
     }
 
     #[test]

@@ -314,6 +314,8 @@ pub(super) fn parse(text: &str, path: &Path) -> Result<Sidecar, SidecarError> {
                 if k.get_ref().as_ref() == "pattern" {
                     match v.get_ref() {
                         DeValue::String(text) if !text.is_empty() => {
+                            super::check_pattern(text).map_err(|m| r.error(&v.span(), m))?;
+                            p.line = r.line(&k.span());
                             pattern = Some(text.to_string())
                         }
                         _ => {
