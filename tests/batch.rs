@@ -254,6 +254,51 @@ fn resume_redoes_a_changed_file_and_keeps_the_rest() {
     assert!((m1 - 6.0).abs() < 1e-2, "{m1}");
 }
 
+/// Two runs on one summary (the issue: the loser of two `--resume` runs failed late with
+/// "failed to fill whole buffer"). The test holds the summary's lock itself with the call the
+/// program uses (`File::try_lock`), so the second run surely starts while the first holds it:
+/// it stops at once with one line naming the file, exit 2, the summary untouched, with or
+/// without `--resume`; once the lock is let go the resume runs.
+#[test]
+fn a_second_run_on_a_summary_in_use_stops_at_once_naming_it() {
+    let dir = site();
+    std::fs::remove_file(dir.path().join("site/motors/broken.csv")).unwrap();
+    let root = dir.path().join("site");
+    let out = dir.path().join("s.csv");
+    batch_ok(&root, &out, &[]);
+    let before = std::fs::read(&out).unwrap();
+    let held = std::fs::OpenOptions::new()
+        .read(true)
+        .write(true)
+        .open(&out)
+        .unwrap();
+    held.try_lock().unwrap();
+    for extra in [&["--resume"][..], &[]] {
+        let o = tracephase()
+            .args(["batch", "--out"])
+            .arg(&out)
+            .args(extra)
+            .arg(&root)
+            .output()
+            .unwrap();
+        let err = String::from_utf8(o.stderr).unwrap();
+        assert_eq!(o.status.code(), Some(2), "{err}");
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(
+            err.starts_with(&format!(
+                "error: {}: in use by another tracephase run",
+                out.display()
+            )),
+            "{err}"
+        );
+        assert_eq!(std::fs::read(&out).unwrap(), before, "{extra:?}");
+    }
+    drop(held);
+    let err = batch_ok(&root, &out, &["--resume"]);
+    assert!(err.contains("(3 kept from the earlier summary)"), "{err}");
+    assert_eq!(std::fs::read(&out).unwrap(), before);
+}
+
 #[test]
 fn shards_split_a_folder_and_stdin_lists_files() {
     let dir = site();

@@ -403,6 +403,11 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     let spool_error = |p: &Path, e: std::io::Error| {
         format!("{}: cannot write the report's spool file: {e}", p.display())
     };
+    // One run at a time writes a summary: a second one stops here, before it reads or writes it.
+    let _lock = match &a.out {
+        Some(p) => lock_summary(p)?,
+        None => None,
+    };
     let past: HashMap<String, PastRow> = match (&a.out, a.resume) {
         (Some(p), true) => {
             summary::check_resumable(p, format, &columns)?;
@@ -650,12 +655,25 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
         }
         return Ok(Outcome::Interrupted);
     }
+    // A pattern that matched no capture is told (in a shard another shard may hold its files)
+    let unmatched = if a.shard.is_none() {
+        planner.unmatched_patterns()
+    } else {
+        Vec::new()
+    };
+    for w in &unmatched {
+        let _ = writeln!(err, "warning: {w}");
+    }
     if let (Some(p), true) = (&a.out, a.resume) {
         // the same rows as an uninterrupted run, in sorted order, swapped in at once
         let tmp = p.with_extension("tmp-resume");
-        let write = || -> std::io::Result<()> {
+        let write = || -> std::io::Result<File> {
             let mut from = File::open(p)?;
-            let mut f = std::io::BufWriter::new(File::create(&tmp)?);
+            // locked before it takes the summary's place, so a run that opens it next waits
+            // for this one to end as a run that opened the old file does
+            let new = File::create(&tmp)?;
+            let _ = new.try_lock();
+            let mut f = std::io::BufWriter::new(new);
             f.write_all(header.as_bytes())?;
             let mut line = Vec::new();
             for span in &spans {
@@ -664,10 +682,12 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
                 from.read_exact(&mut line)?;
                 f.write_all(&line)?;
             }
-            f.into_inner().map_err(|e| e.into_error())?.sync_all()?;
-            std::fs::rename(&tmp, p)
+            let new = f.into_inner().map_err(|e| e.into_error())?;
+            new.sync_all()?;
+            std::fs::rename(&tmp, p)?;
+            Ok(new)
         };
-        write().map_err(|e| cannot(p, e))?;
+        let _new_lock = write().map_err(|e| cannot(p, e))?;
     }
     if let Some(path) = &a.report {
         let title = format!("tracephase batch: {} captures", digests.len());
@@ -688,7 +708,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     let n = discovery.files.len() - not_captures;
     let _ = writeln!(
         err,
-        "batch: {n} files in {total:.2} s ({:.0} files/s): {} ok, {} warning, {} error{}; {} other files skipped{}{}",
+        "batch: {n} files in {total:.2} s ({:.0} files/s): {} ok, {} warning, {} error{}; {} other files skipped{}{}{}",
         n as f64 / total.max(1e-9),
         tally.ok,
         tally.warning,
@@ -708,6 +728,11 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
             .slowest
             .map(|(f, t)| format!("; slowest: {f} ({:.3} s)", t.as_secs_f64()))
             .unwrap_or_default(),
+        match unmatched.len() {
+            0 => String::new(),
+            1 => "; 1 sidecar pattern matched no capture (warning above)".into(),
+            k => format!("; {k} sidecar patterns matched no capture (warnings above)"),
+        },
     );
     Ok(if tally.error > 0 || !discovery.unreadable.is_empty() {
         Outcome::InputErrors
@@ -716,6 +741,55 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
     } else {
         Outcome::Ok
     })
+}
+
+/// Takes an exclusive lock on the summary `p` (created empty when missing) and gives the locked
+/// file, held for the run; another tracephase run holding it is an error naming the file. A path
+/// that is not a plain file (`/dev/stdout`) or a file system without locks goes unlocked.
+fn lock_summary(p: &Path) -> Result<Option<File>, String> {
+    if std::fs::metadata(p).is_ok_and(|m| !m.is_file()) {
+        return Ok(None);
+    }
+    let in_use = || {
+        format!(
+            "{}: in use by another tracephase run writing this summary; wait for it to end, or              give this run another --out file",
+            p.display()
+        )
+    };
+    // A --resume run ending swaps a new file in under the same name: the file locked must be
+    // the one the name leads to, else the lock is taken again on the new one.
+    for _ in 0..3 {
+        let f = OpenOptions::new()
+            .read(true)
+            .write(true)
+            .create(true)
+            .truncate(false)
+            .open(p)
+            .map_err(|e| format!("{}: cannot write the summary: {e}", p.display()))?;
+        match f.try_lock() {
+            Ok(()) => {}
+            Err(std::fs::TryLockError::WouldBlock) => return Err(in_use()),
+            Err(std::fs::TryLockError::Error(_)) => return Ok(None),
+        }
+        if same_file(&f, p) {
+            return Ok(Some(f));
+        }
+    }
+    Err(in_use())
+}
+
+#[cfg(unix)]
+fn same_file(f: &File, p: &Path) -> bool {
+    use std::os::unix::fs::MetadataExt;
+    match (f.metadata(), std::fs::metadata(p)) {
+        (Ok(a), Ok(b)) => a.dev() == b.dev() && a.ino() == b.ino(),
+        _ => false,
+    }
+}
+
+#[cfg(not(unix))]
+fn same_file(_: &File, _: &Path) -> bool {
+    true
 }
 
 /// Cuts a summary back to its last complete line (a run killed mid-write may leave half a row),
