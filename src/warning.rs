@@ -161,6 +161,13 @@ pub enum Warning {
         /// `'X-axis' (column 1)`.
         column: String,
     },
+    /// No time column: the sample rate is the one the file's preamble states.
+    RateFromPreamble {
+        /// The rate, Hz.
+        rate_hz: f64,
+        /// 1-based line of the preamble that states it.
+        line: u64,
+    },
 }
 
 /// How a warning bears on the figures: the three lists every output keeps apart.
@@ -246,7 +253,8 @@ impl Warning {
             Warning::HarmonicsCapped { .. }
             | Warning::ChannelAssumed { .. }
             | Warning::ColumnsIgnored { .. }
-            | Warning::TimeUnitAssumed { .. } => Severity::Note,
+            | Warning::TimeUnitAssumed { .. }
+            | Warning::RateFromPreamble { .. } => Severity::Note,
             Warning::MethodsDisagree {
                 difference_deg,
                 allowed_deg,
@@ -303,6 +311,7 @@ impl Warning {
             Warning::ChannelForced { .. } => "channel-forced",
             Warning::ColumnsIgnored { .. } => "columns-ignored",
             Warning::TimeUnitAssumed { .. } => "time-unit-assumed",
+            Warning::RateFromPreamble { .. } => "rate-from-preamble",
             Warning::NotSteady { .. } => "not-steady",
             Warning::RatePartChosen { .. } => "rate-part-chosen",
         }
@@ -429,6 +438,11 @@ impl fmt::Display for Warning {
                 "the record has several sample rates ({parts}): analysed its longest part, \
                  {rate_hz} Hz from {start_s} to {end_s} s; choose another with --from/--to \
                  (e.g. {example})"
+            ),
+            Warning::RateFromPreamble { rate_hz, line } => write!(
+                f,
+                "sample rate {rate_hz} Hz as the file's preamble states it (line {line}); \
+                 --rate HZ overrides it"
             ),
             Warning::NotSteady {
                 switchings,

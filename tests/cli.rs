@@ -488,6 +488,123 @@ fn semicolon_decimal_comma_file_takes_the_rate_from_its_preamble() {
     assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
 }
 
+/// Every field of every line in quotes, as spreadsheets and some loggers write them (RFC 4180's
+/// quoted fields, from memory): `"0.0000000","12.5"`.
+fn quote_every_field(text: &str, delimiter: char) -> String {
+    text.lines()
+        .map(|l| {
+            l.split(delimiter)
+                .map(|c| format!("\"{c}\""))
+                .collect::<Vec<_>>()
+                .join(&delimiter.to_string())
+                + "\n"
+        })
+        .collect()
+}
+
+/// The quoted numeric fields (`"0.001","12.5","-3.2"`, a quoted header too) are read as
+/// the numbers they are: the same figures as the same file unquoted, to the last bit.
+#[test]
+fn quoted_numeric_fields_are_read_as_numbers() {
+    let dir = TempDir::new().unwrap();
+    let plain = text_capture(&motor_spec(), &COMMA_WITH_TIME);
+    let f = write_text(&dir, "quoted.csv", &quote_every_field(&plain, ','));
+    assert!(
+        std::fs::read_to_string(&f)
+            .unwrap()
+            .starts_with("\"Time (s)\",\"Voltage (V)\"")
+    );
+    let r = json_one(&[], &f);
+    assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+    let p = json_one(&[], &write_text(&dir, "plain.csv", &plain));
+    assert_eq!(r.frequency_hz.to_bits(), p.frequency_hz.to_bits());
+    assert_eq!(r.sample_rate_hz.to_bits(), p.sample_rate_hz.to_bits());
+    assert_eq!(r.channels.time.column, Some(1));
+}
+
+/// Quoted decimal commas with `;` between fields (`"0,5";"1,2"`), as the loader reads them
+/// unquoted.
+#[test]
+fn quoted_decimal_comma_fields_with_semicolons_are_read_as_numbers() {
+    let dir = TempDir::new().unwrap();
+    let layout = TextLayout {
+        delimiter: ';',
+        decimal_comma: true,
+        preamble: &[],
+        header: Some(&["Time (s)", "Voltage (V)", "Current (A)"]),
+        time: true,
+    };
+    let plain = text_capture(&motor_spec(), &layout);
+    let f = write_text(&dir, "quoted.csv", &quote_every_field(&plain, ';'));
+    assert!(std::fs::read_to_string(&f).unwrap().contains("\";\""));
+    let r = json_one(&[], &f);
+    assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+    let p = json_one(&[], &write_text(&dir, "plain.csv", &plain));
+    assert_eq!(r.frequency_hz.to_bits(), p.frequency_hz.to_bits());
+}
+
+/// Two columns of numbers at 5 kS/s below one preamble line, no header and no time column.
+fn preamble_only(dir: &TempDir, name: &str, preamble: &[&str]) -> PathBuf {
+    let mut spec = motor_spec();
+    spec.rate_hz = 5_000.0;
+    spec.samples = 2_000;
+    let layout = TextLayout {
+        delimiter: ',',
+        decimal_comma: false,
+        preamble,
+        header: None,
+        time: false,
+    };
+    write_capture(dir, name, &spec, &layout)
+}
+
+/// The preambles, a logger's sample rate stated with its unit above headerless columns
+/// (`fs,5000 Hz`, `Sample rate,5000,Hz`): the rate is taken, and a note says it came from the
+/// preamble's line.
+#[test]
+fn a_preamble_rate_with_its_unit_gives_the_time_base_with_a_note() {
+    let dir = TempDir::new().unwrap();
+    for (name, line) in [
+        ("fs.csv", "fs,5000 Hz"),
+        ("rate.csv", "Sample rate,5000,Hz"),
+    ] {
+        let f = preamble_only(&dir, name, &[line]);
+        let r = json_one(&[], &f);
+        assert_eq!(r.sample_rate_hz, 5000.0, "{line}");
+        assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+        assert!(
+            r.note_codes.iter().any(|c| c == "rate-from-preamble"),
+            "{line}: {:?}",
+            r.note_codes
+        );
+        assert!(
+            r.notes
+                .iter()
+                .any(|n| n.contains("5000 Hz") && n.contains("line 1")),
+            "{:?}",
+            r.notes
+        );
+    }
+}
+
+/// A preamble rate without a unit (`fs,5000`: Hz, or thousands a second?) or two rates that
+/// differ are refused with the option that says it; with `--rate` the file is read.
+#[test]
+fn an_unclear_preamble_rate_is_refused_showing_how_to_say_it() {
+    let dir = TempDir::new().unwrap();
+    let f = preamble_only(&dir, "fs.csv", &["fs,5000"]);
+    assert_refused(&[], &f, &["line 1", "without a unit", "--rate 5000"]);
+    let r = json_one(&["--rate", "5000"], &f);
+    assert_motor(&r, ANGLE_TOL_DEG, REL_TOL);
+    assert!(!r.note_codes.iter().any(|c| c == "rate-from-preamble"));
+    let f = preamble_only(
+        &dir,
+        "two.csv",
+        &["Sample rate,5000 Hz", "Sample interval,0.00025"],
+    );
+    assert_refused(&[], &f, &["line 2", "two sample rates", "--rate 5000"]);
+}
+
 #[test]
 fn committed_semicolon_decimal_comma_fixture_is_50hz_lagging_30() {
     // 3 cycles, values rounded to 10 mV and 1 mA (see tests/data/README.md).

@@ -48,10 +48,131 @@ pub(crate) struct Layout {
     time_base_ns: Option<i128>,
     /// That first date-time as written.
     time_base_text: Option<String>,
-    /// Sample rate from a preamble, if any.
-    preamble_rate_hz: Option<f64>,
+    /// The sample rate a preamble states, if any.
+    preamble_rate: PreambleRate,
     /// Average bytes per data row in the sample, to pre-size the columns.
     bytes_per_row: f64,
+}
+
+/// The sample rate a file's preamble states.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum PreambleRate {
+    /// None stated.
+    None,
+    /// Stated with a unit (`fs,5000 Hz`, `Sample rate,5000,Hz`), or as an interval (read in
+    /// seconds when it gives no unit, as scope exports write it); `line` is 1-based.
+    Stated { hz: f64, line: u64 },
+    /// Stated so that it cannot be taken (a rate without a unit, two rates that differ): why,
+    /// with its line, and the rate to show in the advice.
+    Unclear { line: u64, why: String, hz: f64 },
+}
+
+/// One preamble line's statement of the sample rate: the rate, and whether the line says its
+/// unit. `None` for a line that states no rate or interval.
+fn preamble_statement(cells: &[&[u8]], decimal_comma: bool) -> Option<(f64, bool)> {
+    let key = unquote(cells.first()?).to_lowercase();
+    let is_interval = key.contains("interval")
+        || key.contains("increment")
+        || key.contains("period")
+        || key == "dt";
+    let is_rate = (key.contains("rate") || key.contains("frequency")) && key.contains("sampl")
+        || key == "fs"
+        || key == "sample rate";
+    if !is_interval && !is_rate {
+        return None;
+    }
+    let (value, mut unit) = value_and_unit(cells.get(1)?, decimal_comma)?;
+    // the unit in a cell of its own: `Sample rate,5000,Hz`
+    if unit.is_empty()
+        && let Some(u) = cells.get(2).map(|c| unquote(c))
+        && !u.is_empty()
+        && u.chars().all(|c| c.is_alphabetic() || c == '/')
+    {
+        unit = u;
+    }
+    if !(value.is_finite() && value > 0.0) {
+        return None;
+    }
+    if is_interval {
+        // an interval without its unit is in seconds (scope exports write it so)
+        let scale = match unit.as_str() {
+            "" | "s" | "sec" => 1.0,
+            "ms" => 1e-3,
+            "us" | "µs" | "μs" => 1e-6,
+            "ns" => 1e-9,
+            _ => return None,
+        };
+        return Some((1.0 / (value * scale), true));
+    }
+    let (scale, rest) = match unit.chars().next() {
+        Some('k' | 'K') => (1e3, &unit[1..]),
+        Some('M') => (1e6, &unit[1..]),
+        _ => (1.0, unit.as_str()),
+    };
+    match rest.to_lowercase().as_str() {
+        "" if unit.is_empty() => Some((value, false)),
+        "hz" | "s/s" | "sa/s" | "sps" | "samples/s" | "s/sec" | "sa/sec" => {
+            Some((value * scale, true))
+        }
+        _ => None,
+    }
+}
+
+/// What a preamble's lines (1-based line, cells) say of the sample rate, all of them together:
+/// one rate stated with its unit (or stated again alike) is taken; a rate without a unit, or two
+/// rates that differ, make it [`PreambleRate::Unclear`].
+fn preamble_rate(lines: &[(u64, Vec<&[u8]>)], decimal_comma: bool) -> PreambleRate {
+    let said: Vec<(u64, f64, bool)> = lines
+        .iter()
+        .filter_map(|(n, cells)| {
+            preamble_statement(cells, decimal_comma).map(|(hz, unit)| (*n, hz, unit))
+        })
+        .collect();
+    let Some(&(line, hz, _)) = said.first() else {
+        return PreambleRate::None;
+    };
+    let text = |n: u64| {
+        lines
+            .iter()
+            .find(|(k, _)| *k == n)
+            .map(|(_, c)| {
+                c.iter()
+                    .map(|c| String::from_utf8_lossy(c.trim_ascii()).into_owned())
+                    .collect::<Vec<_>>()
+                    .join(" ")
+            })
+            .unwrap_or_default()
+    };
+    if let Some(&(other, other_hz, _)) = said.iter().find(|(_, h, _)| ((h - hz) / hz).abs() > 1e-9)
+    {
+        return PreambleRate::Unclear {
+            line: other,
+            why: format!(
+                "the preamble states two sample rates, {} Hz (line {line}: '{}') and {} Hz                  (line {other}: '{}')",
+                short_hz(hz),
+                text(line),
+                short_hz(other_hz),
+                text(other)
+            ),
+            hz,
+        };
+    }
+    match said.iter().find(|(_, _, unit)| *unit) {
+        Some(&(line, hz, _)) => PreambleRate::Stated { hz, line },
+        None => PreambleRate::Unclear {
+            line,
+            why: format!(
+                "the preamble gives the sample rate as '{}' without a unit (Hz or S/s)",
+                text(line)
+            ),
+            hz,
+        },
+    }
+}
+
+/// A rate as a person writes it: `5000`, `12.5`, `1e6` for a million.
+fn short_hz(hz: f64) -> String {
+    format!("{}", (hz * 1e6).round() / 1e6)
 }
 
 /// Parses one cell, trimming ASCII space; with `decimal_comma` a `,` is read as the decimal point.
@@ -71,6 +192,22 @@ pub(crate) fn parse_f64(cell: &[u8], decimal_comma: bool) -> Option<f64> {
         return fast_float2::parse(&buf[..cell.len()]).ok();
     }
     fast_float2::parse(cell).ok()
+}
+
+/// A cell without the spaces around it and the quotes around the whole of it (`"0.001"`, as
+/// spreadsheets and some loggers write every field); quotes anywhere else stay.
+fn bare(cell: &[u8]) -> &[u8] {
+    let t = cell.trim_ascii();
+    match t {
+        [b'"', inner @ .., b'"'] => inner.trim_ascii(),
+        _ => t,
+    }
+}
+
+/// [`parse_f64`] of a [`bare`] cell: how the sniffer reads a cell, quoted or not (the row readers
+/// see quoted fields only through the `csv` crate, which takes the quotes off).
+fn sniff_f64(cell: &[u8], decimal_comma: bool) -> Option<f64> {
+    parse_f64(bare(cell), decimal_comma)
 }
 
 fn shorten(cell: &[u8]) -> String {
@@ -100,7 +237,7 @@ fn is_numeric_line(line: &[u8], d: u8, decimal_comma: bool, numeric: &[bool]) ->
     let mut n = 0;
     for (k, cell) in split(line, d).enumerate() {
         n += 1;
-        if numeric.get(k) == Some(&true) && parse_f64(cell, decimal_comma).is_none() {
+        if numeric.get(k) == Some(&true) && sniff_f64(cell, decimal_comma).is_none() {
             return false;
         }
     }
@@ -117,7 +254,7 @@ struct Digits {
 
 impl Digits {
     fn see(&mut self, cell: &[u8], decimal_comma: bool) {
-        let cell = cell.trim_ascii();
+        let cell = bare(cell);
         let (mantissa, has_exp) = match cell.iter().position(|&b| b == b'e' || b == b'E') {
             Some(e) => (&cell[..e], true),
             None => (cell, false),
@@ -196,13 +333,13 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
             lines[k]
                 .1
                 .split(|b| matches!(b, b'\t' | b';' | b',' | b' '))
-                .filter(|t| parse_f64(t, false).is_some())
+                .filter(|t| sniff_f64(t, false).is_some())
                 .nth(1)
                 .is_none()
         })
     };
     let Some((delimiter, width)) = chosen else {
-        let numeric_single = tail.iter().all(|l| parse_f64(l, false).is_some());
+        let numeric_single = tail.iter().all(|l| sniff_f64(l, false).is_some());
         return Err(if numeric_single {
             LoadErrorKind::OneChannel
         } else if text_only() {
@@ -223,7 +360,7 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         .map(|k| {
             let numbers = full
                 .iter()
-                .filter(|c| parse_f64(c[k], decimal_comma).is_some())
+                .filter(|c| sniff_f64(c[k], decimal_comma).is_some())
                 .count();
             if numbers * 2 > full.len() {
                 Content::Numbers
@@ -254,13 +391,17 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         return Err(LoadErrorKind::HeaderOnly);
     };
     let cells_of = |c: usize| -> Vec<&[u8]> { split(lines[content[c]].1, delimiter).collect() };
-    let has_number = |cells: &[&[u8]]| cells.iter().any(|c| parse_f64(c, decimal_comma).is_some());
+    let has_number = |cells: &[&[u8]]| cells.iter().any(|c| sniff_f64(c, decimal_comma).is_some());
     // Full-width rows with some numbers just above the first clean row are damaged data rows
     // (the row parser will name them), unless nothing that looks like a header sits above them.
     let mut back = first;
     while back > 0 {
         let cells = cells_of(back - 1);
-        if cells.len() == width && has_number(&cells) {
+        // a preamble's `Sample interval,0.00025` is not a damaged row
+        if cells.len() == width
+            && has_number(&cells)
+            && preamble_statement(&cells, decimal_comma).is_none()
+        {
             back -= 1;
         } else {
             break;
@@ -268,7 +409,10 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
     }
     if back > 0 && back < first {
         let above = cells_of(back - 1);
-        if above.len() == width && !has_number(&above) {
+        if above.len() == width
+            && !has_number(&above)
+            && preamble_statement(&above, decimal_comma).is_none()
+        {
             first = back;
         }
     }
@@ -279,7 +423,11 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
     let mut preamble_end = first;
     if first > 0 {
         let cells = cells_of(first - 1);
-        if cells.len() == width && !has_number(&cells) {
+        // `fs,5000 Hz` above two columns of numbers is the rate, not the columns' names
+        if cells.len() == width
+            && !has_number(&cells)
+            && preamble_statement(&cells, decimal_comma).is_none()
+        {
             names = Some(cells.iter().map(|c| unquote(c)).collect());
             preamble_end = first - 1;
             header_idx = Some(content[first - 1]);
@@ -327,30 +475,11 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         }
     }
     // Preamble: key<delim>value lines.
-    let mut preamble_rate_hz = None;
-    for &k in &content[..preamble_end] {
-        let mut cells = split(lines[k].1, delimiter);
-        let key = cells.next().map(unquote).unwrap_or_default().to_lowercase();
-        let Some(value) = cells
-            .next()
-            .and_then(|v| number_with_unit(v, decimal_comma))
-        else {
-            continue;
-        };
-        if value <= 0.0 {
-            continue;
-        }
-        let is_interval = key.contains("interval")
-            || key.contains("increment")
-            || key.contains("period")
-            || key == "dt";
-        let is_rate = key.contains("rate") || key.contains("frequency") || key == "fs";
-        if is_interval {
-            preamble_rate_hz = Some(1.0 / value);
-        } else if is_rate && key.contains("sampl") || key == "fs" || key == "sample rate" {
-            preamble_rate_hz = Some(value);
-        }
-    }
+    let preamble: Vec<(u64, Vec<&[u8]>)> = content[..preamble_end]
+        .iter()
+        .map(|&k| (k as u64 + 1, split(lines[k].1, delimiter).collect()))
+        .collect();
+    let preamble_rate = preamble_rate(&preamble, decimal_comma);
     // Time column: by name anywhere, else the first column when its values rise evenly.
     let data_lines: Vec<&[u8]> = content[first..].iter().map(|&k| lines[k].1).collect();
     let number_cols = numeric_cols.iter().filter(|&&n| n).count();
@@ -407,7 +536,7 @@ pub(crate) fn sniff(sample: &[u8], at_eof: bool) -> Result<Layout, LoadErrorKind
         time_digits,
         time_base_ns,
         time_base_text,
-        preamble_rate_hz,
+        preamble_rate,
         bytes_per_row: data_bytes as f64 / data_lines.len().max(1) as f64,
     })
 }
@@ -416,30 +545,22 @@ fn strip_cr(line: &[u8]) -> &[u8] {
     line.strip_suffix(b"\r").unwrap_or(line)
 }
 
-/// A preamble value such as `1e-5`, `2000 Hz`, `10 kS/s` or `0,5 ms`.
-fn number_with_unit(cell: &[u8], decimal_comma: bool) -> Option<f64> {
+/// A preamble value such as `1e-5`, `2000 Hz`, `10 kS/s` or `0,5 ms`: the number and its unit
+/// as written (empty when none).
+fn value_and_unit(cell: &[u8], decimal_comma: bool) -> Option<(f64, String)> {
     let s = unquote(cell);
     let split_at = s
-        .find(|c: char| c.is_ascii_alphabetic() && c != 'e' && c != 'E')
+        .find(|c: char| c.is_alphabetic() && c != 'e' && c != 'E')
         .unwrap_or(s.len());
     let (num, unit) = s.split_at(split_at);
     let v = parse_f64(num.as_bytes(), decimal_comma)?;
-    let unit = unit.trim();
-    let scale = match unit.chars().next() {
-        Some('k') | Some('K') => 1e3,
-        Some('M') => 1e6,
-        Some('m') => 1e-3,
-        Some('u') | Some('µ') => 1e-6,
-        Some('n') => 1e-9,
-        _ => 1.0,
-    };
-    Some(v * scale)
+    Some((v, unit.trim().to_string()))
 }
 
 fn rises_evenly(rows: &[&[u8]], d: u8, decimal_comma: bool) -> bool {
     let t: Vec<f64> = rows
         .iter()
-        .filter_map(|l| split(l, d).next().and_then(|c| parse_f64(c, decimal_comma)))
+        .filter_map(|l| split(l, d).next().and_then(|c| sniff_f64(c, decimal_comma)))
         .collect();
     if t.len() < 3 {
         return false;
@@ -631,7 +752,27 @@ pub(crate) fn load_with(
         }
         Some(1.0 / (interval * tc.scale()))
     } else {
-        layout.preamble_rate_hz
+        match &layout.preamble_rate {
+            PreambleRate::None => None,
+            &PreambleRate::Stated { hz, line } => {
+                if opts.rate_hz.is_none() {
+                    warnings.push(Warning::RateFromPreamble { rate_hz: hz, line });
+                }
+                Some(hz)
+            }
+            PreambleRate::Unclear { line, why, hz } => {
+                if opts.rate_hz.is_none() {
+                    return Err(err(
+                        Some(*line),
+                        LoadErrorKind::UnclearRate {
+                            why: why.clone(),
+                            suggest: short_hz(*hz),
+                        },
+                    ));
+                }
+                None
+            }
+        }
     };
     let sample_rate_hz = match (opts.rate_hz, file_rate) {
         (Some(given), Some(file_hz)) => {
@@ -732,7 +873,14 @@ fn read_with_csv(
         }
         let cell = |c: usize| -> Result<f64, LoadError> {
             let raw = &rec[c];
-            match parse_f64(raw, layout.decimal_comma) {
+            // the csv crate takes off quotes that open a field; quotes after spaces stay
+            let number = parse_f64(raw, layout.decimal_comma).or_else(|| {
+                let b = bare(raw);
+                (b.len() != raw.len())
+                    .then(|| parse_f64(b, layout.decimal_comma))
+                    .flatten()
+            });
+            match number {
                 Some(x) if x.is_finite() => Ok(x),
                 Some(_) => Err(err(
                     line_of(&rec),
@@ -944,8 +1092,11 @@ mod tests {
         assert_eq!(l.names, vec!["Time (s)", "Voltage (V)", "I [A]"]);
         assert_eq!(l.time_col, Some(0));
         assert_eq!(l.data_line, 5);
-        let rate = l.preamble_rate_hz.unwrap();
-        assert!((rate - 5000.0).abs() < 1e-9, "{rate}");
+        let PreambleRate::Stated { hz, line } = l.preamble_rate else {
+            panic!("{:?}", l.preamble_rate)
+        };
+        assert!((hz - 5000.0).abs() < 1e-9, "{hz}");
+        assert_eq!(line, 2);
     }
 
     #[test]
@@ -1027,10 +1178,27 @@ mod tests {
 
     #[test]
     fn preamble_values_with_units() {
-        assert_eq!(number_with_unit(b"10 kS/s", false), Some(10_000.0));
-        assert_eq!(number_with_unit(b"0,5 ms", true), Some(0.5e-3));
-        assert_eq!(number_with_unit(b"2e-6", false), Some(2e-6));
-        assert_eq!(number_with_unit(b"1 MS/s", false), Some(1e6));
+        let said = |line: &str, dc: bool| {
+            let cells: Vec<&[u8]> = split(line.as_bytes(), b',').collect();
+            preamble_statement(&cells, dc)
+        };
+        assert_eq!(said("Sample rate,10 kS/s", false), Some((10_000.0, true)));
+        assert_eq!(said("fs,5000 Hz", false), Some((5000.0, true)));
+        assert_eq!(said("Sample rate,5000,Hz", false), Some((5000.0, true)));
+        assert_eq!(said("Sampling frequency,1 MS/s", false), Some((1e6, true)));
+        assert_eq!(said("Sample interval,2e-6", false), Some((5e5, true)));
+        assert_eq!(said("Sample interval,500 µs", false), Some((2000.0, true)));
+        // a rate without a unit is said, but not how
+        assert_eq!(said("fs,5000", false), Some((5000.0, false)));
+        // not a sample rate: the line frequency, a record length, an unknown unit
+        assert_eq!(said("Frequency,50 Hz", false), None);
+        assert_eq!(said("Record Length,2000", false), None);
+        assert_eq!(said("Sample rate,5000 pts", false), None);
+        let cells = |l: &'static str| -> Vec<&'static [u8]> { split(l.as_bytes(), b';').collect() };
+        assert_eq!(
+            preamble_statement(&cells("Sample Interval;0,5 ms"), true),
+            Some((2000.0, true))
+        );
     }
 
     // ---- the fast reader, checked against the csv-crate reader ----

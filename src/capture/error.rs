@@ -160,6 +160,14 @@ pub enum LoadErrorKind {
     /// Neither a time column, a preamble rate, nor `--rate`.
     #[error("no time column or sample rate in the file: give the sample rate with --rate HZ")]
     NoTimeBase,
+    /// A preamble states the sample rate so that it cannot be taken (no unit, or two rates).
+    #[error("{why}: say the sample rate with --rate (in Hz), e.g. --rate {suggest}")]
+    UnclearRate {
+        /// What the preamble says and why it cannot be taken.
+        why: String,
+        /// The rate to show in the advice, as the preamble wrote it.
+        suggest: String,
+    },
     /// A sample rate that is zero, negative or not a number.
     #[error("sample rate {0} Hz is not usable")]
     BadRate(f64),
