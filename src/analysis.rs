@@ -11,7 +11,7 @@ use crate::check::expected::Expected;
 use crate::check::wiring;
 use crate::condition;
 use crate::estimate::{self, Estimate, EstimateError};
-use crate::quantity::events::{self, Event, EventKind};
+use crate::quantity::events::{self, DipReference, Event, EventKind};
 use crate::quantity::power::RmsParts;
 use crate::quantity::three_phase::{PhaseFigures, ThreePhase, ThreePhaseInput, Wiring};
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
@@ -38,6 +38,12 @@ pub struct Settings {
     pub uncertainty: UncertaintyInputs,
     /// True PF below which a utility penalty is flagged.
     pub pf_threshold: f64,
+    /// The declared input voltage Udin, V RMS (IEC 61000-4-30), that dips and swells are
+    /// measured against: phase to neutral for single-phase and 4-wire captures, line to line
+    /// for a 3-wire one (its phases, referred to the artificial star point, against Udin/√3);
+    /// `None`: the record's median one-cycle RMS.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub declared_voltage_v: Option<f64>,
 }
 
 /// Default PF penalty threshold (0.90 is a common utility threshold, 0.95 also common: common
@@ -53,6 +59,7 @@ impl Default for Settings {
             harmonics: DEFAULT_HARMONICS,
             uncertainty: UncertaintyInputs::default(),
             pf_threshold: DEFAULT_PF_THRESHOLD,
+            declared_voltage_v: None,
         }
     }
 }
@@ -95,6 +102,9 @@ pub struct Analysis {
     /// Switchings, dips and swells found in the record, in time order (times from the record's
     /// first sample).
     pub events: Vec<Event>,
+    /// What each phase's dips and swells were measured against (declared or the record's
+    /// median), in phase order.
+    pub dip_references: Vec<DipReference>,
 }
 
 /// One phase of an analysed capture (the one phase of a single-phase capture).
@@ -434,7 +444,14 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             threshold: settings.pf_threshold,
         });
     }
-    let events = record_events(&samples, &phases, rate, span.start_s(), many);
+    let (events, dip_references) = record_events(
+        &samples,
+        rate,
+        phases[0].quantities.frequency_hz,
+        span.start_s(),
+        capture.system,
+        settings.declared_voltage_v,
+    );
     let switchings: Vec<&Event> = events
         .iter()
         .filter(|e| e.kind == EventKind::Switching)
@@ -460,35 +477,68 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         warnings,
         expected: None,
         events,
+        dip_references,
     })
 }
 
-/// The events of every phase ([`events::detect`]), `offset_s` added so their times count from
-/// the record's first sample, each tagged with its phase on a three-phase capture.
+/// The events of every phase ([`events::detect_against`], at the capture's frequency, dips and
+/// swells against `declared_v` or each phase's median), `offset_s` added so their times count
+/// from the record's first sample, each tagged with its phase on a three-phase capture; and
+/// each phase's reference. A 3-wire capture's declared voltage is line to line: its phases,
+/// referred to the artificial star point, are held against Udin/√3.
 fn record_events(
     samples: &[condition::PhaseSamples<'_>],
-    phases: &[PhaseAnalysis],
     rate: f64,
+    frequency_hz: f64,
     offset_s: f64,
-    many: bool,
-) -> Vec<Event> {
-    let mut out: Vec<Event> = samples
-        .iter()
-        .zip(phases)
-        .flat_map(|(ps, p)| {
-            let mut found =
-                events::detect(&ps.voltage, &ps.current, rate, p.quantities.frequency_hz);
-            for e in &mut found {
-                e.time_s += offset_s;
-                if many {
-                    e.phase = Some(phase_letter(ps.phase));
-                }
-            }
-            found
-        })
-        .collect();
+    system: System,
+    declared_v: Option<f64>,
+) -> (Vec<Event>, Vec<DipReference>) {
+    let many = system.is_three_phase();
+    let (per_phase, line_to_line) = match (declared_v, system) {
+        (Some(u), System::ThreeWire) => (Some(u / 3f64.sqrt()), Some(u)),
+        (d, _) => (d, None),
+    };
+    let mut out = Vec::new();
+    let mut references = Vec::new();
+    for ps in samples {
+        let found = events::detect_against(&ps.voltage, &ps.current, rate, frequency_hz, per_phase);
+        let letter = many.then(|| phase_letter(ps.phase));
+        for mut e in found.events {
+            e.time_s += offset_s;
+            e.phase = letter;
+            out.push(e);
+        }
+        if let Some(mut r) = found.reference {
+            r.phase = letter;
+            r.declared_line_to_line_v = line_to_line;
+            references.push(r);
+        }
+    }
     out.sort_by(|a, b| a.time_s.total_cmp(&b.time_s));
-    out
+    (out, references)
+}
+
+/// The events of a capture and each phase's dip and swell reference, as [`analyze`] finds them,
+/// at `frequency_hz`, without the rest of the analysis (for `trend`, whose windows are analysed
+/// on their own).
+pub fn capture_events(
+    mut capture: Capture,
+    settings: &Settings,
+    frequency_hz: f64,
+) -> (Vec<Event>, Vec<DipReference>) {
+    condition::scale(&mut capture, settings.v_scale, settings.i_scale);
+    let rate = capture.sample_rate_hz;
+    let offset_s = capture.span.map_or(0.0, |s| s.start_s());
+    let samples = condition::per_phase(&capture);
+    record_events(
+        &samples,
+        rate,
+        frequency_hz,
+        offset_s,
+        capture.system,
+        settings.declared_voltage_v,
+    )
 }
 
 /// `a`, `b`, `c` (`n` for the neutral).
@@ -726,6 +776,12 @@ impl Analysis {
                 .iter()
                 .filter(|e| e.phase.is_none_or(|p| p == letter))
                 .map(|e| Event { phase: None, ..*e })
+                .collect(),
+            dip_references: self
+                .dip_references
+                .iter()
+                .filter(|r| r.phase.is_none_or(|p| p == letter))
+                .map(|r| DipReference { phase: None, ..*r })
                 .collect(),
         })
     }

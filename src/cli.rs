@@ -452,6 +452,10 @@ pub struct OverrideArgs {
     /// PF penalty threshold.
     #[arg(long, value_name = "PF")]
     pub pf_threshold: Option<f64>,
+    /// Declared supply voltage Udin, V RMS, that dips and swells are measured against (phase to
+    /// neutral; line to line for 3-wire) [default: each record's median one-cycle RMS].
+    #[arg(long, value_name = "VOLTS")]
+    pub declared_voltage: Option<f64>,
     /// Circuit model to compare every capture with.
     #[arg(long, value_name = "MODEL.toml")]
     pub expect: Option<PathBuf>,
@@ -682,6 +686,11 @@ pub struct ChannelArgs {
         allow_negative_numbers = true
     )]
     pub skew: f64,
+    /// Declared supply voltage Udin, V RMS: dips (below 90 %) and swells (above 110 %) are
+    /// measured against it (IEC 61000-4-30); phase to neutral for single-phase and 4-wire
+    /// captures, line to line for 3-wire ones [default: the record's median one-cycle RMS].
+    #[arg(long, value_name = "VOLTS")]
+    pub declared_voltage: Option<f64>,
     /// The part of the record to analyse.
     #[command(flatten)]
     pub span: SpanArgs,

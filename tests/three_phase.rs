@@ -757,3 +757,40 @@ fn every_phase_gets_its_own_waveform_and_spectrum() {
     let svg = |name: &str| &plots.iter().find(|(n, _)| n == name).unwrap().1;
     assert_ne!(svg("waveform"), svg("waveform-b"));
 }
+
+/// A 3-wire capture's declared voltage is line to line (what a 3-wire system's nameplate
+/// states); its phases, referred to the artificial star point, are held against Udin/√3
+/// (our choice; IEC 61000-4-30 measures a 3-wire system's dips between lines, from memory). A
+/// balanced 400 V supply declared at 400 V has no dip; declared at 480 V its 400 V is 83 % of
+/// Udin, below the 90 % threshold: every phase is in a dip from the start.
+#[test]
+fn a_three_wire_declared_voltage_is_line_to_line() {
+    let dir = TempDir::new().unwrap();
+    let phi = 0.8f64.acos().to_degrees();
+    let cols = vec![
+        col("Vab", 400.0, 30.0),
+        col("Vcb", 400.0, 90.0),
+        col("Ia", 10.0, -phi),
+        col("Ic", 10.0, 120.0 - phi),
+    ];
+    let path = write_csv(dir.path(), "two-element.csv", &cols, 30.0, None);
+    for (udin, dips) in [(400.0, 0), (480.0, 3)] {
+        let settings = Settings {
+            declared_voltage_v: Some(udin),
+            ..Settings::default()
+        };
+        let c = capture::load(&path, &LoadOptions::default()).unwrap();
+        let a = analyze(c, &settings).unwrap();
+        assert_eq!(a.dip_references.len(), 3);
+        for r in &a.dip_references {
+            assert!((r.voltage_v - udin / 3f64.sqrt()).abs() < 1e-9);
+            assert_eq!(r.declared_line_to_line_v, Some(udin));
+        }
+        let found = a
+            .events
+            .iter()
+            .filter(|e| e.kind == tracephase::quantity::events::EventKind::Dip)
+            .count();
+        assert_eq!(found, dips, "{udin} V: {:?}", a.events);
+    }
+}

@@ -39,6 +39,7 @@ pub fn layer_from(o: &OverrideArgs) -> Layer {
         time_zero: o.span.time_zero.map(|z| z.as_str().to_string()),
         harmonics: o.harmonics,
         pf_threshold: o.pf_threshold,
+        declared_voltage: o.declared_voltage,
         expect: o.expect.clone(),
         draws: o.draws,
         seed: o.seed,

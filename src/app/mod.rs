@@ -130,6 +130,15 @@ pub fn resolve_channels(
             harmonics,
             uncertainty: resolve_uncertainty(u)?,
             pf_threshold: analysis::DEFAULT_PF_THRESHOLD,
+            declared_voltage_v: match c.declared_voltage {
+                None => None,
+                Some(u) if u.is_finite() && u > 0.0 => Some(u),
+                Some(u) => {
+                    return Err(ConfigError(format!(
+                        "--declared-voltage must be a positive number of volts, not {u}"
+                    )));
+                }
+            },
         },
     ))
 }

@@ -56,10 +56,20 @@ pub fn run_trend(a: &TrendArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
     let mut outcome = Outcome::Ok;
     let mut io_ok = true;
     for path in &a.files {
+        // the windows, then the whole capture's events (the capture goes to them, scaled in
+        // place: no second copy)
         let result = capture::load(path, &load)
             .map_err(|e| e.to_string())
-            .and_then(|c| trend::trend(c, &settings, &ts).map_err(|e| e.to_string()));
-        let t = match result {
+            .and_then(|c| {
+                let t = trend::trend_of(&c, &settings, &ts).map_err(|e| e.to_string())?;
+                let (cycles, seconds) = t.windows.iter().fold((0.0, 0.0), |(c, s), w| {
+                    (c + w.cycles, s + w.end_s - w.start_s)
+                });
+                let events = (cycles > 0.0 && seconds > 0.0)
+                    .then(|| crate::analysis::capture_events(c, &settings, cycles / seconds));
+                Ok((t, events))
+            });
+        let (t, events) = match result {
             Ok(t) => t,
             Err(msg) => {
                 let _ = writeln!(err, "error: {msg}");
@@ -103,6 +113,11 @@ pub fn run_trend(a: &TrendArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
                 TrendRecord::new(&t, &rows, Some("3s"), left)
             }
         };
+        let mut record = record;
+        if let Some((events, references)) = events {
+            record.events = events;
+            record.dip_swell_reference = references;
+        }
         if a.format != crate::cli::FormatArg::Table
             && let Some(l) = &record.left_out
         {

@@ -347,6 +347,10 @@ fn resolve(l: &Layer, capture: &Path, files: &mut FileCache) -> Result<Setup, St
         skew_s,
         harmonics,
         pf_threshold,
+        declared_voltage_v: match l.declared_voltage {
+            None => None,
+            Some(u) => Some(positive(Some(u), 0.0, "declared_voltage")?),
+        },
         uncertainty: UncertaintyInputs {
             v_ratio_percent: limit(l.v_ratio_accuracy, du.v_ratio_percent, "v_ratio_accuracy")?,
             i_ratio_percent: limit(l.i_ratio_accuracy, du.i_ratio_percent, "i_ratio_accuracy")?,

@@ -106,6 +106,9 @@ pub struct Layer {
     /// PF penalty threshold.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub pf_threshold: Option<f64>,
+    /// Declared supply voltage Udin, V, for dips and swells.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub declared_voltage: Option<f64>,
     /// Circuit model file (a relative path is relative to the sidecar that names it).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub expect: Option<PathBuf>,
@@ -231,7 +234,16 @@ impl Layer {
             time_zero,
             harmonics
         );
-        take!(self, over, pf_threshold, expect, draws, seed, distribution);
+        take!(
+            self,
+            over,
+            pf_threshold,
+            declared_voltage,
+            expect,
+            draws,
+            seed,
+            distribution
+        );
         take!(
             self,
             over,
@@ -293,6 +305,7 @@ impl Layer {
             (Table::Top, "time_zero", Value::Text(t)) => self.time_zero = Some(t),
             (Table::Top, "harmonics", Value::Whole(n)) => self.harmonics = Some(n as usize),
             (Table::Top, "pf_threshold", Value::Number(x)) => self.pf_threshold = Some(x),
+            (Table::Top, "declared_voltage", Value::Number(x)) => self.declared_voltage = Some(x),
             (Table::Top, "expect", Value::Text(t)) => self.expect = Some(t.into()),
             (Table::Top, "draws", Value::Whole(n)) => self.draws = Some(n as usize),
             (Table::Top, "seed", Value::Whole(n)) => self.seed = Some(n),

@@ -23,10 +23,11 @@
 //!   A clean step is found within a sample or two.
 //! - **Dips and swells** (IEC 61000-4-30, from memory): the RMS over one cycle, refreshed every
 //!   half cycle (Urms(1/2)); a dip starts when it falls below 90 % of the reference and ends when
-//!   it is back above 90 % plus a 2 % hysteresis; a swell above 110 %, ending below 108 %. A
-//!   capture carries no declared voltage, so the reference is the record's median Urms(1/2)
-//!   (our choice: the standard's sliding reference needs minutes of history); `before` and
-//!   `after` are the medians of the [`STEP_CYCLES`] cycles either side.
+//!   it is back above 90 % plus a 2 % hysteresis; a swell above 110 %, ending below 108 %. The
+//!   reference is the declared input voltage Udin when one is given (`--declared-voltage`, as
+//!   the standard measures them), else the record's median Urms(1/2) (our choice: the
+//!   standard's sliding reference needs minutes of history); [`Detection::reference`] says
+//!   which. `before` and `after` are the medians of the [`STEP_CYCLES`] cycles either side.
 
 use crate::estimate;
 use rustfft::num_complex::Complex64;
@@ -74,6 +75,52 @@ pub enum EventQuantity {
     VoltageRmsV,
 }
 
+/// Where the reference voltage of dips and swells came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+pub enum ReferenceSource {
+    /// The declared input voltage Udin (IEC 61000-4-30), as given.
+    #[serde(rename = "declared")]
+    Declared,
+    /// The record's median one-cycle RMS (no declared voltage given).
+    #[serde(rename = "median of the record")]
+    Median,
+}
+
+impl ReferenceSource {
+    /// `declared` or `median of the record`.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            ReferenceSource::Declared => "declared",
+            ReferenceSource::Median => "median of the record",
+        }
+    }
+}
+
+/// The voltage one phase's dips and swells were measured against.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct DipReference {
+    /// The phase (`a`, `b`, `c`; `None` for a single-phase capture).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub phase: Option<&'static str>,
+    /// Declared or the record's median.
+    pub source: ReferenceSource,
+    /// The reference the one-cycle RMS was compared with, V.
+    pub voltage_v: f64,
+    /// A 3-wire capture's declared line-to-line voltage, of which `voltage_v` is 1/√3 (its
+    /// phases are the voltages to the artificial star point).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub declared_line_to_line_v: Option<f64>,
+}
+
+/// The events of one phase and the reference its dips and swells were measured against.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Detection {
+    /// The events, in time order.
+    pub events: Vec<Event>,
+    /// The dips' and swells' reference (`None`: no declared voltage and too short a record).
+    pub reference: Option<DipReference>,
+}
+
 /// One event.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct Event {
@@ -97,6 +144,9 @@ pub struct Event {
     /// The phase it was seen on (`a`, `b`, `c`; `None` for a single-phase capture).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub phase: Option<&'static str>,
+    /// A dip's or swell's reference voltage, V (declared or the record's median).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub reference_v: Option<f64>,
 }
 
 /// Cycle boundaries at whole samples: `round(k·per_cycle)` while inside the record.
@@ -220,20 +270,30 @@ fn switching_instant(
     (fit.end..to.min(i.len())).find(|&n| (i[n] - model(n)).abs() > threshold)
 }
 
-/// The events of one phase.
+/// The events of one phase, dips and swells against the record's median one-cycle RMS.
 pub fn detect(v: &[f64], i: &[f64], fs: f64, f: f64) -> Vec<Event> {
+    detect_against(v, i, fs, f, None).events
+}
+
+/// The events of one phase, dips and swells against `declared_v` (the declared input voltage
+/// Udin, V) when given, else against the record's median one-cycle RMS.
+pub fn detect_against(v: &[f64], i: &[f64], fs: f64, f: f64, declared_v: Option<f64>) -> Detection {
+    let none = || Detection {
+        events: Vec::new(),
+        reference: declared_v.map(|u| reference(ReferenceSource::Declared, u)),
+    };
     let n = v.len().min(i.len());
     let (v, i) = (&v[..n], &i[..n]);
     if !(f > 0.0 && fs > 0.0) || n == 0 {
-        return Vec::new();
+        return none();
     }
     let per_cycle = fs / f;
     if per_cycle < 4.0 {
-        return Vec::new();
+        return none();
     }
     let b = boundaries(n, per_cycle);
     if b.len() < 2 * STEP_CYCLES + 2 {
-        return Vec::new();
+        return none();
     }
     let omega = 2.0 * PI * f / fs;
     let cycles = b.len() - 1;
@@ -302,10 +362,11 @@ pub fn detect(v: &[f64], i: &[f64], fs: f64, f: f64) -> Vec<Event> {
                 after,
                 extreme: None,
                 phase: None,
+                reference_v: None,
             }
         })
         .collect();
-    let voltage_events = dips_and_swells(v, fs, f);
+    let (voltage_events, reference_v) = dips_and_swells(v, fs, f, declared_v);
     // a change of Q1 or I1 within a few cycles of a dip or swell is the voltage's doing, not a
     // switching (a load that keeps its current through a dip would otherwise read as one)
     let margin = STEP_CYCLES as f64 / f;
@@ -317,11 +378,29 @@ pub fn detect(v: &[f64], i: &[f64], fs: f64, f: f64) -> Vec<Event> {
     });
     events.extend(voltage_events);
     events.sort_by(|a, b| a.time_s.total_cmp(&b.time_s));
-    events
+    let source = match declared_v {
+        Some(_) => ReferenceSource::Declared,
+        None => ReferenceSource::Median,
+    };
+    Detection {
+        events,
+        reference: reference_v.map(|u| reference(source, u)),
+    }
 }
 
-/// Dips and swells of `v` by the one-cycle RMS refreshed every half cycle.
-fn dips_and_swells(v: &[f64], fs: f64, f: f64) -> Vec<Event> {
+fn reference(source: ReferenceSource, voltage_v: f64) -> DipReference {
+    DipReference {
+        phase: None,
+        source,
+        voltage_v,
+        declared_line_to_line_v: None,
+    }
+}
+
+/// Dips and swells of `v` by the one-cycle RMS refreshed every half cycle, against `declared`
+/// or the median of those values; and the reference used (`None`: no declared voltage and too
+/// few values for a median).
+fn dips_and_swells(v: &[f64], fs: f64, f: f64, declared: Option<f64>) -> (Vec<Event>, Option<f64>) {
     let half = fs / f / 2.0;
     let mut spans = Vec::new();
     let mut k = 0usize;
@@ -335,15 +414,15 @@ fn dips_and_swells(v: &[f64], fs: f64, f: f64) -> Vec<Event> {
         k += 1;
     }
     if spans.len() < 4 * STEP_CYCLES {
-        return Vec::new();
+        return (Vec::new(), declared);
     }
     let urms: Vec<f64> = spans
         .iter()
         .map(|&(a, e)| (v[a..e].iter().map(|x| x * x).sum::<f64>() / (e - a) as f64).sqrt())
         .collect();
-    let reference = median(&urms);
+    let reference = declared.unwrap_or_else(|| median(&urms));
     if !(reference > 0.0) {
-        return Vec::new();
+        return (Vec::new(), None);
     }
     // values two half cycles apart share no samples: the medians either side take every second
     let side = |from: usize, to: usize| {
@@ -394,8 +473,9 @@ fn dips_and_swells(v: &[f64], fs: f64, f: f64) -> Vec<Event> {
             after,
             extreme: Some(extreme),
             phase: None,
+            reference_v: Some(reference),
         });
         j = end + 1;
     }
-    out
+    (out, Some(reference))
 }

@@ -826,13 +826,29 @@ fn capture_tail(
     let mut plots = plot::plots_with(a, options, expectation);
     plots.extend(trend.and_then(|t| plot::trend::report_plot(t, &a.events)));
     write_plots(h, &plots)?;
-    // the events, as `analyze` lists them (the trend plot marks the same ones)
-    if !a.events.is_empty() {
-        writeln!(h, "<h3>Events</h3>\n<ul class=\"notes\">")?;
-        for e in &a.events {
-            writeln!(h, "<li>{}</li>", escape(&super::table::event_text(e)))?;
+    // the events, as `analyze` lists them (the trend plot marks the same ones), and what dips
+    // and swells were measured against
+    let reference = super::table::shows_reference(a)
+        .then(|| super::table::reference_text(&a.dip_references))
+        .flatten();
+    if !a.events.is_empty() || reference.is_some() {
+        writeln!(h, "<h3>Events</h3>")?;
+        if a.events.is_empty() {
+            writeln!(h, "<p>None.</p>")?;
+        } else {
+            writeln!(h, "<ul class=\"notes\">")?;
+            for e in &a.events {
+                writeln!(h, "<li>{}</li>", escape(&super::table::event_text(e)))?;
+            }
+            writeln!(h, "</ul>")?;
         }
-        writeln!(h, "</ul>")?;
+        if let Some(text) = reference {
+            writeln!(
+                h,
+                "<p class=\"note\">Dips and swells against the {}.</p>",
+                escape(&text)
+            )?;
+        }
     }
     // warnings always (their absence is news), findings and notes when there are any
     for (title, severity, class) in [

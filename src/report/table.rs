@@ -357,6 +357,11 @@ impl Exporter for TableExporter {
             let head = if k == 0 { "events" } else { "" };
             writeln!(out, "  {head:<13}- {}", event_text(e))?;
         }
+        if shows_reference(a)
+            && let Some(text) = reference_text(&a.dip_references)
+        {
+            writeln!(out, "  dips/swells  against {text}")?;
+        }
         writeln!(
             out,
             "  status       {}",
@@ -497,6 +502,46 @@ pub fn sign_off(
         out,
         "  checked by   ______________________   date __________"
     )
+}
+
+/// Whether a capture's output says what dips and swells were measured against: when a declared
+/// voltage was given or a dip or swell was found.
+pub fn shows_reference(a: &crate::analysis::Analysis) -> bool {
+    a.settings.declared_voltage_v.is_some()
+        || a.events
+            .iter()
+            .any(|e| e.kind != crate::quantity::events::EventKind::Switching)
+}
+
+/// What dips and swells were measured against, in words: `declared 230 V: ...` or `median of
+/// the record 229.8 V (a), 230.1 V (b), 229.5 V (c): ...`; `None` without a reference.
+pub fn reference_text(refs: &[crate::quantity::events::DipReference]) -> Option<String> {
+    let first = refs.first()?;
+    let values: Vec<String> = if refs.iter().all(|r| r.voltage_v == first.voltage_v) {
+        vec![format!("{} V", num(first.voltage_v, 5))]
+    } else {
+        refs.iter()
+            .map(|r| match r.phase {
+                Some(p) => format!("{} V ({p})", num(r.voltage_v, 5)),
+                None => format!("{} V", num(r.voltage_v, 5)),
+            })
+            .collect()
+    };
+    let line = first
+        .declared_line_to_line_v
+        .map(|u| {
+            format!(
+                " (the declared {} V line to line ÷ √3, for the voltages to the artificial star \
+                 point)",
+                num(u, 5)
+            )
+        })
+        .unwrap_or_default();
+    Some(format!(
+        "{} {}{line}: a dip below 90 %, a swell above 110 % (IEC 61000-4-30)",
+        first.source.as_str(),
+        values.join(", ")
+    ))
 }
 
 /// An event in words: `switching at 1.2137 s (to the sample): Q1 2760 var before, 760 var

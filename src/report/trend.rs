@@ -124,6 +124,13 @@ fn table(out: &mut dyn Write, r: &TrendRecord) -> io::Result<()> {
     if !r.warning_codes.is_empty() {
         writeln!(out, "  loading warnings: {}", r.warning_codes.join(", "))?;
     }
+    for (k, e) in r.events.iter().enumerate() {
+        let head = if k == 0 { "events" } else { "" };
+        writeln!(out, "  {head:<13}- {}", super::table::event_text(e))?;
+    }
+    if let Some(text) = super::table::reference_text(&r.dip_swell_reference) {
+        writeln!(out, "  dips/swells  against {text}")?;
+    }
     writeln!(out)
 }
 

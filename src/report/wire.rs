@@ -11,7 +11,7 @@
 use crate::analysis::{Analysis, PhaseAnalysis, Settings, SystemUncertainty, ThreePhaseAnalysis};
 use crate::capture::{Channel, ChosenBy, System, UsedChannels};
 use crate::check::expected::Expected;
-use crate::quantity::events::{Event, EventKind};
+use crate::quantity::events::{DipReference, Event, EventKind};
 use crate::quantity::power::Powers;
 use crate::quantity::three_phase::{Effective, PositiveSequencePowers, Rotation, Totals};
 use crate::quantity::uncertainty::Uncertainty;
@@ -86,6 +86,10 @@ pub struct AnalysisRecord {
     pub event_count: usize,
     /// The events, in time order.
     pub events: Vec<Event>,
+    /// What dips and swells were measured against, one per phase: `source` (`declared` or
+    /// `median of the record`) and `voltage_v`.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub dip_swell_reference: Vec<DipReference>,
     /// Spectrum, orders 1..=harmonic_order (single-phase; each phase's is under `phases`).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub harmonics: Vec<HarmonicLine>,
@@ -429,6 +433,7 @@ impl From<&Analysis> for AnalysisRecord {
             steady: !a.events.iter().any(|e| e.kind == EventKind::Switching),
             event_count: a.events.len(),
             events: a.events.clone(),
+            dip_swell_reference: a.dip_references.clone(),
             harmonics: if three.is_none() {
                 q.harmonics.clone()
             } else {

@@ -148,6 +148,7 @@ pub const KEYS: &[Key] = &[
     key(Top, "time_zero", Choice(TIME_ZEROS), "--time-zero"),
     key(Top, "harmonics", Whole(1, u64::MAX), "--harmonics"),
     key(Top, "pf_threshold", Number(Fraction), "--pf-threshold"),
+    key(Top, "declared_voltage", Number(Positive), "--declared-voltage"),
     key(Top, "expect", Path, "--expect"),
     key(Top, "draws", Whole(1, MAX_DRAWS as u64), "--draws"),
     key(Top, "seed", Whole(0, u64::MAX), "--seed"),

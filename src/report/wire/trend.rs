@@ -3,6 +3,7 @@
 
 use crate::analysis::phase_letter;
 use crate::capture::System;
+use crate::quantity::events::{DipReference, Event};
 use crate::trend::{LeftOut, PhaseFigures, TotalFigures, Trend, WindowFigures};
 use serde::Serialize;
 
@@ -27,6 +28,11 @@ pub struct TrendRecord {
     pub warning_codes: Vec<&'static str>,
     /// The windows or intervals, in time order.
     pub rows: Vec<TrendRow>,
+    /// The events of the whole capture, as `analyze` finds them (switchings, dips, swells).
+    pub events: Vec<Event>,
+    /// What dips and swells were measured against, one per phase (as in `analyze`).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub dip_swell_reference: Vec<DipReference>,
 }
 
 /// The words of [`TrendRecord::alignment`].
@@ -250,6 +256,8 @@ impl TrendRecord {
             aggregate,
             left_out: left_out.map(LeftOutRecord::from),
             warning_codes: t.warnings.iter().map(|w| w.code()).collect(),
+            events: Vec::new(),
+            dip_swell_reference: Vec::new(),
         }
     }
 }
