@@ -219,9 +219,17 @@ fn a_pattern_matching_no_capture_is_a_warning_with_its_line() {
          harmonics = 7\n",
     )
     .unwrap();
-    let (rows, err, code) = run(&site, &[]);
+    let report = dir.path().join("visit.html");
+    let (rows, err, code) = run(&site, &["--report", report.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
     assert_eq!(rows.len(), 2);
+    // the report carries them too
+    let html = std::fs::read_to_string(&report).unwrap();
+    assert!(
+        html.contains("*-clamp-b*") && html.contains("*.wav"),
+        "{html}"
+    );
+    assert_eq!(html.matches("matches no capture of this batch").count(), 2);
     let warnings: Vec<&str> = err.lines().filter(|l| l.starts_with("warning:")).collect();
     assert_eq!(warnings.len(), 2, "{err}");
     assert!(

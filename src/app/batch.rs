@@ -701,6 +701,7 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
             report_rows,
             sections.path(),
             &plot_options,
+            &unmatched,
         );
         drop(sections);
         saved?;

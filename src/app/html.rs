@@ -351,6 +351,7 @@ pub fn save_spooled(
     rows: Vec<BatchRow>,
     sections: &Path,
     options: &PlotOptions,
+    warnings: &[String],
 ) -> Result<(), String> {
     let mut doc = HtmlDoc::new(title, Vec::new());
     doc.plot_options = *options;
@@ -359,6 +360,9 @@ pub fn save_spooled(
         "settings".into(),
         "per capture, as recorded in the batch summary".into(),
     )];
+    // the run's own warnings (a sidecar pattern that matched no capture), as told on stderr
+    doc.settings
+        .extend(warnings.iter().map(|w| ("warning".to_string(), w.clone())));
     let written = fs::File::open(sections).and_then(|from| {
         let mut from = io::BufReader::new(from);
         write_atomically_with(path, |f| {
