@@ -1350,6 +1350,28 @@ mod tests {
         }
     }
 
+    /// Every field quoted, some after a space (`0.5, "2"`: the csv crate keeps those quotes,
+    /// RFC 4180 opens a quoted field only at its first character, from memory): the numbers
+    /// inside are read all the same, and the quoted time column is the time base.
+    #[test]
+    fn quoted_fields_after_spaces_are_read_as_numbers() {
+        let mut text = String::from("\"time\", \"v\", \"i\"\n");
+        for k in 0..200 {
+            text.push_str(&format!(
+                "\"{}\", \"{}\", \"-1.5\"\n",
+                k as f64 * 0.5,
+                k * 2
+            ));
+        }
+        let f = temp_csv(text.as_bytes());
+        let c = load_with(f.path(), &LoadOptions::default(), tiny(1, 1 << 20)).unwrap();
+        let v: Vec<f64> = (0..200).map(|k| (k * 2) as f64).collect();
+        assert_eq!(c.voltage().samples, v);
+        assert!(c.current().samples.iter().all(|&x| x == -1.5));
+        assert_eq!(c.sample_rate_hz, 2.0);
+        assert_eq!(c.time.as_ref().map(|t| t.column), Some(1));
+    }
+
     #[test]
     fn a_lone_carriage_return_falls_back_to_the_csv_reader() {
         // The csv crate ends a record at a lone CR: the 4th (unused) column hides it from a
