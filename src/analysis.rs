@@ -356,15 +356,32 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         .map(|t| (t, Trace::Voltage))
         .chain(capture.currents.iter().map(|t| (t, Trace::Current)))
         .collect();
-    let checks: Vec<(Option<f64>, Option<usize>)> = traces
-        .iter()
-        .map(|(t, _)| {
-            (
-                condition::clipping(&t.samples),
-                condition::few_levels(&t.samples),
+    // the events need only the samples and the frequency: they are looked for while the traces
+    // are scanned for clipping (both read every sample; two cores when free)
+    let frequency_hz = estimates[0].1.frequency_hz;
+    let (checks, (events, dip_references)): (Vec<(Option<f64>, Option<usize>)>, _) = rayon::join(
+        || {
+            traces
+                .iter()
+                .map(|(t, _)| {
+                    (
+                        condition::clipping(&t.samples),
+                        condition::few_levels(&t.samples),
+                    )
+                })
+                .collect()
+        },
+        || {
+            record_events(
+                &samples,
+                rate,
+                frequency_hz,
+                span.start_s(),
+                capture.system,
+                settings.declared_voltage_v,
             )
-        })
-        .collect();
+        },
+    );
     for ((t, kind), (clip, levels)) in traces.iter().zip(checks) {
         let on = |w: Warning| match (many, t.place) {
             (true, Place::Phase(p)) => Warning::OnPhase {
@@ -444,14 +461,6 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             threshold: settings.pf_threshold,
         });
     }
-    let (events, dip_references) = record_events(
-        &samples,
-        rate,
-        phases[0].quantities.frequency_hz,
-        span.start_s(),
-        capture.system,
-        settings.declared_voltage_v,
-    );
     let switchings: Vec<&Event> = events
         .iter()
         .filter(|e| e.kind == EventKind::Switching)
