@@ -12,8 +12,8 @@
 //! of the Cramér-Rao bound's standard deviation; many sub-records approach it.
 
 use super::fit::Basis;
+use realfft::{RealFftPlanner, RealToComplex};
 use rustfft::num_complex::Complex64;
-use rustfft::{Fft, FftPlanner};
 use std::f64::consts::PI;
 use std::sync::Arc;
 
@@ -27,20 +27,21 @@ pub const REFINE_ORDER: usize = 15;
 const PLANS_KEPT: usize = 4;
 
 /// A plan and the length it is for.
-type Plan = (usize, Arc<dyn Fft<f64>>);
+type Plan = (usize, Arc<dyn RealToComplex<f64>>);
 
 thread_local! {
     static PLANS: std::cell::RefCell<Vec<Plan>> = const { std::cell::RefCell::new(Vec::new()) };
 }
 
-/// A forward FFT of length `n`, from this thread's few kept plans or planned afresh (a planner of
-/// its own, dropped with everything it cached but the plan itself).
-fn forward_plan(n: usize) -> Arc<dyn Fft<f64>> {
+/// A forward real-to-complex FFT of length `n` (half the work of a complex FFT of the same
+/// length, bins 0 to n/2 alike), from this thread's few kept plans or planned afresh (a planner
+/// of its own, dropped with everything it cached but the plan itself).
+fn forward_plan(n: usize) -> Arc<dyn RealToComplex<f64>> {
     PLANS.with(|plans| {
         let mut plans = plans.borrow_mut();
         let plan = match plans.iter().position(|(len, _)| *len == n) {
             Some(at) => plans.remove(at).1,
-            None => FftPlanner::new().plan_fft_forward(n),
+            None => RealFftPlanner::new().plan_fft_forward(n),
         };
         plans.insert(0, (n, Arc::clone(&plan)));
         plans.truncate(PLANS_KEPT);
@@ -99,7 +100,7 @@ fn spectrum_peak(x: &[f64], fs: f64) -> Option<f64> {
     // so rounding cannot build up.
     let step = Complex64::from_polar(1.0, 2.0 * PI / n as f64);
     let mut z = Complex64::new(1.0, 0.0);
-    let mut buf: Vec<Complex64> = x
+    let mut windowed: Vec<f64> = x
         .iter()
         .enumerate()
         .map(|(k, v)| {
@@ -108,10 +109,13 @@ fn spectrum_peak(x: &[f64], fs: f64) -> Option<f64> {
             }
             let w = 0.5 - 0.5 * z.re;
             z *= step;
-            Complex64::new((v - mean) * w, 0.0)
+            (v - mean) * w
         })
         .collect();
-    forward_plan(n).process(&mut buf);
+    let plan = forward_plan(n);
+    let mut buf = plan.make_output_vec();
+    plan.process(&mut windowed, &mut buf).ok()?;
+    drop(windowed);
     // the magnitude as the root of the squared norm: much cheaper than `hypot`, and no sample
     // here is large enough for the square to overflow (see `MAX_MAGNITUDE`)
     let mag: Vec<f64> = buf[..n / 2].iter().map(|c| c.norm_sqr().sqrt()).collect();
