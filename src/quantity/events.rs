@@ -314,7 +314,7 @@ fn steps(x: &[f64], floor: f64) -> Vec<(usize, f64, f64)> {
         while last + 1 < x.len() - m && near(last + 1) {
             last += 1;
         }
-        let centre = (first + last + 1) / 2;
+        let centre = (first + last).div_ceil(2);
         out.push((centre, d[centre].1, d[centre].2));
     }
     out
