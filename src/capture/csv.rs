@@ -717,7 +717,9 @@ pub(crate) fn load_with(
     // `csv` crate, which reports the first problem with its line exactly as it always has.
     let cols = match fast::read(
         &mut file, path, data_start, file_len, &spec, &layout, tuning,
-    ) {
+    )
+    .map_err(|k| err(None, k))?
+    {
         Some(cols) => cols,
         None => read_with_csv(file, path, data_start, file_len, &spec, &layout)?,
     };
@@ -812,6 +814,44 @@ pub(crate) fn load_with(
     Ok(Capture::assemble(head, &layout.channels, &set, data, None))
 }
 
+/// A column of `rows` zeros, or the error saying the memory could not be had (zeroed pages
+/// from the allocator: a page no row reaches is never touched).
+pub(crate) fn zeroed_column(rows: usize, columns: usize) -> Result<Vec<f64>, LoadErrorKind> {
+    let no_memory = || LoadErrorKind::OutOfMemory {
+        bytes: (rows as u64).saturating_mul(8),
+        rows: rows as u64,
+        columns,
+    };
+    if rows == 0 {
+        return Ok(Vec::new());
+    }
+    let layout = std::alloc::Layout::array::<f64>(rows).map_err(|_| no_memory())?;
+    // SAFETY: `layout` has a non-zero size (rows > 0); the pointer, when not null, is a fresh
+    // allocation of the global allocator for exactly `rows` f64 with f64's alignment, all bytes
+    // zero (0.0), which is what `Vec::from_raw_parts` requires for length = capacity = rows.
+    unsafe {
+        let ptr = std::alloc::alloc_zeroed(layout).cast::<f64>();
+        if ptr.is_null() {
+            return Err(no_memory());
+        }
+        Ok(Vec::from_raw_parts(ptr, rows, rows))
+    }
+}
+
+/// Room for `more` values in `col` (one of `columns`), or the error saying it could not be had.
+pub(crate) fn reserve(
+    col: &mut Vec<f64>,
+    more: usize,
+    columns: usize,
+) -> Result<(), LoadErrorKind> {
+    col.try_reserve_exact(more)
+        .map_err(|_| LoadErrorKind::OutOfMemory {
+            bytes: (more as u64).saturating_mul(8),
+            rows: (col.len() + more) as u64,
+            columns,
+        })
+}
+
 /// Rows expected in `bytes` of data, with a little margin, to pre-size the columns.
 fn estimated_rows(bytes: u64, layout: &Layout) -> usize {
     ((bytes as f64) / layout.bytes_per_row.max(1.0) * 1.02) as usize + 16
@@ -838,11 +878,13 @@ fn read_with_csv(
         .from_reader(BufReader::with_capacity(256 * 1024, file));
 
     let est_rows = estimated_rows(file_len, layout);
-    let mut data: Vec<Vec<f64>> = spec
-        .cols
-        .iter()
-        .map(|_| Vec::with_capacity(est_rows))
-        .collect();
+    let width = spec.cols.len();
+    let mut data: Vec<Vec<f64>> = Vec::with_capacity(width);
+    for _ in 0..width {
+        let mut col = Vec::new();
+        reserve(&mut col, est_rows, width).map_err(|k| err(None, k))?;
+        data.push(col);
+    }
     let need = spec.need;
     let mut time = TimeCheck::default();
     let mut rec = ::csv::ByteRecord::new();
@@ -917,6 +959,10 @@ fn read_with_csv(
             time.push(t).map_err(|k| err(line_of(&rec), k))?;
         }
         for (col, &c) in data.iter_mut().zip(&spec.cols) {
+            if col.len() == col.capacity() {
+                // beyond the estimate: grow by half again, the failure an error, not an abort
+                reserve(col, col.len() / 2 + 1024, width).map_err(|k| err(line_of(&rec), k))?;
+            }
             col.push(cell(c)?);
         }
     }
@@ -1242,7 +1288,7 @@ mod tests {
         let set = pick_set(&layout.channels, Default::default()).unwrap();
         let spec = row_spec(&layout, &set.wanted());
         let start = bom as u64 + layout.data_offset;
-        let fast = fast::read(&mut file, path, start, len, &spec, &layout, tuning);
+        let fast = fast::read(&mut file, path, start, len, &spec, &layout, tuning).unwrap();
         let reference = read_with_csv(File::open(path).unwrap(), path, start, len, &spec, &layout);
         (fast, reference)
     }
@@ -1538,6 +1584,37 @@ mod tests {
             let c = load_with(f.path(), &opts, tiny(parts, block)).unwrap();
             assert_eq!(c, one, "{parts} parts, block {block}");
         }
+    }
+
+    /// Columns that cannot be had are an error that says so, not an abort. Sizes past isize::MAX
+    /// bytes (Rust's limit for one allocation) are refused before asking; what the machine
+    /// refuses takes the same path (the allocator's null), but no size is refused everywhere:
+    /// 2^59 bytes were granted untouched here, so that case is checked by hand under
+    /// `ulimit -v` (DEVELOPERS.md).
+    #[test]
+    fn columns_beyond_the_machine_are_an_error_naming_the_memory() {
+        for (rows, why) in [(usize::MAX / 8, "past isize::MAX"), (usize::MAX / 4, "overflows")] {
+            match zeroed_column(rows, 2) {
+                Err(e @ LoadErrorKind::OutOfMemory { .. }) => {
+                    let text = e.to_string();
+                    assert!(
+                        text.starts_with("not enough memory for its samples"),
+                        "{text}"
+                    );
+                    assert!(text.contains("of 2 channel(s)"), "{text}");
+                }
+                other => panic!("{why}: {:?}", other.map(|v| v.len())),
+            }
+            let mut col = vec![1.0; 4];
+            assert!(matches!(
+                reserve(&mut col, rows, 2),
+                Err(LoadErrorKind::OutOfMemory { .. })
+            ));
+            assert_eq!(col, [1.0; 4], "the column is left as it was");
+        }
+        let col = zeroed_column(1000, 2).unwrap();
+        assert_eq!((col.len(), col.iter().all(|&x| x == 0.0)), (1000, true));
+        assert!(zeroed_column(0, 2).unwrap().is_empty());
     }
 
     #[test]

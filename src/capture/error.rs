@@ -193,6 +193,20 @@ pub enum LoadErrorKind {
     /// The span asked for is not a usable part of the record.
     #[error("{0}")]
     BadSpan(String),
+    /// The memory for the samples could not be had.
+    #[error(
+        "not enough memory for its samples: {} MB more were refused ({rows} rows of {columns} \
+         channel(s) as 8-byte numbers); close other programs, or split the file",
+        .bytes.div_ceil(1_000_000)
+    )]
+    OutOfMemory {
+        /// Bytes asked for when the allocation failed.
+        bytes: u64,
+        /// Rows being held.
+        rows: u64,
+        /// Channels being held.
+        columns: usize,
+    },
 }
 
 /// Which channel is the voltage or the current is not said (see [`LoadErrorKind::Ambiguous`]).

@@ -5,7 +5,9 @@
 
 use super::{
     Columns, Layout, MAX_COLUMNS, RowSpec, TimeCheck, Tuning, decimal, estimated_rows, parse_f64,
+    reserve, zeroed_column,
 };
+use crate::capture::error::LoadErrorKind;
 use memchr::{memchr, memchr_iter, memrchr};
 use std::fs::File;
 use std::io::{ErrorKind, Read, Seek, SeekFrom};
@@ -47,6 +49,12 @@ impl Out<'_> {
             self.n += 1;
         } else {
             for (spill, &x) in self.spills.iter_mut().zip(row) {
+                // no room to be had: the reference reader tries, and says so if it fails too
+                if spill.len() == spill.capacity() {
+                    spill
+                        .try_reserve(spill.len() / 2 + 1024)
+                        .map_err(|_| GiveUp)?;
+                }
                 spill.push(x);
             }
         }
@@ -63,7 +71,8 @@ impl Out<'_> {
 }
 
 /// Reads the data region from `data_start` to the end of the file; `None` when the reference
-/// reader must do it (see the module note). `file` is only used to find the cut points.
+/// reader must do it (see the module note), an error when the memory for the columns cannot be
+/// had. `file` is only used to find the cut points.
 pub(super) fn read(
     file: &mut File,
     path: &Path,
@@ -72,13 +81,15 @@ pub(super) fn read(
     spec: &RowSpec,
     layout: &Layout,
     tuning: Tuning,
-) -> Option<Columns> {
+) -> Result<Option<Columns>, LoadErrorKind> {
     if spec.time_base_ns.is_some() {
-        return None; // date-time stamps: the reference reader parses them
+        return Ok(None); // date-time stamps: the reference reader parses them
     }
     let region = file_len.saturating_sub(data_start);
     let parts = (region / tuning.min_part_bytes.max(1)).clamp(1, tuning.max_parts.max(1) as u64);
-    let bounds = cut(file, data_start, file_len, parts as usize).ok()?;
+    let Ok(bounds) = cut(file, data_start, file_len, parts as usize) else {
+        return Ok(None);
+    };
     let caps: Vec<usize> = bounds
         .windows(2)
         .map(|w| estimated_rows(w[1] - w[0], layout))
@@ -86,7 +97,10 @@ pub(super) fn read(
     let total: usize = caps.iter().sum();
     // Zeroed (calloc'd) columns: pages a part never writes are never touched.
     let width = spec.cols.len();
-    let mut columns: Vec<Vec<f64>> = (0..width).map(|_| vec![0.0f64; total]).collect();
+    let mut columns: Vec<Vec<f64>> = Vec::with_capacity(width);
+    for _ in 0..width {
+        columns.push(zeroed_column(total, width)?);
+    }
     let cancel = AtomicBool::new(false);
     let block = tuning.block_bytes.max(1);
     let results: Vec<Result<Part, GiveUp>> = {
@@ -141,10 +155,14 @@ pub(super) fn read(
             results
         })
     };
-    let parts: Vec<Part> = results.into_iter().collect::<Result<_, _>>().ok()?;
+    let Ok(parts) = results.into_iter().collect::<Result<Vec<Part>, _>>() else {
+        return Ok(None);
+    };
     let mut time = TimeCheck::default();
     for p in &parts {
-        time.append(&p.time).ok()?;
+        if time.append(&p.time).is_err() {
+            return Ok(None);
+        }
     }
     let used: Vec<usize> = parts.iter().map(|p| p.n).collect();
     let mut spills: Vec<Vec<Vec<f64>>> = vec![Vec::with_capacity(parts.len()); width];
@@ -156,9 +174,9 @@ pub(super) fn read(
     let data = columns
         .into_iter()
         .zip(spills)
-        .map(|(col, spill)| assemble(col, &caps, &used, spill))
-        .collect();
-    Some(Columns { data, time })
+        .map(|(col, spill)| assemble(col, &caps, &used, spill, width))
+        .collect::<Result<_, _>>()?;
+    Ok(Some(Columns { data, time }))
 }
 
 /// Start offsets of up to `parts` parts of `start..end`, each just after a newline, followed
@@ -218,19 +236,26 @@ fn carve<'a>(mut col: &'a mut [f64], sizes: &[usize]) -> Vec<&'a mut [f64]> {
 }
 
 /// Closes the gaps between the parts' shares (and adds what spilled over), in file order.
-fn assemble(mut col: Vec<f64>, caps: &[usize], used: &[usize], spills: Vec<Vec<f64>>) -> Vec<f64> {
+fn assemble(
+    mut col: Vec<f64>,
+    caps: &[usize],
+    used: &[usize],
+    spills: Vec<Vec<f64>>,
+    width: usize,
+) -> Result<Vec<f64>, LoadErrorKind> {
     let last = spills.len().saturating_sub(1);
     if spills[..last].iter().any(|s| !s.is_empty()) {
         // A part held more rows than estimated (rare): build the column afresh.
         let total = used.iter().sum::<usize>() + spills.iter().map(Vec::len).sum::<usize>();
-        let mut whole = Vec::with_capacity(total);
+        let mut whole = Vec::new();
+        reserve(&mut whole, total, width)?;
         let mut at = 0;
         for ((&cap, &n), spill) in caps.iter().zip(used).zip(&spills) {
             whole.extend_from_slice(&col[at..at + n]);
             whole.extend_from_slice(spill);
             at += cap;
         }
-        return whole;
+        return Ok(whole);
     }
     let (mut at, mut w) = (0, 0);
     for (&cap, &n) in caps.iter().zip(used) {
@@ -240,9 +265,10 @@ fn assemble(mut col: Vec<f64>, caps: &[usize], used: &[usize], spills: Vec<Vec<f
     }
     col.truncate(w);
     if let Some(spill) = spills.last() {
+        reserve(&mut col, spill.len(), width)?;
         col.extend_from_slice(spill);
     }
-    col
+    Ok(col)
 }
 
 /// Reads one part (`limit` bytes from `start`, or to the end of the file) into `out`.
