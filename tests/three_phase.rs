@@ -794,3 +794,58 @@ fn a_three_wire_declared_voltage_is_line_to_line() {
         assert_eq!(found, dips, "{udin} V: {:?}", a.events);
     }
 }
+
+/// The power triangle of a three-phase capture is the system's (IEEE Std 1459-2010, §3.2: the
+/// positive-sequence powers P+, Q+, S+ and Se² = S+² + SU1² + SeN²), no longer phase a's.
+/// Balanced, 230 V, 10 A lagging 30°: P+ = 3·V·I·cos φ = 5975.6 W, Q+ = 3·V·I·sin φ = 3450 var,
+/// S+ = 6900 VA, nothing unbalanced or distorted (textbook). The heater from a to neutral
+/// (10 A on phase a only): I+ = Ia/3, so P+ = 3·230·10/3 = 2300 W = P, Q+ = 0, and the rest of
+/// Se = 3·230·10·√(2/3) is the unbalance power, √(Se² − S+²) = 5142.9 VA.
+#[test]
+fn the_power_triangle_of_a_three_phase_capture_is_the_systems() {
+    use tracephase::report::plot::triangle;
+    let dir = TempDir::new().unwrap();
+    let path = write_csv(
+        dir.path(),
+        "board.csv",
+        &balanced(230.0, 10.0, 30.0),
+        10.0,
+        None,
+    );
+    let a = load_and_analyze(&path, &LoadOptions::default());
+    let t = triangle::sides(&a);
+    assert_eq!(t.names, ["P+", "Q+", "S+"]);
+    assert!(
+        rel(t.p1, 3.0 * 230.0 * 10.0 * 30f64.to_radians().cos()) < 1e-6,
+        "{t:?}"
+    );
+    assert!(rel(t.q1, 3450.0) < 1e-6, "{t:?}");
+    assert!(rel(t.s1, 6900.0) < 1e-6, "{t:?}");
+    assert!(t.rest < 1e-3 * t.s, "{t:?}");
+    assert!(triangle::caption(&a).contains("three-phase system"));
+    // phase a alone would be a third of it
+    let phase_a = a.phases[0].quantities.power.fundamental_active_w;
+    assert!(rel(phase_a * 3.0, t.p1) < 1e-6);
+
+    let cols = vec![
+        col("Va", 230.0, 0.0),
+        col("Vb", 230.0, -120.0),
+        col("Vc", 230.0, 120.0),
+        col("Ia", 10.0, 0.0),
+        col("Ib", 0.0, 0.0),
+        col("Ic", 0.0, 0.0),
+        col("In", 10.0, 0.0),
+    ];
+    let path = write_csv(dir.path(), "one-heater.csv", &cols, 10.0, None);
+    let a = load_and_analyze(&path, &LoadOptions::default());
+    let t = triangle::sides(&a);
+    assert!(rel(t.p1, 2300.0) < 1e-6, "{t:?}");
+    assert!(t.q1.abs() < 1e-6 * 2300.0, "{t:?}");
+    let se = 3.0 * 230.0 * 10.0 * (2.0f64 / 3.0).sqrt();
+    assert!(rel(t.s, se) < 1e-6, "{t:?}");
+    assert!(
+        rel(t.rest, (se * se - 2300.0 * 2300.0).sqrt()) < 1e-6,
+        "{t:?}"
+    );
+    assert!(triangle::plot(&a).unwrap().contains("SU1"));
+}

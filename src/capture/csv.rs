@@ -1593,7 +1593,10 @@ mod tests {
     /// `ulimit -v` (DEVELOPERS.md).
     #[test]
     fn columns_beyond_the_machine_are_an_error_naming_the_memory() {
-        for (rows, why) in [(usize::MAX / 8, "past isize::MAX"), (usize::MAX / 4, "overflows")] {
+        for (rows, why) in [
+            (usize::MAX / 8, "past isize::MAX"),
+            (usize::MAX / 4, "overflows"),
+        ] {
             match zeroed_column(rows, 2) {
                 Err(e @ LoadErrorKind::OutOfMemory { .. }) => {
                     let text = e.to_string();

@@ -668,7 +668,7 @@ fn capture_section(
         three_phase::tables(h, a, t)?;
         writeln!(
             h,
-            "<p class=\"note\">The phasor diagram shows the three phases, the waveform and spectrum plots each phase (their captions say which); the power triangle shows phase a.</p>"
+            "<p class=\"note\">The phasor diagram shows the three phases, the waveform and spectrum plots each phase (their captions say which); the power triangle is the system's (positive-sequence powers).</p>"
         )?;
         return capture_tail(h, a, expectation, trend, options);
     }

@@ -22,45 +22,136 @@ pub const SN_SHOWN_SHARE: f64 = 0.01;
 /// Direction of the SN edge in the drawing, degrees from the P axis (oblique view).
 const SN_ANGLE_DEG: f64 = 35.0;
 
+/// The sides the triangle is drawn from, with their names: one phase's P1, Q1, S1 and SN, or a
+/// three-phase system's positive-sequence P+, Q+, S+ and the rest of its effective apparent power
+/// (IEEE Std 1459-2010: Se² = S+² + SU1² + SeN², the unbalance and non-fundamental powers).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Sides {
+    /// The plot's title.
+    pub title: &'static str,
+    /// The names of the legs and hypotenuse: `P1`, `Q1`, `S1` or `P+`, `Q+`, `S+`.
+    pub names: [&'static str; 3],
+    /// The active power along the axis (P1 or P+), W.
+    pub p1: f64,
+    /// The reactive power up or down (Q1 or Q+), var.
+    pub q1: f64,
+    /// The hypotenuse (S1 or S+), VA.
+    pub s1: f64,
+    /// The active power of everything (P), W.
+    pub p: f64,
+    /// The apparent power at right angles to the P-Q plane (SN, or √(SU1² + SeN²)), VA.
+    pub rest: f64,
+    /// What `rest` is made of, for the legend.
+    pub rest_parts: Vec<(&'static str, f64)>,
+    /// The whole apparent power (S or Se), VA.
+    pub s: f64,
+    /// The figures line under the title.
+    pub figures: String,
+}
+
+/// The sides of `a`'s triangle: the system's for a three-phase capture, else the phase's.
+pub fn sides(a: &Analysis) -> Sides {
+    let pf = |x: Option<f64>| x.map(|v| num(v, 3)).unwrap_or("n/a".into());
+    match &a.three_phase {
+        Some(t) => {
+            let f = &t.figures;
+            let (pos, eff) = (&f.positive_sequence, &f.effective);
+            let ratio = |x: f64, y: f64| (y > 0.0).then(|| x / y);
+            Sides {
+                title: "Power triangle of the system",
+                names: ["P+", "Q+", "S+"],
+                p1: pos.active_w,
+                q1: pos.reactive_var,
+                s1: pos.apparent_va,
+                p: f.total.active_w,
+                rest: pos.unbalance_va.hypot(eff.nonfundamental_apparent_va),
+                rest_parts: vec![
+                    ("SU1", pos.unbalance_va),
+                    ("SeN", eff.nonfundamental_apparent_va),
+                ],
+                s: eff.apparent_va,
+                figures: format!(
+                    "PF = P/Se {} · P+/S+ {}",
+                    pf(eff.pf),
+                    pf(ratio(pos.active_w, pos.apparent_va))
+                ),
+            }
+        }
+        None => {
+            let q = &a.quantities;
+            let pw = &q.power;
+            Sides {
+                title: "Power triangle",
+                names: ["P1", "Q1", "S1"],
+                p1: pw.fundamental_active_w,
+                q1: pw.reactive_var,
+                s1: pw.fundamental_apparent_va,
+                p: pw.active_w,
+                rest: pw.nonfundamental_apparent_va,
+                rest_parts: vec![("SN", pw.nonfundamental_apparent_va)],
+                s: pw.apparent_va,
+                figures: format!(
+                    "true PF {} · displacement PF {}{}",
+                    pf(q.true_pf),
+                    pf(q.displacement_pf),
+                    q.character
+                        .map(|c| format!(" · {}", c.as_str()))
+                        .unwrap_or_default()
+                ),
+            }
+        }
+    }
+}
+
 /// The caption of the power triangle.
 pub fn caption(a: &Analysis) -> String {
-    let p = &a.quantities.power;
-    let mut s = String::from(
-        "Power triangle (IEEE Std 1459-2010): P1 along the axis, Q1 up when inductive and down \
-         when capacitive, S1 the hypotenuse, to scale.",
-    );
-    if show_sn(a) {
-        s.push_str(
+    let t = sides(a);
+    let mut s = if a.three_phase.is_some() {
+        String::from(
+            "Power triangle of the three-phase system (IEEE Std 1459-2010): the positive-sequence \
+             active power P+ along the axis, Q+ up when inductive and down when capacitive, S+ \
+             the hypotenuse, to scale.",
+        )
+    } else {
+        String::from(
+            "Power triangle (IEEE Std 1459-2010): P1 along the axis, Q1 up when inductive and \
+             down when capacitive, S1 the hypotenuse, to scale.",
+        )
+    };
+    if show_sn(&t) {
+        s.push_str(if a.three_phase.is_some() {
+            " The unbalance power SU1 and the non-fundamental effective apparent power SeN \
+             together, √(SU1² + SeN²), are perpendicular to that plane (Se² = S+² + SU1² + \
+             SeN²) and drawn at an angle; their lengths are in the legend."
+        } else {
             " SN, the non-fundamental apparent power, is perpendicular to that plane \
-             (S² = S1² + SN²) and drawn at an angle; its length is in the legend.",
-        );
-    } else if p.apparent_va > 0.0 {
-        s.push_str(" SN is below 1 % of S and is not drawn.");
+             (S² = S1² + SN²) and drawn at an angle; its length is in the legend."
+        });
+    } else if t.s > 0.0 {
+        s.push_str(if a.three_phase.is_some() {
+            " √(SU1² + SeN²) is below 1 % of Se and is not drawn."
+        } else {
+            " SN is below 1 % of S and is not drawn."
+        });
     }
     s
 }
 
-fn show_sn(a: &Analysis) -> bool {
-    let p = &a.quantities.power;
-    p.nonfundamental_apparent_va.is_finite()
-        && p.nonfundamental_apparent_va >= SN_SHOWN_SHARE * p.apparent_va
+fn show_sn(t: &Sides) -> bool {
+    t.rest.is_finite() && t.rest >= SN_SHOWN_SHARE * t.s
 }
 
 /// Draws the power triangle.
 pub fn plot(a: &Analysis) -> Result<String, PlotError> {
-    let q = &a.quantities;
-    let pw = &q.power;
-    let (p1, q1, sn) = (
-        pw.fundamental_active_w,
-        pw.reactive_var,
-        pw.nonfundamental_apparent_va,
-    );
-    if ![p1, q1, pw.apparent_va].iter().all(|x| x.is_finite()) || pw.apparent_va <= 0.0 {
+    let t = sides(a);
+    let (p1, q1, sn) = (t.p1, t.q1, t.rest);
+    let [p_name, q_name, s_name] = t.names;
+    if ![p1, q1, t.s].iter().all(|x| x.is_finite()) || t.s <= 0.0 {
         return Err(PlotError("no power to draw".into()));
     }
-    let (div, prefix) = si_prefix(pw.apparent_va);
+    let (div, prefix) = si_prefix(t.s);
     let (p1d, q1d) = (p1 / div, q1 / div);
-    let sn_on = show_sn(a);
+    let sn_on = show_sn(&t);
     let dir_x = if p1 < 0.0 { -1.0 } else { 1.0 };
     // SN leaves the tip of S1 away from the P axis, clear of the Q1 label
     let dir_y = if q1 >= 0.0 { 1.0 } else { -1.0 };
@@ -88,21 +179,9 @@ pub fn plot(a: &Analysis) -> Result<String, PlotError> {
     svg_document(SIZE, |root| {
         let (head, body) = root.split_vertically(if sn_on { 84 } else { 64 });
         let unit = |x: f64, u: &str| format!("{} {prefix}{u}", num(x / div, 4));
+        head.draw(&Text::new(t.title, (12, 8), font(TITLE_PX, palette::INK)))?;
         head.draw(&Text::new(
-            "Power triangle",
-            (12, 8),
-            font(TITLE_PX, palette::INK),
-        ))?;
-        let pf = |x: Option<f64>| x.map(|v| num(v, 3)).unwrap_or("n/a".into());
-        head.draw(&Text::new(
-            format!(
-                "true PF {} · displacement PF {}{}",
-                pf(q.true_pf),
-                pf(q.displacement_pf),
-                q.character
-                    .map(|c| format!(" · {}", c.as_str()))
-                    .unwrap_or_default()
-            ),
+            t.figures.clone(),
             (12, 38),
             font(TEXT_PX, palette::MUTED),
         ))?;
@@ -113,11 +192,19 @@ pub fn plot(a: &Analysis) -> Result<String, PlotError> {
                 &[
                     (
                         Swatch::Line(palette::ACCENT),
-                        format!("SN = {}", unit(sn, "VA")),
+                        t.rest_parts
+                            .iter()
+                            .map(|(name, x)| format!("{name} = {}", unit(*x, "VA")))
+                            .collect::<Vec<_>>()
+                            .join(" · "),
                     ),
                     (
                         Swatch::Dashed(palette::MUTED),
-                        format!("S = {}", unit(pw.apparent_va, "VA")),
+                        format!(
+                            "{} = {}",
+                            if a.three_phase.is_some() { "Se" } else { "S" },
+                            unit(t.s, "VA")
+                        ),
                     ),
                 ],
             )?;
@@ -171,10 +258,10 @@ pub fn plot(a: &Analysis) -> Result<String, PlotError> {
             line((p1d, 0.0), (p1d, q1d), palette::CURRENT, 3),
             line((0.0, 0.0), (p1d, q1d), palette::INK, 3),
         ])?;
-        let p_text = if (pw.active_w - p1).abs() > 0.01 * pw.apparent_va {
-            format!("P1 = {} (P = {})", unit(p1, "W"), unit(pw.active_w, "W"))
+        let p_text = if (t.p - p1).abs() > 0.01 * t.s {
+            format!("{p_name} = {} (P = {})", unit(p1, "W"), unit(t.p, "W"))
         } else {
-            format!("P1 = {}", unit(p1, "W"))
+            format!("{p_name} = {}", unit(p1, "W"))
         };
         // P1 on the far side of the axis from Q1
         let below = if q1 >= 0.0 { -off } else { off };
@@ -189,7 +276,7 @@ pub fn plot(a: &Analysis) -> Result<String, PlotError> {
             ),
         )))?;
         chart.draw_series(std::iter::once(Text::new(
-            format!("Q1 = {}", unit(q1, "var")),
+            format!("{q_name} = {}", unit(q1, "var")),
             (p1d + dir_x * off, q1d / 2.0),
             font_at(
                 TEXT_PX,
@@ -219,7 +306,7 @@ pub fn plot(a: &Analysis) -> Result<String, PlotError> {
             )
         };
         chart.draw_series(std::iter::once(Text::new(
-            format!("S1 = {}", unit(pw.fundamental_apparent_va, "VA")),
+            format!("{s_name} = {}", unit(t.s1, "VA")),
             at,
             font_at(TEXT_PX, palette::INK, h_pos, v_pos),
         )))?;
