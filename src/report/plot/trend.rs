@@ -386,6 +386,9 @@ pub fn plot(s: &TrendSeries) -> Result<String, PlotError> {
             let (mut lo, mut hi) = range(series, floor);
             lo /= div;
             hi /= div;
+            // the range out to whole tick steps, so both ends carry a labelled tick
+            let ystep = nice_step(hi - lo, 4.0);
+            let (mut lo, mut hi) = ((lo / ystep).floor() * ystep, (hi / ystep).ceil() * ystep);
             if k == 0 {
                 lo = lo.max(-1.0);
                 hi = hi.min(1.0);
@@ -393,12 +396,11 @@ pub fn plot(s: &TrendSeries) -> Result<String, PlotError> {
             let mut chart = ChartBuilder::on(area)
                 .margin_left(8)
                 .margin_right(24)
-                .margin_top(6)
-                .margin_bottom(if last { 8 } else { 2 })
+                .margin_top(10)
+                .margin_bottom(if last { 8 } else { 6 })
                 .x_label_area_size(if last { 44 } else { 0 })
                 .y_label_area_size(72)
                 .build_cartesian_2d(x0..x1, lo..hi)?;
-            let ystep = nice_step(hi - lo, 4.0);
             chart
                 .configure_mesh()
                 .x_desc(format!("time from the record's first sample ({unit})"))
