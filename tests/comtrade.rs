@@ -334,13 +334,17 @@ fn a_phase_set_is_read_as_three_phases_and_a_single_choice_is_kept() {
 }
 
 #[test]
-fn a_single_file_record_is_refused_as_not_supported_yet() {
+fn a_single_file_record_with_a_section_of_no_known_type_is_refused_at_its_line() {
+    // read as the 2013 single-file form (tests/comtrade_cff.rs): `CONFIG` is not a section type
     let dir = TempDir::new().unwrap();
     let cff = dir.path().join("r.cff");
     std::fs::write(&cff, "--- file type: CONFIG ---\nstation,dev,2013\n").unwrap();
     let (code, _, err) = analyze(&[cff.to_str().unwrap()]);
     assert_eq!(code, Some(2));
-    assert!(err.contains("(.cff), not supported yet"), "{err}");
+    assert!(
+        err.contains("r.cff: line 1: section type 'CONFIG'"),
+        "{err}"
+    );
 }
 
 proptest! {

@@ -8,7 +8,7 @@
 
 mod common;
 
-use common::comtrade::{Chan, Fmt, write_record, write_record_rates};
+use common::comtrade::{CffLayout, Chan, Fmt, write_cff, write_record, write_record_rates};
 use proptest::prelude::*;
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::f64::consts::PI;
@@ -351,6 +351,79 @@ proptest! {
         };
         let peak = load_peak(&cfg, &opts);
         prop_assert!(peak <= allowed(len), "{peak} bytes held at once for {len} bytes of record");
+    }
+}
+
+proptest! {
+    #![proptest_config(config(150))]
+
+    /// COMTRADE single files (`.cff`): a record of one rate or two in any data format, its
+    /// section lines, byte count, CFG lines and data edited (half the edits in the first 700
+    /// bytes, where the text sections are).
+    #[test]
+    fn mutated_single_file_records_load_or_fail_within_their_size(
+        edits in proptest::collection::vec(edit(), 1..5),
+        fmt in prop_oneof![Just(Fmt::Ascii), Just(Fmt::Binary), Just(Fmt::Binary32), Just(Fmt::Float32)],
+        two_rates in any::<bool>(),
+        crlf in any::<bool>(),
+    ) {
+        let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
+        let dir = TempDir::new().unwrap();
+        let rates: &[(f64, usize)] = if two_rates {
+            &[(5000.0, 250), (1000.0, 400)]
+        } else {
+            &[(5000.0, 400)]
+        };
+        let times = ("02/12/2026,08:00:00.000000", "02/12/2026,08:00:00.100000");
+        let cfg = write_record_rates(dir.path(), "p", &comtrade_channels(), rates, fmt, times);
+        let cff = write_cff(&cfg, fmt, "m", CffLayout { crlf, inf_hdr: true });
+        std::fs::write(&cff, apply(std::fs::read(&cff).unwrap(), &edits, 700)).unwrap();
+        let opts = LoadOptions {
+            voltage: Some(ChannelSel::parse("VAN")),
+            current: Some(ChannelSel::parse("IA")),
+            ..Default::default()
+        };
+        check(&cff, &opts)?;
+    }
+}
+
+/// A single file whose binary data section claims far more bytes than the file holds is
+/// refused at its section line within the bound (nothing that size is reserved).
+#[test]
+fn a_single_file_claiming_more_data_than_it_holds_is_refused_before_allocation() {
+    let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
+    let dir = TempDir::new().unwrap();
+    let cfg = write_record(dir.path(), "p", &comtrade_channels(), 5000.0, Fmt::Binary);
+    let layout = CffLayout {
+        crlf: true,
+        inf_hdr: false,
+    };
+    let cff = write_cff(&cfg, Fmt::Binary, "m", layout);
+    let b = std::fs::read(&cff).unwrap();
+    let opts = LoadOptions {
+        voltage: Some(ChannelSel::parse("VAN")),
+        current: Some(ChannelSel::parse("IA")),
+        ..Default::default()
+    };
+    assert!(load(&cff, &opts).is_ok());
+    let real = format!("DAT BINARY: {} ---", 400 * 12);
+    for lie in ["4294967295", "2147483648", "18446744073709551615"] {
+        // only the section line differs; the data bytes are kept as they were
+        let at = b
+            .windows(real.len())
+            .position(|w| w == real.as_bytes())
+            .unwrap();
+        let mut lied = b[..at].to_vec();
+        lied.extend(format!("DAT BINARY: {lie} ---").bytes());
+        lied.extend(&b[at + real.len()..]);
+        std::fs::write(&cff, &lied).unwrap();
+        let peak = load_peak(&cff, &opts);
+        assert!(peak <= allowed(lied.len() as u64), "{lie}: {peak} bytes");
+        let e = load(&cff, &opts).unwrap_err().to_string();
+        assert!(
+            e.contains("line 13") && e.contains(&format!("claims {lie} bytes")),
+            "{e}"
+        );
     }
 }
 

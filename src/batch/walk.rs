@@ -4,8 +4,9 @@
 use std::path::{Path, PathBuf};
 
 /// Extensions taken as captures (the content still decides the format). A COMTRADE record is
-/// its `.cfg`; the `.dat` beside it is read through the `.cfg`, never as a capture of its own.
-pub const CAPTURE_EXTENSIONS: [&str; 5] = ["csv", "tsv", "txt", "wav", "cfg"];
+/// its `.cfg` (the `.dat` beside it is read through the `.cfg`, never as a capture of its own)
+/// or its single-file `.cff`.
+pub const CAPTURE_EXTENSIONS: [&str; 6] = ["csv", "tsv", "txt", "wav", "cfg", "cff"];
 
 /// A capture to analyse and the folder its settings are looked up from.
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord)]

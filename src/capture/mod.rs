@@ -510,13 +510,7 @@ fn load_whole(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError> {
     let head = &head[..got];
     if got >= 12 && (&head[..4] == b"RIFF" || &head[..4] == b"RF64") && &head[8..12] == b"WAVE" {
         wav::load(path, opts)
-    } else if head.len() >= 14 && head[..14].eq_ignore_ascii_case(b"--- file type:") {
-        Err(err(LoadErrorKind::NotACapture(
-            "a COMTRADE single-file record (.cff), not supported yet: export the .cfg and .dat \
-             pair"
-                .into(),
-        )))
-    } else if comtrade::looks_like_cfg(head) {
+    } else if comtrade::looks_like_cff(head) || comtrade::looks_like_cfg(head) {
         comtrade::load(path, opts)
     } else if head.starts_with(b"RIFF") {
         Err(err(LoadErrorKind::NotACapture(

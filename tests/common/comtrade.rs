@@ -146,3 +146,50 @@ pub fn write_record_rates(
     std::fs::write(dir.join(format!("{name}.dat")), dat).unwrap();
     cfg_path
 }
+
+/// How [`write_cff`] lays a single-file record out.
+#[derive(Clone, Copy, PartialEq, Debug)]
+pub struct CffLayout {
+    /// Lines end in CR LF (as the standard writes them) rather than LF.
+    pub crlf: bool,
+    /// INF and HDR sections between the CFG and DAT sections.
+    pub inf_hdr: bool,
+}
+
+/// Writes `name.cff` (IEEE C37.111-2013 single-file form, from memory) from the `.cfg` and
+/// `.dat` pair at `cfg` in `fmt`: the CFG section holds the `.cfg`'s lines, the DAT section the
+/// `.dat`'s bytes as they are, after `--- file type: DAT ASCII ---` or
+/// `--- file type: DAT BINARY: <bytes> ---`. Returns its path.
+pub fn write_cff(cfg: &Path, fmt: Fmt, name: &str, layout: CffLayout) -> PathBuf {
+    let eol = if layout.crlf { "\r\n" } else { "\n" };
+    let text = std::fs::read_to_string(cfg).unwrap();
+    let dat = std::fs::read(cfg.with_extension("dat")).unwrap();
+    let mut out = format!("--- file type: CFG ---{eol}");
+    for line in text.lines() {
+        out.push_str(line);
+        out.push_str(eol);
+    }
+    if layout.inf_hdr {
+        out.push_str(&format!(
+            "--- file type: INF ---{eol}[Public Record_Information]{eol}Source=bench{eol}\
+             --- file type: HDR ---{eol}Bench recorder, unit 1: a test record{eol}"
+        ));
+    }
+    let mut bytes = match fmt {
+        Fmt::Ascii => format!("--- file type: DAT ASCII ---{eol}").into_bytes(),
+        _ => format!("--- file type: DAT BINARY: {} ---{eol}", dat.len()).into_bytes(),
+    };
+    let mut all = out.into_bytes();
+    all.append(&mut bytes);
+    if fmt == Fmt::Ascii && layout.crlf {
+        for line in String::from_utf8(dat).unwrap().lines() {
+            all.extend(line.bytes());
+            all.extend(eol.bytes());
+        }
+    } else {
+        all.extend(dat);
+    }
+    let path = cfg.with_file_name(format!("{name}.cff"));
+    std::fs::write(&path, all).unwrap();
+    path
+}
