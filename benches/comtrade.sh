@@ -4,7 +4,9 @@
 # timed from process start to exit (goal: under 0.5 s), with its peak memory.
 #
 # Usage: benches/comtrade.sh [RUNS]          (run by hand from any directory; not run by CI)
-# Needs: cargo, python3. Environment: SAMPLES (default 1000000), RATE_HZ (default 10000).
+# Needs: cargo, python3. Environment: SAMPLES (default 1000000), RATE_HZ (default 10000),
+# FORM=cff to time the same record as a 2013 single file (.cff: the .cfg and the .dat's bytes
+# as its CFG and DAT BINARY sections).
 set -euo pipefail
 
 cd "$(dirname "$0")/.."
@@ -25,6 +27,19 @@ if [ ! -s "${FILE%.cfg}.dat" ]; then
 fi
 BYTES=$(($(stat -c %s "$FILE") + $(stat -c %s "${FILE%.cfg}.dat")))
 echo "record: $FILE + .dat, $BYTES bytes, $SAMPLES samples"
+if [ "${FORM:-pair}" = cff ]; then
+    CFF=${FILE%.cfg}.cff
+    DAT=${FILE%.cfg}.dat
+    {
+        printf -- '--- file type: CFG ---\r\n'
+        cat "$FILE"
+        printf -- '--- file type: DAT BINARY: %d ---\r\n' "$(stat -c %s "$DAT")"
+        cat "$DAT"
+    } > "$CFF"
+    FILE=$CFF
+    BYTES=$(stat -c %s "$FILE")
+    echo "as a single file: $FILE, $BYTES bytes"
+fi
 
 echo
 echo "== tracephase analyze ($RUNS runs after one warm-up)"
