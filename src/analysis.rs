@@ -17,6 +17,7 @@ use crate::quantity::three_phase::{PhaseFigures, ThreePhase, ThreePhaseInput, Wi
 use crate::quantity::uncertainty::{self, Uncertainty, UncertaintyInputs};
 use crate::quantity::{self, Quantities, QuantitySettings};
 use crate::warning::{Severity, Status, Trace, Warning};
+use rayon::prelude::*;
 use rustfft::num_complex::Complex64;
 use std::path::PathBuf;
 
@@ -330,11 +331,8 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         .map_err(fail)?;
         first_hz = Some(e.frequency_hz);
     }
-    for (k, ps) in samples.iter().enumerate() {
-        let known = estimates
-            .first()
-            .map(|(e, _): &(Estimate, Quantities)| e.frequency_hz)
-            .or(first_hz);
+    let phase_estimate = |k: usize, known: Option<f64>| {
+        let ps = &samples[k];
         let est = estimate::estimate_at(&ps.voltage, &ps.current, rate, settings.harmonics, known)
             .map_err(fail)?;
         let q = quantity::quantities(
@@ -347,7 +345,19 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
                 harmonics: settings.harmonics,
             },
         );
-        estimates.push((est, q));
+        Ok::<_, AnalysisError>((est, q))
+    };
+    // the first phase (or the two voltages) gives the frequency; the other phases are fitted at
+    // it side by side (two cores when free), results in phase order
+    let first = phase_estimate(0, first_hz)?;
+    let known = Some(first.0.frequency_hz);
+    estimates.push(first);
+    let rest: Vec<Result<(Estimate, Quantities), AnalysisError>> = (1..samples.len())
+        .into_par_iter()
+        .map(|k| phase_estimate(k, known))
+        .collect();
+    for r in rest {
+        estimates.push(r?);
     }
     // clipping and resolution: once per trace as loaded
     let traces: Vec<(&crate::capture::Trace, Trace)> = capture
@@ -510,8 +520,11 @@ fn record_events(
     };
     let mut out = Vec::new();
     let mut references = Vec::new();
-    for ps in samples {
-        let found = events::detect_against(&ps.voltage, &ps.current, rate, frequency_hz, per_phase);
+    let found_by_phase: Vec<_> = samples
+        .par_iter()
+        .map(|ps| events::detect_against(&ps.voltage, &ps.current, rate, frequency_hz, per_phase))
+        .collect();
+    for (ps, found) in samples.iter().zip(found_by_phase) {
         let letter = many.then(|| phase_letter(ps.phase));
         for mut e in found.events {
             e.time_s += offset_s;
