@@ -228,7 +228,10 @@ fn next_line_start(
 fn carve<'a>(mut col: &'a mut [f64], sizes: &[usize]) -> Vec<&'a mut [f64]> {
     let mut out = Vec::with_capacity(sizes.len());
     for &n in sizes {
-        let (a, b) = std::mem::take(&mut col).split_at_mut(n.min(col.len()));
+        // the length before the slice is taken out of `col` (taken first, `col.len()` was 0:
+        // every share came out empty and every row went through the spill buffers)
+        let n = n.min(col.len());
+        let (a, b) = std::mem::take(&mut col).split_at_mut(n);
         out.push(a);
         col = b;
     }
@@ -393,4 +396,19 @@ fn cell(rest: &[u8], delimiter: u8, decimal_comma: bool) -> Option<(f64, usize)>
     }
     let end = memchr(delimiter, rest).unwrap_or(rest.len());
     parse_f64(&rest[..end], decimal_comma).map(|x| (x, end))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Each part gets its share of the column, in order: once every share came out empty.
+    #[test]
+    fn carve_gives_each_part_its_share() {
+        let mut col: Vec<f64> = (0..10).map(f64::from).collect();
+        let shares = carve(&mut col, &[4, 3, 5]);
+        let lens: Vec<usize> = shares.iter().map(|s| s.len()).collect();
+        assert_eq!(lens, [4, 3, 3], "the last share is what is left");
+        assert_eq!((shares[1][0], shares[2][0]), (4.0, 7.0));
+    }
 }
