@@ -115,7 +115,7 @@ def verdict(ok):
     return "ok" if ok else "NOT MET"
 print(f"tracephase: median {med*1e3:.0f} ms (best {best*1e3:.0f} ms) = {mbs:.0f} MB/s "
       f"(best {size/best/1e6:.0f} MB/s); peak RSS {rss_kb} KB = {rss/1e6:.1f} MB")
-print(f"  goal >= 200 MB/s ........... {verdict(mbs >= 200)}")
+print(f"  goal >= 400 MB/s ........... {verdict(mbs >= 400)}")
 print(f"  stretch >= 500 MB/s ........ {verdict(mbs >= 500)}")
 print(f"  peak RSS <= {limit/1e6:.0f} MB ....... {verdict(rss <= limit)} ({rss/limit:.2f} of the limit)")
 if pandas:
