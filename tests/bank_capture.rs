@@ -1,5 +1,7 @@
 //! `bank --capture`: one synthetic capture across a bank's switching, with a known inrush ring.
 
+mod common;
+
 use assert_cmd::Command;
 use rustfft::num_complex::Complex64;
 use serde::Deserialize;
@@ -17,11 +19,7 @@ const SWITCH_S: f64 = 1.5137;
 const RING_HZ: f64 = 400.0;
 
 fn phasor(w: &Waveform) -> Complex64 {
-    w.tones
-        .iter()
-        .filter(|t| t.order == 1)
-        .map(|t| Complex64::from_polar(t.rms, t.phase_deg.to_radians()))
-        .sum()
+    common::fundamental_phasor(w)
 }
 
 /// A 230 V feeder drawing 20 A at PF 0.8 lagging; a 2 kvar bank switched in at [`SWITCH_S`]

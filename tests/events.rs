@@ -1,12 +1,14 @@
 //! Events in `analyze`: a switching located in time with the values either side, dips and
 //! swells by the one-cycle RMS, the warning a record with a step gets, and the batch columns.
 
+mod common;
+
 use assert_cmd::Command;
 use rustfft::num_complex::Complex64;
 use serde::Deserialize;
 use std::path::{Path, PathBuf};
 use tempfile::TempDir;
-use tracephase::capture::{Capture, SourceFormat, System, Trace};
+use tracephase::capture::Capture;
 use tracephase::quantity::events::{EventKind, EventQuantity, ReferenceSource};
 use tracephase::synth::{Spec, Waveform, synthesize, synthesize_switched};
 use tracephase::{Settings, analyze};
@@ -20,30 +22,11 @@ const SAMPLE_LIMIT_S: f64 = 3.0 / RATE;
 const Q1_LIMIT: f64 = 0.003;
 
 fn capture(v: Vec<f64>, i: Vec<f64>) -> Capture {
-    Capture {
-        path: "synthetic".into(),
-        format: SourceFormat::Csv {
-            delimiter: b',',
-            decimal_comma: false,
-        },
-        sample_rate_hz: RATE,
-        system: System::Single,
-        voltages: vec![Trace::plain("v", 2, v)],
-        currents: vec![Trace::plain("i", 3, i)],
-        neutral: None,
-        time: None,
-        warnings: Vec::new(),
-        span: None,
-        times: None,
-    }
+    common::single_phase_capture(v, i, RATE)
 }
 
 fn phasor(w: &Waveform) -> Complex64 {
-    w.tones
-        .iter()
-        .filter(|t| t.order == 1)
-        .map(|t| Complex64::from_polar(t.rms, t.phase_deg.to_radians()))
-        .sum()
+    common::fundamental_phasor(w)
 }
 
 /// Q1 = V1·I1·sin θ1 (IEEE Std 1459-2010, references §1).

@@ -1,13 +1,15 @@
 //! `trend`: windows of a capture with known truth, the aggregation's worked example, and the
 //! command line's output parsed into the test's own structs.
 
+mod common;
+
 use assert_cmd::Command;
 use rustfft::num_complex::Complex64;
 use serde::Deserialize;
 use std::path::{Path, PathBuf};
 use tempfile::TempDir;
 use tracephase::Settings;
-use tracephase::capture::{Capture, SourceFormat, System, Trace};
+use tracephase::capture::{Capture, System, Trace};
 use tracephase::synth::{Spec, Waveform, synthesize, synthesize_switched};
 use tracephase::trend::{TrendSettings, WindowFigures, trend};
 
@@ -18,31 +20,11 @@ const Q1_LIMIT: f64 = 0.003;
 const ANGLE_LIMIT_DEG: f64 = 0.05;
 
 fn capture(v: Vec<f64>, i: Vec<f64>) -> Capture {
-    Capture {
-        path: "synthetic".into(),
-        format: SourceFormat::Csv {
-            delimiter: b',',
-            decimal_comma: false,
-        },
-        sample_rate_hz: RATE,
-        system: System::Single,
-        voltages: vec![Trace::plain("v", 2, v)],
-        currents: vec![Trace::plain("i", 3, i)],
-        neutral: None,
-        time: None,
-        warnings: Vec::new(),
-        span: None,
-        times: None,
-    }
+    common::single_phase_capture(v, i, RATE)
 }
 
-/// The fundamental phasor (RMS) of a waveform.
 fn phasor(w: &Waveform) -> Complex64 {
-    w.tones
-        .iter()
-        .filter(|t| t.order == 1)
-        .map(|t| Complex64::from_polar(t.rms, t.phase_deg.to_radians()))
-        .sum()
+    common::fundamental_phasor(w)
 }
 
 /// Q1 = V1·I1·sin θ1 and θ1 = ∠V1 − ∠I1 (IEEE Std 1459-2010, references §1).

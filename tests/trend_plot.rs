@@ -2,11 +2,13 @@
 //! rows, its event lines at the events `analyze` reports, absent for a short capture, and
 //! written by `report`, `analyze --plot-dir` and `batch --report`.
 
+mod common;
+
 use assert_cmd::Command;
 use rustfft::num_complex::Complex64;
 use std::path::{Path, PathBuf};
 use tempfile::TempDir;
-use tracephase::capture::{Capture, SourceFormat, System, Trace};
+use tracephase::capture::{Capture, System, Trace};
 use tracephase::quantity::events::EventKind;
 use tracephase::report::plot::trend::{self as trend_plot, MIN_WINDOWS};
 use tracephase::synth::{Spec, Waveform, synthesize, synthesize_switched};
@@ -21,30 +23,11 @@ const Q1_LIMIT: f64 = 0.003;
 const STEP_S: f64 = 1.5137;
 
 fn capture(v: Vec<f64>, i: Vec<f64>) -> Capture {
-    Capture {
-        path: "synthetic".into(),
-        format: SourceFormat::Csv {
-            delimiter: b',',
-            decimal_comma: false,
-        },
-        sample_rate_hz: RATE,
-        system: System::Single,
-        voltages: vec![Trace::plain("v", 2, v)],
-        currents: vec![Trace::plain("i", 3, i)],
-        neutral: None,
-        time: None,
-        warnings: Vec::new(),
-        span: None,
-        times: None,
-    }
+    common::single_phase_capture(v, i, RATE)
 }
 
 fn phasor(w: &Waveform) -> Complex64 {
-    w.tones
-        .iter()
-        .filter(|t| t.order == 1)
-        .map(|t| Complex64::from_polar(t.rms, t.phase_deg.to_radians()))
-        .sum()
+    common::fundamental_phasor(w)
 }
 
 /// A 230 V load of 20 A at PF 0.8 lagging with a 10 % 5th harmonic and a 2 kvar bank switched

@@ -69,3 +69,40 @@ pub fn crossing_angle_deg(
 ) -> Option<f64> {
     Some(wrap(crossing_phase(i)? - crossing_phase(v)?).to_degrees())
 }
+
+/// A single-phase capture of the voltage `v` and current `i` sampled at `rate_hz`, as a CSV
+/// loader would give it (channels 2 and 3, no time column), for tests that build their
+/// samples in memory.
+pub fn single_phase_capture(
+    v: Vec<f64>,
+    i: Vec<f64>,
+    rate_hz: f64,
+) -> tracephase::capture::Capture {
+    use tracephase::capture::{Capture, SourceFormat, System, Trace};
+    Capture {
+        path: "synthetic".into(),
+        format: SourceFormat::Csv {
+            delimiter: b',',
+            decimal_comma: false,
+        },
+        sample_rate_hz: rate_hz,
+        system: System::Single,
+        voltages: vec![Trace::plain("v", 2, v)],
+        currents: vec![Trace::plain("i", 3, i)],
+        neutral: None,
+        time: None,
+        warnings: Vec::new(),
+        span: None,
+        times: None,
+    }
+}
+
+/// The fundamental phasor (RMS, angle in radians) of a synthesized waveform: its order-1 tones
+/// summed.
+pub fn fundamental_phasor(w: &tracephase::synth::Waveform) -> rustfft::num_complex::Complex64 {
+    w.tones
+        .iter()
+        .filter(|t| t.order == 1)
+        .map(|t| rustfft::num_complex::Complex64::from_polar(t.rms, t.phase_deg.to_radians()))
+        .sum()
+}
