@@ -504,7 +504,11 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
 /// swells against `declared_v` or each phase's median), `offset_s` added so their times count
 /// from the record's first sample, each tagged with its phase on a three-phase capture; and
 /// each phase's reference. A 3-wire capture's declared voltage is line to line: its phases,
-/// referred to the artificial star point, are held against Udin/√3.
+/// referred to the artificial star point, are held against Udin/√3. A three-phase capture
+/// also gets its polyphase dips and swells ([`events::polyphase`]): over the phase-to-neutral
+/// voltages of a 4-wire capture, and over the line-to-line voltages of a 3-wire capture (as
+/// IEC 61000-4-30 measures a 3-wire system, from memory) against the declared line-to-line
+/// voltage itself. A single-phase capture has none: its one channel's dips are the same events.
 fn record_events(
     samples: &[condition::PhaseSamples<'_>],
     rate: f64,
@@ -520,10 +524,17 @@ fn record_events(
     };
     let mut out = Vec::new();
     let mut references = Vec::new();
-    let found_by_phase: Vec<_> = samples
-        .par_iter()
-        .map(|ps| events::detect_against(&ps.voltage, &ps.current, rate, frequency_hz, per_phase))
-        .collect();
+    let (found_by_phase, polyphase): (Vec<_>, _) = rayon::join(
+        || {
+            samples
+                .par_iter()
+                .map(|ps| {
+                    events::detect_against(&ps.voltage, &ps.current, rate, frequency_hz, per_phase)
+                })
+                .collect()
+        },
+        || polyphase_events(samples, rate, frequency_hz, system, declared_v),
+    );
     for (ps, found) in samples.iter().zip(found_by_phase) {
         let letter = many.then(|| phase_letter(ps.phase));
         for mut e in found.events {
@@ -537,8 +548,43 @@ fn record_events(
             references.push(r);
         }
     }
+    for mut e in polyphase {
+        e.time_s += offset_s;
+        out.push(e);
+    }
+    // stable: at one instant the phases' own events come before the polyphase one
     out.sort_by(|a, b| a.time_s.total_cmp(&b.time_s));
     (out, references)
+}
+
+/// The polyphase dips and swells of a three-phase capture (none for any other): the voltages
+/// to neutral of a 4-wire capture against `declared_v`; a 3-wire capture's line-to-line
+/// voltages (each the difference of two star-point voltages) against `declared_v`, which is
+/// line to line.
+fn polyphase_events(
+    samples: &[condition::PhaseSamples<'_>],
+    rate: f64,
+    frequency_hz: f64,
+    system: System,
+    declared_v: Option<f64>,
+) -> Vec<Event> {
+    use events::Voltage;
+    if !system.is_three_phase() || samples.len() != 3 {
+        return Vec::new();
+    }
+    let v = |k: usize| -> &[f64] { &samples[k].voltage };
+    let channels: Vec<(&'static str, Voltage<'_>)> = match system {
+        System::ThreeWire => vec![
+            ("ab", Voltage::Difference(v(0), v(1))),
+            ("bc", Voltage::Difference(v(1), v(2))),
+            ("ca", Voltage::Difference(v(2), v(0))),
+        ],
+        _ => samples
+            .iter()
+            .map(|ps| (phase_letter(ps.phase), Voltage::Samples(&ps.voltage)))
+            .collect(),
+    };
+    events::polyphase(&channels, rate, frequency_hz, declared_v)
 }
 
 /// The events of a capture and each phase's dip and swell reference, as [`analyze`] finds them,
@@ -796,7 +842,7 @@ impl Analysis {
             events: self
                 .events
                 .iter()
-                .filter(|e| e.phase.is_none_or(|p| p == letter))
+                .filter(|e| !e.kind.is_polyphase() && e.phase.is_none_or(|p| p == letter))
                 .map(|e| Event { phase: None, ..*e })
                 .collect(),
             dip_references: self

@@ -192,7 +192,7 @@ fn colour_marks_verdicts_only_when_asked_or_on_a_terminal() {
     assert!(!output_with(&json, &[]).contains('\u{1b}'));
 }
 
-/// Every JSON object starts with its layout's version, `"schema":1` (the README's history).
+/// Every JSON object starts with its layout's version, `"schema":2` (the README's history).
 #[test]
 fn every_json_object_starts_with_the_schema_version() {
     let dir = TempDir::new().unwrap();
@@ -254,7 +254,7 @@ fn every_json_object_starts_with_the_schema_version() {
     for text in outputs {
         assert!(!text.is_empty());
         for line in text.lines() {
-            assert!(line.starts_with("{\"schema\":1,"), "{line:.80}");
+            assert!(line.starts_with("{\"schema\":2,"), "{line:.80}");
         }
     }
 }

@@ -448,5 +448,5 @@ fn a_trend_record_starts_with_the_schema_version() {
         .arg(&path)
         .output()
         .unwrap();
-    assert!(String::from_utf8_lossy(&out.stdout).starts_with("{\"schema\":1,"));
+    assert!(String::from_utf8_lossy(&out.stdout).starts_with("{\"schema\":2,"));
 }

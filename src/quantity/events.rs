@@ -28,6 +28,15 @@
 //!   the standard measures them), else the record's median Urms(1/2) (our choice: the
 //!   standard's sliding reference needs minutes of history); [`Detection::reference`] says
 //!   which. `before` and `after` are the medians of the [`STEP_CYCLES`] cycles either side.
+//! - **Polyphase dips and swells** ([`polyphase`], in `voltage.rs` with the one-phase rule it
+//!   generalises): a three-phase capture's voltages taken together, from the first channel
+//!   below the threshold to every channel back beyond the hysteresis (IEC 61000-4-30, from
+//!   memory), on the phase-to-neutral voltages of a 4-wire capture and the line-to-line ones of
+//!   a 3-wire capture.
+
+mod voltage;
+
+pub use voltage::{Channels, Voltage, polyphase};
 
 use crate::estimate;
 use rustfft::num_complex::Complex64;
@@ -61,6 +70,37 @@ pub enum EventKind {
     Dip,
     /// The one-cycle RMS voltage rose above 110 % of the reference.
     Swell,
+    /// A three-phase capture's dip taken over all its voltages together (IEC 61000-4-30's
+    /// polyphase dip): from the first channel below 90 % to every channel back at 92 %; its
+    /// `phases` say which channels took part. Each phase's own dips are listed as well.
+    #[serde(rename = "polyphase_dip")]
+    PolyphaseDip,
+    /// A three-phase capture's swell over all its voltages together, likewise.
+    #[serde(rename = "polyphase_swell")]
+    PolyphaseSwell,
+}
+
+impl EventKind {
+    /// `switching`, `dip`, `swell`, `polyphase dip`, `polyphase swell`.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            EventKind::Switching => "switching",
+            EventKind::Dip => "dip",
+            EventKind::Swell => "swell",
+            EventKind::PolyphaseDip => "polyphase dip",
+            EventKind::PolyphaseSwell => "polyphase swell",
+        }
+    }
+
+    /// A dip, a phase's own or polyphase.
+    pub fn is_dip(self) -> bool {
+        matches!(self, EventKind::Dip | EventKind::PolyphaseDip)
+    }
+
+    /// Taken over all the voltages of a three-phase capture together.
+    pub fn is_polyphase(self) -> bool {
+        matches!(self, EventKind::PolyphaseDip | EventKind::PolyphaseSwell)
+    }
 }
 
 /// The quantity an event is seen in.
@@ -144,6 +184,10 @@ pub struct Event {
     /// The phase it was seen on (`a`, `b`, `c`; `None` for a single-phase capture).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub phase: Option<&'static str>,
+    /// The channels a polyphase dip or swell took part on (`["a", "c"]`; a 3-wire capture's
+    /// lines, `["ab", "bc"]`); `None` for every other event.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub phases: Option<Channels>,
     /// A dip's or swell's reference voltage, V (declared or the record's median).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub reference_v: Option<f64>,
@@ -445,11 +489,12 @@ pub fn detect_against(v: &[f64], i: &[f64], fs: f64, f: f64, declared_v: Option<
                 after,
                 extreme: None,
                 phase: None,
+                phases: None,
                 reference_v: None,
             }
         })
         .collect();
-    let (voltage_events, reference_v) = dips_and_swells(v, fs, f, declared_v);
+    let (voltage_events, reference_v) = voltage::dips_and_swells(v, fs, f, declared_v);
     // a change of Q1 or I1 within a few cycles of a dip or swell is the voltage's doing, not a
     // switching (a load that keeps its current through a dip would otherwise read as one)
     let margin = STEP_CYCLES as f64 / f;
@@ -478,89 +523,6 @@ fn reference(source: ReferenceSource, voltage_v: f64) -> DipReference {
         voltage_v,
         declared_line_to_line_v: None,
     }
-}
-
-/// Dips and swells of `v` by the one-cycle RMS refreshed every half cycle, against `declared`
-/// or the median of those values; and the reference used (`None`: no declared voltage and too
-/// few values for a median).
-fn dips_and_swells(v: &[f64], fs: f64, f: f64, declared: Option<f64>) -> (Vec<Event>, Option<f64>) {
-    let half = fs / f / 2.0;
-    let mut spans = Vec::new();
-    let mut k = 0usize;
-    loop {
-        let a = (k as f64 * half).round() as usize;
-        let e = ((k + 2) as f64 * half).round() as usize;
-        if e > v.len() || e <= a {
-            break;
-        }
-        spans.push((a, e));
-        k += 1;
-    }
-    if spans.len() < 4 * STEP_CYCLES {
-        return (Vec::new(), declared);
-    }
-    let urms: Vec<f64> = spans
-        .iter()
-        .map(|&(a, e)| (v[a..e].iter().map(|x| x * x).sum::<f64>() / (e - a) as f64).sqrt())
-        .collect();
-    let reference = declared.unwrap_or_else(|| median(&urms));
-    if !(reference > 0.0) {
-        return (Vec::new(), None);
-    }
-    // values two half cycles apart share no samples: the medians either side take every second
-    let side = |from: usize, to: usize| {
-        let x: Vec<f64> = (from..to).step_by(2).map(|k| urms[k]).collect();
-        median(&x)
-    };
-    let mut out = Vec::new();
-    let mut j = 0;
-    while j < urms.len() {
-        let (kind, back) = if urms[j] < DIP_SHARE * reference {
-            (EventKind::Dip, (DIP_SHARE + HYSTERESIS_SHARE) * reference)
-        } else if urms[j] > SWELL_SHARE * reference {
-            (
-                EventKind::Swell,
-                (SWELL_SHARE - HYSTERESIS_SHARE) * reference,
-            )
-        } else {
-            j += 1;
-            continue;
-        };
-        let over = |x: f64| match kind {
-            EventKind::Dip => x >= back,
-            _ => x <= back,
-        };
-        let start = j;
-        let mut end = j;
-        while end < urms.len() && !over(urms[end]) {
-            end += 1;
-        }
-        let during = &urms[start..end];
-        let extreme = match kind {
-            EventKind::Dip => during.iter().fold(f64::INFINITY, |m, x| m.min(*x)),
-            _ => during.iter().fold(f64::NEG_INFINITY, |m, x| m.max(*x)),
-        };
-        let before = side(start.saturating_sub(2 * STEP_CYCLES), start);
-        let after = side(end, (end + 2 * STEP_CYCLES).min(urms.len()));
-        out.push(Event {
-            kind,
-            quantity: EventQuantity::VoltageRmsV,
-            time_s: spans[start].0 as f64 / fs,
-            located_to: "cycle",
-            duration_s: (end < urms.len()).then(|| (spans[end].0 - spans[start].0) as f64 / fs),
-            before: if before.is_finite() {
-                before
-            } else {
-                reference
-            },
-            after,
-            extreme: Some(extreme),
-            phase: None,
-            reference_v: Some(reference),
-        });
-        j = end + 1;
-    }
-    (out, Some(reference))
 }
 
 #[cfg(test)]

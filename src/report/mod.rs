@@ -37,7 +37,7 @@ pub trait Exporter {
 /// The version of the layout of every JSON object tracephase writes (`"schema"`, the first key
 /// of each). It goes up by one when a key is renamed or removed, or changes its meaning or unit;
 /// new keys do not change it. The README keeps the history.
-pub const SCHEMA: u32 = 1;
+pub const SCHEMA: u32 = 2;
 
 /// A record with the [`SCHEMA`] key before its own keys.
 #[derive(Debug, serde::Serialize)]

@@ -572,11 +572,7 @@ pub fn event_text(e: &crate::quantity::events::Event) -> String {
         ),
         EventKind::Dip | EventKind::Swell => format!(
             "{phase}{} at {:.4} s {}: {name} {} before, {} {}, {} after",
-            if e.kind == EventKind::Dip {
-                "dip"
-            } else {
-                "swell"
-            },
+            e.kind.as_str(),
             e.time_s,
             e.duration_s
                 .map_or("lasting to the end".into(), |d| format!("for {d:.3} s")),
@@ -589,6 +585,31 @@ pub fn event_text(e: &crate::quantity::events::Event) -> String {
             value(e.extreme.unwrap_or(f64::NAN)),
             value(e.after)
         ),
+        // `polyphase dip on a, c at 0.2000 s for 0.200 s: lowest 161.0 V on a (70.0 % of
+        // 230.0 V)`
+        EventKind::PolyphaseDip | EventKind::PolyphaseSwell => {
+            let extreme = e.extreme.unwrap_or(f64::NAN);
+            let share = match e.reference_v {
+                Some(r) if r > 0.0 && extreme.is_finite() => {
+                    format!(" ({:.1} % of {})", 100.0 * extreme / r, value(r))
+                }
+                _ => String::new(),
+            };
+            format!(
+                "{} on {} at {:.4} s {}: {} {}{share}",
+                e.kind.as_str(),
+                e.phases.map_or("?".into(), |p| p.names().join(", ")),
+                e.time_s,
+                e.duration_s
+                    .map_or("lasting to the end".into(), |d| format!("for {d:.3} s")),
+                if e.kind == EventKind::PolyphaseDip {
+                    "lowest"
+                } else {
+                    "highest"
+                },
+                value(extreme),
+            )
+        }
     }
 }
 

@@ -236,12 +236,12 @@ pub fn series(trend: &Trend, events: &[Event]) -> Option<TrendSeries> {
             time_s: e.time_s,
             label: format!(
                 "{}{}",
-                match e.kind {
-                    EventKind::Switching => "switching",
-                    EventKind::Dip => "dip",
-                    EventKind::Swell => "swell",
-                },
-                e.phase.map(|p| format!(" {p}")).unwrap_or_default()
+                e.kind.as_str(),
+                match (e.phase, e.phases) {
+                    (Some(p), _) => format!(" {p}"),
+                    (None, Some(p)) => format!(" {}", p.names().join("+")),
+                    (None, None) => String::new(),
+                }
             ),
             colour: match e.kind {
                 EventKind::Switching => SWITCHING_COLOUR,
