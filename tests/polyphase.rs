@@ -339,3 +339,50 @@ fn the_polyphase_dip_reaches_json_table_trend_and_report() {
         "no polyphase dip in the report"
     );
 }
+
+/// `trend --format csv` keeps one table, one row per window, and says in each row which events
+/// are in progress during it (`event_count`, `event_codes`): with 10-cycle windows (0.2 s), a
+/// dip on a from 0.25 s to 0.35 s and on c from 0.30 s to 0.45 s fall in the windows from 0.2 s
+/// and from 0.4 s (c's dip and the polyphase one), none in the others.
+#[test]
+fn trend_csv_rows_carry_the_events_in_progress() {
+    let dir = TempDir::new().unwrap();
+    let cols = four_wire([&[(0.25, 0.35, 0.70)], &[], &[(0.30, 0.45, 0.80)]]);
+    let path = write_csv(dir.path(), "dips-in-windows.csv", &cols, 1.0);
+    let out = run(
+        &["trend", "--format", "csv", "--declared-voltage", "230"],
+        &path,
+    );
+    let mut reader = csv::Reader::from_reader(out.as_bytes());
+    let header = reader.headers().unwrap().clone();
+    let col = |name: &str| {
+        header
+            .iter()
+            .position(|h| h == name)
+            .unwrap_or_else(|| panic!("no column {name}: {header:?}"))
+    };
+    let (start, count, codes) = (col("start_s"), col("event_count"), col("event_codes"));
+    let rows: Vec<(f64, String, String)> = reader
+        .records()
+        .map(|r| {
+            let r = r.unwrap();
+            (
+                r[start].parse().unwrap(),
+                r[count].to_string(),
+                r[codes].to_string(),
+            )
+        })
+        .collect();
+    assert_eq!(rows.len(), 5, "{rows:?}");
+    let want = [
+        ("0", ""),
+        ("3", "dip:a; polyphase_dip:a+c; dip:c"),
+        ("2", "polyphase_dip:a+c; dip:c"),
+        ("0", ""),
+        ("0", ""),
+    ];
+    for (k, ((s, n, c), (wn, wc))) in rows.iter().zip(want).enumerate() {
+        assert!((s - 0.2 * k as f64).abs() < 1e-9, "{rows:?}");
+        assert_eq!((n.as_str(), c.as_str()), (wn, wc), "row {k}: {rows:?}");
+    }
+}

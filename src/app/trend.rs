@@ -113,11 +113,10 @@ pub fn run_trend(a: &TrendArgs, out: &mut dyn Write, err: &mut dyn Write) -> Out
                 TrendRecord::new(&t, &rows, Some("3s"), left)
             }
         };
-        let mut record = record;
-        if let Some((events, references)) = events {
-            record.events = events;
-            record.dip_swell_reference = references;
-        }
+        let record = match events {
+            Some((events, references)) => record.with_events(events, references),
+            None => record,
+        };
         if a.format != crate::cli::FormatArg::Table
             && let Some(l) = &record.left_out
         {

@@ -193,6 +193,35 @@ pub struct Event {
     pub reference_v: Option<f64>,
 }
 
+impl Event {
+    /// A short code: the kind as in JSON and the phase (`switching:b`, `dip:a`; `dip` on a
+    /// single-phase capture) or a polyphase event's channels (`polyphase_dip:a+c`).
+    pub fn code(&self) -> String {
+        let kind = match self.kind {
+            EventKind::Switching => "switching",
+            EventKind::Dip => "dip",
+            EventKind::Swell => "swell",
+            EventKind::PolyphaseDip => "polyphase_dip",
+            EventKind::PolyphaseSwell => "polyphase_swell",
+        };
+        match (self.phase, self.phases) {
+            (Some(p), _) => format!("{kind}:{p}"),
+            (None, Some(p)) => format!("{kind}:{}", p.names().join("+")),
+            (None, None) => kind.to_string(),
+        }
+    }
+
+    /// Whether the event is in progress during `from_s ≤ t < to_s`: a switching at its
+    /// instant, a dip or swell from its start to its end (to the record's end when it lasts).
+    pub fn during(&self, from_s: f64, to_s: f64) -> bool {
+        match (self.kind, self.duration_s) {
+            (EventKind::Switching, _) => self.time_s >= from_s && self.time_s < to_s,
+            (_, Some(d)) => self.time_s < to_s && self.time_s + d > from_s,
+            (_, None) => self.time_s < to_s,
+        }
+    }
+}
+
 /// Cycle boundaries at whole samples: `round(k·per_cycle)` while inside the record.
 fn boundaries(n: usize, per_cycle: f64) -> Vec<usize> {
     let mut b = Vec::new();

@@ -92,6 +92,11 @@ pub struct TrendRow {
     pub total: Option<TrendTotal>,
     /// Codes of the warnings the row's own analysis gave.
     pub warning_codes: Vec<&'static str>,
+    /// How many of the capture's events are in progress during the row ([`Event::during`]).
+    pub event_count: usize,
+    /// Those events' codes ([`Event::code`]: `switching:b`, `dip:a`, `polyphase_dip:a+c`), in
+    /// time order; a CSV cell joins them with `; `.
+    pub event_codes: Vec<String>,
 }
 
 /// The figures of one phase in a row (keys as in `analyze`).
@@ -232,11 +237,29 @@ impl TrendRow {
             phases,
             total: w.total.as_ref().map(TrendTotal::from),
             warning_codes: w.warning_codes.clone(),
+            event_count: 0,
+            event_codes: Vec::new(),
         }
     }
 }
 
 impl TrendRecord {
+    /// The record with the capture's `events` and dip references, each row told which events
+    /// are in progress during it (so a CSV row, which carries no event list, says so too).
+    pub fn with_events(mut self, events: Vec<Event>, references: Vec<DipReference>) -> Self {
+        for row in &mut self.rows {
+            row.event_codes = events
+                .iter()
+                .filter(|e| e.during(row.start_s, row.end_s))
+                .map(Event::code)
+                .collect();
+            row.event_count = row.event_codes.len();
+        }
+        self.events = events;
+        self.dip_swell_reference = references;
+        self
+    }
+
     /// The record of a trend whose rows are `rows` (its windows, or their aggregates with
     /// `aggregate` and the part left out after the last whole interval).
     pub fn new(
