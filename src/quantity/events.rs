@@ -9,8 +9,12 @@
 //!   removed; over a whole cycle the harmonics do not leak into it), giving I1 and
 //!   Q1 = Im(V1·I1*) (IEEE Std 1459-2010) per cycle.
 //! - **Switchings.** Q1 and I1 are referred to the record's median V1 (×(V/V1)², ×V/V1: what a
-//!   constant impedance would draw), and a step within 5 cycles of a dip or swell is left to
-//!   it, so a voltage dip does not read as a switching. At each
+//!   constant impedance would draw), and the cycles a dip or swell touches (from a cycle before
+//!   its start to a cycle after its end) are left out, so a load that keeps its current through
+//!   a dip does not step at its edges. A step within [`STEP_CYCLES`] cycles of those is a
+//!   switching only when the steady state after it differs from the one before the dip (a load
+//!   reacting to the dip settles back; a bank switched 3 cycles after it does not); one inside
+//!   them is not reported (it cannot be placed within a cycle). At each
 //!   cycle the median of the [`STEP_CYCLES`] cycles after it less the
 //!   median of the [`STEP_CYCLES`] cycles before it (the cycle itself left out: it holds the
 //!   switching and any inrush) is the step there; a step is reported where it is the largest
@@ -342,6 +346,12 @@ fn noise(x: &[f64]) -> f64 {
     1.4826 * median(&d) / SQRT_2
 }
 
+/// The smallest step of `x` reported: `floor` or [`NOISE_FACTOR`] times its cycle-to-cycle
+/// noise, whichever is larger.
+fn step_threshold(x: &[f64], floor: f64) -> f64 {
+    floor.max(NOISE_FACTOR * noise(x))
+}
+
 /// The cycles where `x` steps by more than `floor`: `(cycle, before, after)`.
 fn steps(x: &[f64], floor: f64) -> Vec<(usize, f64, f64)> {
     let m = STEP_CYCLES;
@@ -349,7 +359,7 @@ fn steps(x: &[f64], floor: f64) -> Vec<(usize, f64, f64)> {
         return Vec::new();
     }
     let sigma = noise(x);
-    let threshold = floor.max(NOISE_FACTOR * sigma);
+    let threshold = step_threshold(x, floor);
     let d: Vec<(f64, f64, f64)> = (0..x.len())
         .map(|k| {
             if k < m || k + m + 1 > x.len() {
@@ -357,7 +367,9 @@ fn steps(x: &[f64], floor: f64) -> Vec<(usize, f64, f64)> {
             }
             let before = median(&x[k - m..k]);
             let after = median(&x[k + 1..k + 1 + m]);
-            (after - before, before, after)
+            // no step where one side holds only cycles left out (NaN)
+            let step = after - before;
+            (if step.is_finite() { step } else { 0.0 }, before, after)
         })
         .collect();
     let mut out = Vec::new();
@@ -463,9 +475,39 @@ pub fn detect_against(v: &[f64], i: &[f64], fs: f64, f: f64, declared_v: Option<
         v1.push(vp.norm());
     }
     let largest = |x: &[f64]| x.iter().fold(0.0f64, |m, y| m.max(*y));
-    // a voltage that dips changes the Q1 and I1 of a load that itself stays the same: the steps
-    // are looked for in Q1 and I1 referred to the record's median voltage (as a constant
-    // impedance would draw them), and reported as measured
+    let (voltage_events, reference_v) = voltage::dips_and_swells(v, fs, f, declared_v);
+    // The cycles a dip or swell may touch are left out of the steps (NaN, which the medians
+    // skip): a load that keeps its current through a dip draws a Q1 and I1 that follow the
+    // voltage, and would step at the dip's start and end. An event's start and end are the
+    // starts of one-cycle windows, within a cycle of the true instants, hence a cycle more
+    // either side.
+    let touched: Vec<(usize, usize)> = voltage_events
+        .iter()
+        .map(|d| {
+            let from = (d.time_s - 1.0 / f) * fs;
+            let to = d
+                .duration_s
+                .map_or(f64::INFINITY, |x| (d.time_s + x + 1.0 / f) * fs);
+            let first = (0..cycles)
+                .find(|&k| b[k + 1] as f64 > from)
+                .unwrap_or(cycles);
+            let end = (first..cycles)
+                .find(|&k| b[k] as f64 >= to)
+                .unwrap_or(cycles);
+            (first, end)
+        })
+        .collect();
+    let clean = |x: &[f64]| -> Vec<f64> {
+        let mut x = x.to_vec();
+        for &(a, e) in &touched {
+            x[a..e].fill(f64::NAN);
+        }
+        x
+    };
+    let (q1, i1) = (clean(&q1), clean(&i1));
+    // a voltage that changes without a dip (within 10 %) changes the Q1 and I1 of a load that
+    // itself stays the same: the steps are looked for in Q1 and I1 referred to the record's
+    // median voltage (as a constant impedance would draw them), and reported as measured
     let v_ref = median(&v1);
     let at_ref = |x: &[f64], power: i32| -> Vec<f64> {
         x.iter()
@@ -484,15 +526,44 @@ pub fn detect_against(v: &[f64], i: &[f64], fs: f64, f: f64, declared_v: Option<
         let after = median(&x[(k + 1).min(x.len())..(k + 1 + STEP_CYCLES).min(x.len())]);
         (before, after)
     };
+    // A step within STEP_CYCLES cycles of the cycles a dip or swell touched may still be the
+    // voltage's doing (a load that reacts to the dip and settles back). It is a switching only
+    // when the load's steady state after it differs from the one before the dip by more than
+    // the step threshold, both as a constant impedance would draw them: the dip's own recovery
+    // returns to the state before. A step placed inside those cycles is not reported: the
+    // medians either side reach over the cycles left out, so it cannot be placed within a
+    // cycle (nor was any step within 5 cycles of a dip before this rule).
+    let settles_elsewhere = |x: &[f64], k: usize, threshold: f64| {
+        touched.iter().all(|&(a, e)| {
+            if k + STEP_CYCLES < a || k > e + STEP_CYCLES {
+                return true;
+            }
+            if (a..e).contains(&k) {
+                return false;
+            }
+            let (lo, hi) = (a.min(k), e.max(k + 1));
+            let before = median(&x[lo.saturating_sub(STEP_CYCLES)..lo]);
+            let after = median(&x[hi.min(x.len())..(hi + STEP_CYCLES).min(x.len())]);
+            (after - before).abs() > threshold
+        })
+    };
     let mut found: Vec<(usize, EventQuantity, f64, f64)> = Vec::new();
-    for (k, ..) in steps(&at_ref(&q1, 2), STEP_SHARE * largest(&s1)) {
-        let (before, after) = measured(&q1, k);
-        found.push((k, EventQuantity::ReactivePowerVar, before, after));
+    let q1_ref = at_ref(&q1, 2);
+    let q1_floor = STEP_SHARE * largest(&s1);
+    for (k, ..) in steps(&q1_ref, q1_floor) {
+        if settles_elsewhere(&q1_ref, k, step_threshold(&q1_ref, q1_floor)) {
+            let (before, after) = measured(&q1, k);
+            found.push((k, EventQuantity::ReactivePowerVar, before, after));
+        }
     }
-    for (k, ..) in steps(&at_ref(&i1, 1), STEP_SHARE * largest(&i1)) {
-        let (before, after) = measured(&i1, k);
+    let i1_ref = at_ref(&i1, 1);
+    let i1_floor = STEP_SHARE * largest(&i1);
+    for (k, ..) in steps(&i1_ref, i1_floor) {
         // a switching seen in Q1 too is reported once, as Q1's
-        if !found.iter().any(|e| e.0.abs_diff(k) <= STEP_CYCLES) {
+        if !found.iter().any(|e| e.0.abs_diff(k) <= STEP_CYCLES)
+            && settles_elsewhere(&i1_ref, k, step_threshold(&i1_ref, i1_floor))
+        {
+            let (before, after) = measured(&i1, k);
             found.push((k, EventQuantity::FundamentalCurrentA, before, after));
         }
     }
@@ -500,8 +571,16 @@ pub fn detect_against(v: &[f64], i: &[f64], fs: f64, f: f64, declared_v: Option<
     let mut events: Vec<Event> = found
         .into_iter()
         .map(|(k, quantity, before, after)| {
-            // the steady cycles before: up to STEP_CYCLES, ending one cycle before the step's
-            let fit = b[k.saturating_sub(STEP_CYCLES + 1)]..b[k.saturating_sub(1)];
+            // the steady cycles before: up to STEP_CYCLES, ending one cycle before the step's,
+            // none of them touched by a dip or swell (the current there is not the load's
+            // steady one)
+            let mut first = k.saturating_sub(STEP_CYCLES + 1);
+            for &(a, e) in &touched {
+                if a < k && e > first {
+                    first = e;
+                }
+            }
+            let fit = b[first.min(k.saturating_sub(1))]..b[k.saturating_sub(1)];
             let ib = median(&i1[k.saturating_sub(STEP_CYCLES)..k]);
             let ia = median(&i1[(k + 1).min(cycles)..(k + 1 + STEP_CYCLES).min(cycles)]);
             let peak_change = SQRT_2 * (ia - ib).abs().max(0.01 * ia.max(ib));
@@ -523,16 +602,6 @@ pub fn detect_against(v: &[f64], i: &[f64], fs: f64, f: f64, declared_v: Option<
             }
         })
         .collect();
-    let (voltage_events, reference_v) = voltage::dips_and_swells(v, fs, f, declared_v);
-    // a change of Q1 or I1 within a few cycles of a dip or swell is the voltage's doing, not a
-    // switching (a load that keeps its current through a dip would otherwise read as one)
-    let margin = STEP_CYCLES as f64 / f;
-    events.retain(|e| {
-        !voltage_events.iter().any(|d| {
-            let end = d.duration_s.map_or(f64::INFINITY, |x| d.time_s + x);
-            e.time_s >= d.time_s - margin && e.time_s <= end + margin
-        })
-    });
     events.extend(voltage_events);
     events.sort_by(|a, b| a.time_s.total_cmp(&b.time_s));
     let source = match declared_v {
