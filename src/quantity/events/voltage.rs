@@ -85,9 +85,12 @@ impl Voltage<'_> {
     }
 }
 
+/// The sample spans of the Urms(1/2) values (first sample, one past the last) and the values.
+type HalfCycleRms = (Vec<(usize, usize)>, Vec<f64>);
+
 /// Urms(1/2) of a channel: the RMS over one cycle, a value every half cycle, with the sample
 /// spans they cover (`None` when there are too few for a median either side).
-fn half_cycle_rms(v: Voltage<'_>, fs: f64, f: f64) -> Option<(Vec<(usize, usize)>, Vec<f64>)> {
+fn half_cycle_rms(v: Voltage<'_>, fs: f64, f: f64) -> Option<HalfCycleRms> {
     let half = fs / f / 2.0;
     let mut spans = Vec::new();
     let mut k = 0usize;
