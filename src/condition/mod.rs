@@ -156,15 +156,18 @@ pub fn per_phase(capture: &Capture) -> Vec<PhaseSamples<'_>> {
 ///
 /// Output sample m stands for the time of its block's centre, `m·factor + (factor−1)/2`
 /// input samples after the start, so a sinusoid keeps its phase and only its amplitude is
-/// scaled by [`block_average_gain`].
-pub fn decimate(y: &[f64], factor: usize) -> Vec<f64> {
+/// scaled by [`block_average_gain`]. A factor of 1 (or 0) borrows `y` as it is: no copy of a
+/// record that needs no averaging.
+pub fn decimate(y: &[f64], factor: usize) -> Cow<'_, [f64]> {
     if factor <= 1 {
-        return y.to_vec();
+        return Cow::Borrowed(y);
     }
     let inv = 1.0 / factor as f64;
-    y.chunks_exact(factor)
-        .map(|c| c.iter().sum::<f64>() * inv)
-        .collect()
+    Cow::Owned(
+        y.chunks_exact(factor)
+            .map(|c| c.iter().sum::<f64>() * inv)
+            .collect(),
+    )
 }
 
 /// Gain of a `factor`-sample block average for a sinusoid at `omega` rad/sample (input rate),
@@ -375,6 +378,19 @@ mod tests {
             let t = (m * d) as f64 + (d as f64 - 1.0) / 2.0;
             assert!((v - g * (omega * t + 0.3).cos()).abs() < 1e-12);
         }
+    }
+
+    /// A factor of 1 hands back the samples themselves, borrowed, not a copy of them.
+    #[test]
+    fn decimating_by_one_borrows_the_samples() {
+        let y: Vec<f64> = (0..100).map(|n| n as f64 * 0.25).collect();
+        for factor in [0, 1] {
+            let d = decimate(&y, factor);
+            assert!(matches!(d, Cow::Borrowed(_)), "factor {factor}");
+            assert_eq!(d.as_ptr(), y.as_ptr());
+            assert_eq!(&*d, &y[..]);
+        }
+        assert!(matches!(decimate(&y, 2), Cow::Owned(_)));
     }
 
     #[test]
