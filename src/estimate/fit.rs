@@ -16,7 +16,7 @@
 //! The fit stays exact on a non-integer number of cycles, where a bare DFT leaks.
 
 pub(crate) use super::simd::dot;
-use super::simd::table_sums;
+use super::simd::{table_sums, table_sums_pair};
 use ndarray::Array2;
 use rustfft::num_complex::Complex64;
 use std::borrow::Cow;
@@ -127,7 +127,20 @@ impl Projection {
             sin: vec![0.0; order + 1],
         }
     }
+
+    /// Takes `rows` (harmonic orders) from `other`.
+    fn take_rows(&mut self, other: &Projection, rows: Range<usize>) {
+        self.cos[rows.clone()].copy_from_slice(&other.cos[rows.clone()]);
+        self.sin[rows.clone()].copy_from_slice(&other.sin[rows]);
+    }
 }
+
+/// One record's projection and its parts'.
+type Projections = (Projection, Vec<Projection>);
+
+/// Below this much work (records × samples × harmonic rows) a projection is not split between
+/// threads.
+const SPLIT_WORK: usize = 1 << 20;
 
 /// Everything a fit at one frequency and order can share between records: the table of
 /// `cos/sin(hθm)` and the factored normal equations of the record lengths seen.
@@ -221,7 +234,7 @@ impl Basis {
             return None;
         }
         self.prepare(n, order);
-        let (whole, _) = self.project(y, &[]);
+        let (whole, _) = self.project_many(&[y], &[]).pop()?;
         self.solve_projection(n, order, whole, dot(y, y))
     }
 
@@ -239,7 +252,29 @@ impl Basis {
         parts: &[Range<usize>],
         part_order: usize,
     ) -> Option<(HarmonicFit, Vec<Option<HarmonicFit>>)> {
-        let (n, order) = (y.len(), self.order);
+        self.fit_parts_many(&[y], parts, part_order).pop()?
+    }
+
+    /// [`Basis::fit_parts`] of several records of the same length (a phase's voltage and
+    /// current) from one pass over their samples, in their order: each the same to the bit as
+    /// its own [`Basis::fit_parts`] would be. The table is read once for two records, and a
+    /// long record's harmonic orders are shared between two threads (each order's sums are
+    /// independent of the others', so the split changes no result).
+    ///
+    /// # Panics
+    /// When the records differ in length, or as [`Basis::fit_parts`].
+    pub fn fit_parts_many(
+        &self,
+        ys: &[&[f64]],
+        parts: &[Range<usize>],
+        part_order: usize,
+    ) -> Vec<Option<(HarmonicFit, Vec<Option<HarmonicFit>>)>> {
+        let n = ys.first().map_or(0, |y| y.len());
+        let order = self.order;
+        assert!(
+            ys.iter().all(|y| y.len() == n),
+            "fit_parts_many: the records must be of one length"
+        );
         let mut last = 0;
         for p in parts {
             assert!(
@@ -249,25 +284,30 @@ impl Basis {
             last = p.end;
         }
         if n < 2 * order + 2 {
-            return None;
+            return ys.iter().map(|_| None).collect();
         }
         let part_order = part_order.min(order);
-        let (whole, each) = self.project(y, parts);
-        let fit = self.solve_projection(n, order, whole, dot(y, y))?;
-        let fits = each
-            .into_iter()
-            .zip(parts)
-            .map(|(mut p, range)| {
-                let seg = &y[range.clone()];
-                if seg.len() < 2 * part_order + 2 {
-                    return None;
-                }
-                p.cos.truncate(part_order + 1);
-                p.sin.truncate(part_order + 1);
-                self.solve_projection(seg.len(), part_order, p, dot(seg, seg))
+        let projections = self.project_many(ys, parts);
+        ys.iter()
+            .zip(projections)
+            .map(|(y, (whole, each))| {
+                let fit = self.solve_projection(n, order, whole, dot(y, y))?;
+                let fits = each
+                    .into_iter()
+                    .zip(parts)
+                    .map(|(mut p, range)| {
+                        let seg = &y[range.clone()];
+                        if seg.len() < 2 * part_order + 2 {
+                            return None;
+                        }
+                        p.cos.truncate(part_order + 1);
+                        p.sin.truncate(part_order + 1);
+                        self.solve_projection(seg.len(), part_order, p, dot(seg, seg))
+                    })
+                    .collect();
+                Some((fit, fits))
             })
-            .collect();
-        Some((fit, fits))
+            .collect()
     }
 
     /// Solves the normal equations of an `n`-sample record at `order` from its projections and
@@ -304,27 +344,72 @@ impl Basis {
         })
     }
 
-    /// Σ y·cos(hθτ) and Σ y·sin(hθτ) for h = 0..=order with τ about the record's centre, and
-    /// the same for each of `parts` about the part's own centre (ascending, not overlapping).
+    /// [`Basis::project_rows`] of every harmonic order, a long record's orders shared between
+    /// two threads.
+    fn project_many(&self, ys: &[&[f64]], parts: &[Range<usize>]) -> Vec<Projections> {
+        let rows = self.order + 1;
+        let n = ys.first().map_or(0, |y| y.len());
+        if rows < 2 || ys.len() * n * rows < SPLIT_WORK {
+            return self.project_rows(ys, parts, 0..rows);
+        }
+        let mid = rows.div_ceil(2);
+        let (mut low, high) = rayon::join(
+            || self.project_rows(ys, parts, 0..mid),
+            || self.project_rows(ys, parts, mid..rows),
+        );
+        for ((lw, le), (hw, he)) in low.iter_mut().zip(&high) {
+            lw.take_rows(hw, mid..rows);
+            for (a, b) in le.iter_mut().zip(he) {
+                a.take_rows(b, mid..rows);
+            }
+        }
+        low
+    }
+
+    /// Σ y·cos(hθτ) and Σ y·sin(hθτ) for the harmonic orders h in `rows` (within 0..=order;
+    /// the others are left zero) with τ about the record's centre, and the same for each of
+    /// `parts` about the part's own centre (ascending, not overlapping), for each of the records
+    /// `ys` (all of one length).
     ///
-    /// The record is walked in chunks of at most [`BLOCK`] samples that never straddle a part's
-    /// edge; each chunk's sums against the table are turned to the record's centre and added to
-    /// the record's total and to its part's. A part's total is turned to the part's centre at the
-    /// end: `Σ y e^{jhθ(n−c_p)} = e^{jhθ(c−c_p)} Σ y e^{jhθ(n−c)}`.
-    fn project(&self, y: &[f64], parts: &[Range<usize>]) -> (Projection, Vec<Projection>) {
+    /// The records are walked in chunks of at most [`BLOCK`] samples that never straddle a part's
+    /// edge; each chunk's sums against the table (two records' at once) are turned to the
+    /// record's centre and added to the record's total and to its part's. A part's total is
+    /// turned to the part's centre at the end: `Σ y e^{jhθ(n−c_p)} = e^{jhθ(c−c_p)} Σ y
+    /// e^{jhθ(n−c)}`. Every order's sums use only that order's table row and turns, so a record's
+    /// projection does not depend on which other records or orders are taken with it.
+    fn project_rows(
+        &self,
+        ys: &[&[f64]],
+        parts: &[Range<usize>],
+        rows: Range<usize>,
+    ) -> Vec<Projections> {
         let order = self.order;
-        let n = y.len();
+        let n = ys.first().map_or(0, |y| y.len());
         let centre = (n as f64 - 1.0) / 2.0;
-        let mut whole = Projection::zero(order);
-        let mut each: Vec<Projection> = parts.iter().map(|_| Projection::zero(order)).collect();
+        let (first_row, nr) = (rows.start, rows.len());
+        let mut out: Vec<Projections> = ys
+            .iter()
+            .map(|_| {
+                let each = parts.iter().map(|_| Projection::zero(order)).collect();
+                (Projection::zero(order), each)
+            })
+            .collect();
+        // this range's rows of the tables and of the turn from one full chunk to the next
+        let (tcos, tsin) = (
+            &self.tcos[first_row * BLOCK..],
+            &self.tsin[first_row * BLOCK..],
+        );
+        let (step_re, step_im) = (&self.step_re[rows.clone()], &self.step_im[rows.clone()]);
         let mut rot = Vec::with_capacity(order + 1);
         // e^{jhθ(n0−c)} for the chunk at n0, split in parts for the vectorised loops, and the
         // sample it is good for with the full-length steps taken since it was computed afresh
-        let (mut rot_re, mut rot_im) = (vec![0.0; order + 1], vec![0.0; order + 1]);
+        let (mut rot_re, mut rot_im) = (vec![0.0; nr], vec![0.0; nr]);
         let mut rot_at: Option<(usize, usize)> = None;
-        let (mut c, mut s) = (vec![0.0; order + 1], vec![0.0; order + 1]);
-        // the chunk, zero-padded to a multiple of four samples
-        let mut chunk = [0.0f64; BLOCK];
+        // each record's chunk sums
+        let mut sums: Vec<(Vec<f64>, Vec<f64>)> =
+            ys.iter().map(|_| (vec![0.0; nr], vec![0.0; nr])).collect();
+        // each record's chunk, zero-padded to a multiple of four samples
+        let mut chunks = vec![[0.0f64; BLOCK]; ys.len()];
         let mut part = 0;
         let mut n0 = 0;
         while n0 < n {
@@ -339,16 +424,27 @@ impl Basis {
             };
             let len = BLOCK.min(edge - n0);
             let padded = len.div_ceil(4) * 4;
-            chunk[..len].copy_from_slice(&y[n0..n0 + len]);
-            chunk[len..padded].fill(0.0);
-            table_sums(
-                &chunk[..padded],
-                &self.tcos,
-                &self.tsin,
-                BLOCK,
-                &mut c,
-                &mut s,
-            );
+            for (chunk, y) in chunks.iter_mut().zip(ys) {
+                chunk[..len].copy_from_slice(&y[n0..n0 + len]);
+                chunk[len..padded].fill(0.0);
+            }
+            for (ch, sm) in chunks.chunks_exact(2).zip(sums.chunks_exact_mut(2)) {
+                if let ([x, z], [a, b]) = (ch, sm) {
+                    table_sums_pair(
+                        [&x[..padded], &z[..padded]],
+                        tcos,
+                        tsin,
+                        BLOCK,
+                        [&mut a.0, &mut b.0],
+                        [&mut a.1, &mut b.1],
+                    );
+                }
+            }
+            if ys.len() % 2 == 1 {
+                let k = ys.len() - 1;
+                let (c, s) = &mut sums[k];
+                table_sums(&chunks[k][..padded], tcos, tsin, BLOCK, c, s);
+            }
             // Σ y e^{jhθ(start+m)} = e^{jhθ·start} (c + js). The turn e^{jhθ·start} is carried
             // from chunk to chunk by one multiplication per harmonic (independent, so they run
             // side by side), and computed afresh after a short chunk and every RESYNC chunks.
@@ -356,21 +452,23 @@ impl Basis {
                 Some((at, k)) if at == n0 && k < RESYNC => k,
                 _ => {
                     powers(self.theta * (n0 as f64 - centre), order, &mut rot);
-                    for (h, r) in rot.iter().enumerate() {
-                        rot_re[h] = r.re;
-                        rot_im[h] = r.im;
+                    for (j, r) in rot[rows.clone()].iter().enumerate() {
+                        rot_re[j] = r.re;
+                        rot_im[j] = r.im;
                     }
                     0
                 }
             };
-            let target = if inside { Some(&mut each[part]) } else { None };
-            turn_and_add(&rot_re, &rot_im, &c, &s, &mut whole, target);
+            for ((whole, each), (c, s)) in out.iter_mut().zip(&sums) {
+                let target = if inside { Some(&mut each[part]) } else { None };
+                turn_and_add(&rot_re, &rot_im, c, s, first_row, whole, target);
+            }
             if len == BLOCK {
-                for h in 0..=order {
-                    let (re, im) = (rot_re[h], rot_im[h]);
-                    let (sr, si) = (self.step_re[h], self.step_im[h]);
-                    rot_re[h] = re * sr - im * si;
-                    rot_im[h] = re * si + im * sr;
+                for j in 0..nr {
+                    let (re, im) = (rot_re[j], rot_im[j]);
+                    let (sr, si) = (step_re[j], step_im[j]);
+                    rot_re[j] = re * sr - im * si;
+                    rot_im[j] = re * si + im * sr;
                 }
                 rot_at = Some((n0 + BLOCK, steps + 1));
             } else {
@@ -378,36 +476,42 @@ impl Basis {
             }
             n0 += len;
         }
-        for (p, range) in each.iter_mut().zip(parts) {
+        for (k, range) in parts.iter().enumerate() {
             let own_centre = range.start as f64 + (range.len() as f64 - 1.0) / 2.0;
             powers(self.theta * (centre - own_centre), order, &mut rot);
-            for (h, r) in rot.iter().enumerate() {
-                let (c, s) = (p.cos[h], p.sin[h]);
-                p.cos[h] = r.re * c - r.im * s;
-                p.sin[h] = r.im * c + r.re * s;
+            for (_, each) in out.iter_mut() {
+                let p = &mut each[k];
+                for h in rows.clone() {
+                    let r = rot[h];
+                    let (c, s) = (p.cos[h], p.sin[h]);
+                    p.cos[h] = r.re * c - r.im * s;
+                    p.sin[h] = r.im * c + r.re * s;
+                }
             }
         }
-        (whole, each)
+        out
     }
 }
 
-/// Adds the chunk sums `c + js`, turned by `rot`, to the record's projection and, when given, to
-/// its part's.
+/// Adds the chunk sums `c + js` of the rows from `first_row` on, turned by `rot`, to the record's
+/// projection and, when given, to its part's.
 #[inline]
 fn turn_and_add(
     rot_re: &[f64],
     rot_im: &[f64],
     c: &[f64],
     s: &[f64],
+    first_row: usize,
     whole: &mut Projection,
     part: Option<&mut Projection>,
 ) {
     let n = c.len();
+    let rows = first_row..first_row + n;
     let (rr, ri, s) = (&rot_re[..n], &rot_im[..n], &s[..n]);
-    let (wc, ws) = (&mut whole.cos[..n], &mut whole.sin[..n]);
+    let (wc, ws) = (&mut whole.cos[rows.clone()], &mut whole.sin[rows.clone()]);
     match part {
         Some(p) => {
-            let (pc, ps) = (&mut p.cos[..n], &mut p.sin[..n]);
+            let (pc, ps) = (&mut p.cos[rows.clone()], &mut p.sin[rows]);
             for h in 0..n {
                 let (x, y) = (rr[h] * c[h] - ri[h] * s[h], ri[h] * c[h] + rr[h] * s[h]);
                 wc[h] += x;
@@ -528,7 +632,7 @@ mod tests {
     fn block_projection_matches_direct_sums() {
         let y: Vec<f64> = (0..5300).map(|k| ((k * 37 % 101) as f64) - 50.0).collect();
         let theta = 0.0123;
-        let (p, _) = Basis::new(theta, 7).project(&y, &[]);
+        let (p, _) = Basis::new(theta, 7).project_many(&[&y], &[]).remove(0);
         let (pc, ps) = (p.cos, p.sin);
         let c = (y.len() as f64 - 1.0) / 2.0;
         for h in 0..=7 {
@@ -577,6 +681,62 @@ mod tests {
         }
         basis.prepare(600, 6);
         assert!(basis.fit_parts(&y, &parts, 6).is_some());
+    }
+
+    /// Records fitted together (two at a time through the table, a third alone, the harmonic
+    /// orders shared between two threads) give, to the bit, what each gives fitted alone, with
+    /// parts; on a record long enough to be split and not a whole number of chunks.
+    #[test]
+    fn records_fitted_together_equal_each_fitted_alone_to_the_bit() {
+        let n = 20_011;
+        let theta = 2.0 * PI * 50.0 / 10_000.0;
+        let record = |seed: usize| -> Vec<f64> {
+            (0..n)
+                .map(|k| {
+                    let t = k as f64 * theta;
+                    (100.0 + seed as f64) * (t + 0.1 * seed as f64).cos()
+                        + 7.0 * (5.0 * t - 0.3).sin()
+                        + (((k * (37 + seed) + seed) % 101) as f64 - 50.0) / 25.0
+                })
+                .collect()
+        };
+        let ys: Vec<Vec<f64>> = (0..3).map(record).collect();
+        let refs: Vec<&[f64]> = ys.iter().map(Vec::as_slice).collect();
+        let parts = [0..2000, 2000..4001, 4001..6000, 7000..20_011];
+        let basis = Basis::new(theta, 50);
+        assert!(
+            refs.len() * n * 51 >= SPLIT_WORK && n * 51 < SPLIT_WORK,
+            "together split, alone not"
+        );
+        let together = basis.fit_parts_many(&refs, &parts, 20);
+        assert_eq!(together.len(), 3);
+        let bits = |f: &HarmonicFit| {
+            let mut b = vec![f.dc.to_bits(), f.residual_ss.to_bits(), f.energy.to_bits()];
+            b.extend(f.proj_cos.iter().chain(&f.proj_sin).map(|x| x.to_bits()));
+            b.extend(
+                f.amplitudes
+                    .iter()
+                    .flat_map(|a| [a.re.to_bits(), a.im.to_bits()]),
+            );
+            b
+        };
+        for (k, y) in refs.iter().enumerate() {
+            let (whole, each) = together[k].as_ref().expect("fitted together");
+            let (alone, alone_each) = basis.fit_parts(y, &parts, 20).expect("fitted alone");
+            assert_eq!(bits(whole), bits(&alone), "record {k}");
+            assert_eq!(each.len(), alone_each.len());
+            for (p, (a, b)) in each.iter().zip(&alone_each).enumerate() {
+                let (a, b) = (a.as_ref().expect("part"), b.as_ref().expect("part"));
+                assert_eq!(bits(a), bits(b), "record {k} part {p}");
+            }
+        }
+    }
+
+    #[test]
+    #[should_panic(expected = "of one length")]
+    fn records_of_different_lengths_are_not_fitted_together() {
+        let basis = Basis::new(0.1, 3);
+        basis.fit_parts_many(&[&[1.0; 40], &[1.0; 41]], &[], 3);
     }
 
     /// DC and H harmonics are 2H + 1 unknowns: a least-squares fit needs more samples than

@@ -313,7 +313,7 @@ pub fn estimate_at(
     let correct =
         |h: usize, a: Complex64| a / (SQRT_2 * block_average_gain(h as f64 * omega_in, decimation));
     // One basis for both traces; the windows' fits come from the same pass as the whole
-    // record's.
+    // record's, and both traces' from the same pass over the table.
     let (ranges, window_order) = window_ranges(vd.len(), f, fsd, order);
     let ranges = if window_order == 0 {
         Vec::new()
@@ -325,13 +325,22 @@ pub fn estimate_at(
     if let Some(r) = ranges.first() {
         basis.prepare(r.len(), window_order);
     }
-    let basis = &basis;
+    // Both traces' fits from one pass over their samples (each the same as fitted alone).
+    let (fit_v, fit_i) = if vd.len() == id.len() {
+        let mut fits = basis.fit_parts_many(&[&vd, &id], &ranges, window_order);
+        let fit_i = fits.pop().flatten();
+        (fits.pop().flatten(), fit_i)
+    } else {
+        (
+            basis.fit_parts(&vd, &ranges, window_order),
+            basis.fit_parts(&id, &ranges, window_order),
+        )
+    };
     let channel = |y: &[f64],
-                   yd: &[f64]|
+                   yd: &[f64],
+                   fitted: Option<(fit::HarmonicFit, Vec<Option<fit::HarmonicFit>>)>|
      -> Result<(ChannelPhasors, Vec<Option<fit::HarmonicFit>>), EstimateError> {
-        let (fit, window_fits) = basis
-            .fit_parts(yd, &ranges, window_order)
-            .ok_or(EstimateError::NoPeriodicSignal)?;
+        let (fit, window_fits) = fitted.ok_or(EstimateError::NoPeriodicSignal)?;
         let harmonics: Vec<Complex64> = fit
             .amplitudes
             .iter()
@@ -383,7 +392,7 @@ pub fn estimate_at(
         };
         Ok((phasors, window_fits))
     };
-    let (voltage, current) = both(|| channel(v, &vd), || channel(i, &id));
+    let (voltage, current) = both(|| channel(v, &vd, fit_v), || channel(i, &id, fit_i));
     let ((voltage, windows_v), (current, windows_i)) = (voltage?, current?);
     // The frequency's standard uncertainty from the estimator used: the phase slope across the
     // sub-records, each sub-record's phase with var(φ) ≈ 1/(η·L), η = RMS²/σ² (Kay, vol. I;
