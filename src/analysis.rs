@@ -347,18 +347,6 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         );
         Ok::<_, AnalysisError>((est, q))
     };
-    // the first phase (or the two voltages) gives the frequency; the other phases are fitted at
-    // it side by side (two cores when free), results in phase order
-    let first = phase_estimate(0, first_hz)?;
-    let known = Some(first.0.frequency_hz);
-    estimates.push(first);
-    let rest: Vec<Result<(Estimate, Quantities), AnalysisError>> = (1..samples.len())
-        .into_par_iter()
-        .map(|k| phase_estimate(k, known))
-        .collect();
-    for r in rest {
-        estimates.push(r?);
-    }
     // clipping and resolution: once per trace as loaded
     let traces: Vec<(&crate::capture::Trace, Trace)> = capture
         .voltages
@@ -366,32 +354,48 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         .map(|t| (t, Trace::Voltage))
         .chain(capture.currents.iter().map(|t| (t, Trace::Current)))
         .collect();
-    // the events need only the samples and the frequency: they are looked for while the traces
-    // are scanned for clipping (both read every sample; two cores when free)
-    let frequency_hz = estimates[0].1.frequency_hz;
-    let (checks, (events, dip_references)): (Vec<(Option<f64>, Option<usize>)>, _) = rayon::join(
-        || {
-            traces
-                .iter()
-                .map(|(t, _)| {
-                    (
-                        condition::clipping(&t.samples),
-                        condition::few_levels(&t.samples),
-                    )
-                })
-                .collect()
-        },
-        || {
-            record_events(
-                &samples,
-                rate,
-                frequency_hz,
-                span.start_s(),
-                capture.system,
-                settings.declared_voltage_v,
-            )
-        },
+    let scan = |t: &crate::capture::Trace| {
+        (
+            condition::clipping(&t.samples),
+            condition::few_levels(&t.samples),
+        )
+    };
+    // the first phase (or the two voltages) gives the frequency while the traces are scanned
+    // for clipping, which needs no frequency (each trace a task: the other core takes them
+    // whenever the first phase's work leaves it free)
+    let (first, checks): (_, Vec<(Option<f64>, Option<usize>)>) = rayon::join(
+        || phase_estimate(0, first_hz),
+        || traces.par_iter().map(|(t, _)| scan(t)).collect(),
     );
+    let first = first?;
+    let known = Some(first.0.frequency_hz);
+    estimates.push(first);
+    // the other phases are fitted at that frequency side by side, and the events, which need
+    // only the samples and the frequency, are looked for alongside (two cores when free),
+    // results in phase order
+    let frequency_hz = estimates[0].1.frequency_hz;
+    let (rest, (events, dip_references)): (Vec<Result<(Estimate, Quantities), AnalysisError>>, _) =
+        rayon::join(
+            || {
+                (1..samples.len())
+                    .into_par_iter()
+                    .map(|k| phase_estimate(k, known))
+                    .collect()
+            },
+            || {
+                record_events(
+                    &samples,
+                    rate,
+                    frequency_hz,
+                    span.start_s(),
+                    capture.system,
+                    settings.declared_voltage_v,
+                )
+            },
+        );
+    for r in rest {
+        estimates.push(r?);
+    }
     for ((t, kind), (clip, levels)) in traces.iter().zip(checks) {
         let on = |w: Warning| match (many, t.place) {
             (true, Place::Phase(p)) => Warning::OnPhase {
@@ -417,8 +421,28 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             }));
         }
     }
+    // each phase's uncertainty and preview, side by side
+    let extras: Vec<(Uncertainty, Preview)> = samples
+        .par_iter()
+        .zip(&estimates)
+        .enumerate()
+        .map(|(k, (ps, (estimate, quantities)))| {
+            let uncertainty = uncertainty::uncertainty(
+                &ps.voltage,
+                &ps.current,
+                estimate,
+                quantities,
+                phase_skew(k),
+                &settings.uncertainty,
+            );
+            let preview = Preview::new(&ps.voltage, &ps.current, rate, quantities.frequency_hz);
+            (uncertainty, preview)
+        })
+        .collect();
     let mut phases = Vec::with_capacity(samples.len());
-    for (k, (ps, (estimate, mut quantities))) in samples.iter().zip(estimates).enumerate() {
+    for (k, ((ps, (estimate, mut quantities)), (uncertainty, preview))) in
+        samples.iter().zip(estimates).zip(extras).enumerate()
+    {
         for w in &quantities.warnings {
             warnings.push(if many {
                 Warning::OnPhase {
@@ -429,15 +453,6 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
                 w.clone()
             });
         }
-        let uncertainty = uncertainty::uncertainty(
-            &ps.voltage,
-            &ps.current,
-            &estimate,
-            &quantities,
-            phase_skew(k),
-            &settings.uncertainty,
-        );
-        let preview = Preview::new(&ps.voltage, &ps.current, rate, quantities.frequency_hz);
         // to the common instant: this phase's voltage is late by its delay
         let turn = Complex64::from_polar(
             1.0,
