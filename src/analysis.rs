@@ -770,7 +770,10 @@ pub(crate) fn system_figures(
         &samples[1].voltage,
         &samples[2].voltage,
     );
-    let line_rms = [rms_diff(va, vb), rms_diff(vb, vc), rms_diff(vc, va)];
+    // the three pairs side by side (each sum as it would be alone)
+    let pairs = [(va, vb), (vb, vc), (vc, va)];
+    let line: Vec<f64> = pairs.par_iter().map(|(x, y)| rms_diff(x, y)).collect();
+    let line_rms = [line[0], line[1], line[2]];
     // a measured neutral: its own true RMS and fundamental phasor, fitted at the phases'
     // frequency on their time reference, its own delay removed as the phases' are
     let f1 = quantities[0].frequency_hz;
