@@ -249,6 +249,11 @@ pub struct BankArgs {
     /// Acceptance band: ieee-18 (100-110 %) or iec-60831 (-5/+10 %) [default: ieee-18].
     #[arg(long, value_name = "NAME")]
     pub standard: Option<String>,
+    /// How a three-phase bank's capacitors are connected: star or delta (a delta bank's
+    /// branches a-b, b-c, c-a are then each resolved and judged) [default: not stated: the
+    /// star-equivalent figures per phase only].
+    #[arg(long, value_name = "CONNECTION")]
+    pub connection: Option<String>,
     /// Supply short-circuit power at the bank's bus, MVA (for the resonance order).
     #[arg(long, value_name = "MVA", conflicts_with_all = ["transformer_kva", "transformer_z_percent"])]
     pub supply_mva: Option<f64>,

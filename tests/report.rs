@@ -482,6 +482,7 @@ fn bank_and_meter_checks_get_their_sections_and_cautions() {
         standard: CapacitorStandard::default(),
         supply: None,
         target_pf: 0.95,
+        connection: None,
     };
     let bank = check_bank(&side(&before), &side(&after), &plate);
     let meter_capture = analyse(COMPRESSOR);

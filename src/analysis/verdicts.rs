@@ -46,6 +46,8 @@ impl Analysis {
             voltage_harmonics: q.harmonics.iter().map(|h| h.voltage_rms).collect(),
             harmonic_angles_deg: q.harmonics.iter().map(|h| h.angle_deg).collect(),
             warnings: self.warnings.clone(),
+            fundamentals: q.fundamentals,
+            line_to_line_voltages: self.three_phase.as_ref().is_some_and(|t| t.artificial_star),
         })
     }
 

@@ -35,6 +35,7 @@ pub fn resolve_nameplate(a: &BankArgs) -> Result<Nameplate, ConfigError> {
         supply_mva: a.supply_mva,
         transformer_kva: a.transformer_kva,
         transformer_z_percent: a.transformer_z_percent,
+        connection: a.connection.clone(),
     };
     // a value is named where it was given: the option, or the key in the nameplate file
     let name = |k: &'static str| match &a.nameplate {

@@ -281,7 +281,8 @@ impl Layer {
             target_pf,
             supply_mva,
             transformer_kva,
-            transformer_z_percent
+            transformer_z_percent,
+            connection
         );
     }
 
@@ -336,6 +337,7 @@ impl Layer {
             (Table::Bank, "step_kvar", Value::Numbers(v)) => b.values.step_kvar = Some(v),
             (Table::Bank, "three_phase", Value::Flag(f)) => b.values.three_phase = Some(f),
             (Table::Bank, "standard", Value::Text(t)) => b.values.standard = Some(t),
+            (Table::Bank, "connection", Value::Text(t)) => b.values.connection = Some(t),
             (Table::Bank, "target_pf", Value::Number(x)) => b.values.target_pf = Some(x),
             (Table::Bank, "supply_mva", Value::Number(x)) => b.values.supply_mva = Some(x),
             (Table::Bank, "transformer_kva", Value::Number(x)) => {

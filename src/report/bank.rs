@@ -3,7 +3,10 @@
 use super::Format;
 use super::table::{num, pm, sign_off};
 use crate::analysis::Analysis;
-use crate::check::bank::{BankPhase, BankReport, Nameplate, PhaseBalance};
+use crate::check::bank::branches::hyphenated;
+use crate::check::bank::{
+    BankBranch, BankConnection, BankPhase, BankReport, DeltaBranches, Nameplate, PhaseBalance,
+};
 use crate::quantity::inrush::Inrush;
 use serde::Serialize;
 use std::io::{self, Write};
@@ -168,6 +171,15 @@ pub fn scaling_words(p: &Nameplate, r: &BankReport) -> &'static str {
     }
 }
 
+/// The connection the nameplate states, in words after the scaling (empty when it does not).
+pub fn connection_words(p: &Nameplate) -> &'static str {
+    match p.connection {
+        Some(BankConnection::Delta) => "; delta-connected (each branch resolved)",
+        Some(BankConnection::Star) => "; star-connected",
+        None => "",
+    }
+}
+
 /// One phase's figures in words: `delivered X ± U kvar{sep} C Y ± U µF (Z ± U % of the rated W
 /// µF)`, for the table and the report.
 pub(crate) fn phase_figures(p: &BankPhase, sep: &str) -> String {
@@ -238,6 +250,76 @@ fn phase_lines(out: &mut dyn Write, b: &PhaseBalance) -> io::Result<()> {
     )
 }
 
+/// One branch's figures in words: `C X ± U µF (Y ± U % of the rated Z µF), Q kvar at V V`, for
+/// the table and the report.
+pub(crate) fn branch_figures(b: &BankBranch, sep: &str) -> String {
+    format!(
+        "C {} ({} of the rated {} µF){sep} {} at {} V ({} kvar at the rated voltage)",
+        pm(
+            Some(b.capacitance_uf),
+            Some(b.capacitance_uncertainty_uf),
+            " µF"
+        ),
+        pm(
+            Some(100.0 * b.ratio),
+            Some(100.0 * b.ratio_uncertainty),
+            " %"
+        ),
+        num(b.rated_capacitance_uf, 4),
+        pm(Some(b.kvar), Some(b.kvar_uncertainty), " kvar"),
+        num(b.voltage_v, 4),
+        num(b.kvar_at_rated, 4),
+    )
+}
+
+/// The fit's residual in words, for the table and the report.
+pub(crate) fn residual_words(d: &DeltaBranches) -> String {
+    format!(
+        "{} A left unexplained ({} % of the bank's line currents) against {} A the \
+         uncertainties would leave (k = 2){}",
+        num(d.branch_residual_a, 3),
+        num(d.branch_residual_percent, 3),
+        num(d.branch_residual_limit_a, 3),
+        if d.branch_residual_a <= d.branch_residual_limit_a {
+            ": three pure capacitors between the lines explain the currents"
+        } else {
+            ""
+        }
+    )
+}
+
+/// The branch lines of a delta-connected bank.
+fn branch_lines(out: &mut dyn Write, d: &DeltaBranches) -> io::Result<()> {
+    for (k, b) in d.branches.iter().enumerate() {
+        let head = if k == 0 { "branches" } else { "" };
+        writeln!(
+            out,
+            "  {head:<13}{}: {} {}{}",
+            hyphenated(b.name),
+            branch_figures(b, ","),
+            super::style::word(&b.verdict.to_string()),
+            if b.weak {
+                format!(", {}", super::style::word("WEAK"))
+            } else {
+                String::new()
+            }
+        )?;
+    }
+    writeln!(out, "               ({})", d.branch_basis)?;
+    writeln!(out, "  residual     {}", residual_words(d))?;
+    writeln!(
+        out,
+        "  weak branches {}",
+        if d.weak_branches.is_empty() {
+            "none".to_string()
+        } else {
+            let names: Vec<String> = d.weak_branches.iter().map(|n| hyphenated(n)).collect();
+            names.join(", ")
+        }
+    )?;
+    Ok(())
+}
+
 fn table(
     out: &mut dyn Write,
     r: &BankReport,
@@ -255,12 +337,13 @@ fn table(
     let steps: Vec<String> = p.steps_kvar.iter().map(|q| num(*q, 4)).collect();
     writeln!(
         out,
-        "  nameplate    {} kvar, {} V, {} Hz, steps of {} kvar; {}",
+        "  nameplate    {} kvar, {} V, {} Hz, steps of {} kvar; {}{}",
         num(p.rated_kvar, 4),
         num(p.rated_voltage, 4),
         num(p.rated_frequency_hz, 4),
         steps.join(" + "),
-        scaling_words(p, r)
+        scaling_words(p, r),
+        connection_words(p)
     )?;
     writeln!(
         out,
@@ -288,6 +371,9 @@ fn table(
     )?;
     if let Some(b) = &r.phases {
         phase_lines(out, b)?;
+    }
+    if let Some(d) = &r.branches {
+        branch_lines(out, d)?;
     }
     let b = &r.ratio_budget;
     writeln!(

@@ -1014,12 +1014,19 @@ fn bank_section(h: &mut String, b: &BankSection) -> std::fmt::Result {
             num(p.rated_voltage, 4),
             num(p.rated_frequency_hz, 4),
             steps.join(" + "),
-            format_args!("; {}", super::bank::scaling_words(p, r))
+            format_args!(
+                "; {}{}",
+                super::bank::scaling_words(p, r),
+                super::bank::connection_words(p)
+            )
         ),
     )?;
     row(h, "expected (arithmetic)", &r.expected_arithmetic)?;
     if let Some(balance) = &r.phases {
         three_phase::bank_rows(h, balance)?;
+    }
+    if let Some(d) = &r.branches {
+        three_phase::branch_rows(h, d)?;
     }
     let budget = &r.ratio_budget;
     let terms: Vec<String> = budget

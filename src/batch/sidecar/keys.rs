@@ -177,6 +177,7 @@ pub const KEYS: &[Key] = &[
     key(Bank, "step_kvar", Numbers, "bank --step-kvar"),
     key(Bank, "three_phase", Flag, "bank --three-phase"),
     key(Bank, "standard", Text, "bank --standard"),
+    key(Bank, "connection", Text, "bank --connection"),
     key(Bank, "target_pf", Number(Fraction), "bank --target-pf"),
     key(Bank, "supply_mva", Number(Positive), "bank --supply-mva"),
     key(Bank, "transformer_kva", Number(Positive), "bank --transformer-kva"),

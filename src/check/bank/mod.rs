@@ -20,19 +20,23 @@
 //! - parallel resonance order with the supply: `h = √(Ssc/Qc)` (a rule of thumb of the trade,
 //!   common practice), with `Ssc = S_transformer / z` when only a transformer is known.
 
+pub mod branches;
 pub mod budget;
 mod nameplate;
 mod phases;
 
+pub use branches::{BankBranch, DeltaBranches};
 pub use budget::{BudgetTerm, RatioBudget};
 pub use nameplate::{
-    CapacitorStandard, KeyNames, MAX_STEPS, Nameplate, NameplateError, NameplateFile, Supply,
+    BankConnection, CapacitorStandard, KeyNames, MAX_STEPS, Nameplate, NameplateError,
+    NameplateFile, Supply,
 };
 pub use phases::{BankPhase, PhaseBalance};
 
 use super::decision::{Verdict, decide};
 use crate::quantity::uncertainty::UncertaintyInputs;
 use crate::warning::{Severity, Warning};
+use rustfft::num_complex::Complex64;
 use serde::Serialize;
 use std::fmt;
 
@@ -70,6 +74,14 @@ pub struct BankSide {
     pub harmonic_angles_deg: Vec<f64>,
     /// The capture's warnings.
     pub warnings: Vec<Warning>,
+    /// RMS phasors of the fundamental voltage (V) and current (A), on the capture's own time
+    /// reference, which all its phases share (of the totals: the first phase's). The delta
+    /// branches ([`branches`]) refer each capture to its own phase-a voltage.
+    pub fundamentals: (Complex64, Complex64),
+    /// The capture's voltages are measured between lines (3-wire): `fundamentals.0` is referred
+    /// to the artificial star point, and the differences of two phases are the measured
+    /// line-to-line voltages.
+    pub line_to_line_voltages: bool,
 }
 
 impl BankSide {
@@ -116,6 +128,8 @@ impl BankSide {
                 .map(|s| s.harmonic_angles_deg.clone())
                 .unwrap_or_default(),
             warnings,
+            fundamentals: first.map_or(Default::default(), |s| s.fundamentals),
+            line_to_line_voltages: first.is_some_and(|s| s.line_to_line_voltages),
         }
     }
 }
@@ -274,6 +288,9 @@ pub struct BankReport {
     /// Each phase's share, capacitance and balance, for three-phase captures.
     #[serde(skip_serializing_if = "Option::is_none", flatten)]
     pub phases: Option<PhaseBalance>,
+    /// Each branch of a bank the nameplate says is delta-connected, from three-phase captures.
+    #[serde(skip_serializing_if = "Option::is_none", flatten)]
+    pub branches: Option<DeltaBranches>,
 }
 
 /// A harmonic counts as present above this share of the fundamental current.
@@ -349,10 +366,27 @@ pub fn check_bank(before: &[BankSide], after: &[BankSide], plate: &Nameplate) ->
         (&total_before, &total_after)
     };
     let mut report = check_bank_side(before_one, after_one, plate);
+    let delta = plate.connection == Some(BankConnection::Delta);
     if before.len() == 3 && after.len() == 3 {
         let balance = phases::balance(before, after, plate);
-        report.warnings.extend(balance.warnings());
+        report
+            .warnings
+            .extend(balance.warnings_for(plate.connection));
         report.phases = Some(balance);
+        if delta {
+            let b = branches::resolve(before, after, plate, &report.inconclusive_because);
+            report
+                .warnings
+                .extend(b.warnings(&report.inconclusive_because));
+            report.branches = Some(b);
+        }
+    } else if delta {
+        report.warnings.push(
+            "the nameplate says the bank is delta-connected, but the captures hold one phase: \
+             its branches need all three phases captured (Va Vb Vc Ia Ib Ic, or a 3-wire set); \
+             only the bank as a whole is judged"
+                .into(),
+        );
     }
     report
 }
@@ -549,6 +583,7 @@ fn check_bank_side(before: &BankSide, after: &BankSide, plate: &Nameplate) -> Ba
         harmonic_changes,
         warnings,
         phases: None,
+        branches: None,
     }
 }
 
@@ -675,6 +710,8 @@ mod tests {
             voltage_harmonics: vec![v1, 0.0, 0.01 * v1, 0.0, 0.02 * v1, 0.0, 0.01 * v1],
             harmonic_angles_deg: vec![0.0; 7],
             warnings: Vec::new(),
+            fundamentals: Default::default(),
+            line_to_line_voltages: false,
         }
     }
 
@@ -688,6 +725,7 @@ mod tests {
             standard: CapacitorStandard::Ieee18,
             supply: None,
             target_pf: 0.95,
+            connection: None,
         }
     }
 

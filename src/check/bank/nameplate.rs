@@ -57,6 +57,31 @@ impl CapacitorStandard {
     }
 }
 
+/// How a three-phase bank's capacitors are connected, as the nameplate states it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum BankConnection {
+    /// Three capacitors from the lines to a star point: each phase's figures are its own.
+    Star,
+    /// Three capacitors between the lines (branches a-b, b-c, c-a): each branch is resolved from
+    /// the line currents ([`super::branches`]).
+    Delta,
+}
+
+impl BankConnection {
+    /// Accepted names on the command line and in a nameplate file.
+    pub const NAMES: [&'static str; 2] = ["star", "delta"];
+
+    /// Reads a name.
+    pub fn parse(text: &str) -> Option<Self> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "star" => Some(BankConnection::Star),
+            "delta" => Some(BankConnection::Delta),
+            _ => None,
+        }
+    }
+}
+
 /// What is known of the supply, for the resonance check.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Supply {
@@ -121,6 +146,10 @@ pub struct Nameplate {
     pub supply: Option<Supply>,
     /// Target PF for the correction advice.
     pub target_pf: f64,
+    /// How a three-phase bank's capacitors are connected; `None` when the nameplate does not
+    /// say (then only the star-equivalent figures per phase are given, never a guess).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub connection: Option<BankConnection>,
 }
 
 /// The nameplate as a file may give it (TOML, our own keys); every key optional. Command-line
@@ -162,6 +191,9 @@ pub struct NameplateFile {
     /// Supplying transformer impedance, percent.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub transformer_z_percent: Option<f64>,
+    /// "star" or "delta", for a three-phase bank.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub connection: Option<String>,
 }
 
 impl NameplateFile {
@@ -179,6 +211,7 @@ impl NameplateFile {
             supply_mva: self.supply_mva.or(under.supply_mva),
             transformer_kva: self.transformer_kva.or(under.transformer_kva),
             transformer_z_percent: self.transformer_z_percent.or(under.transformer_z_percent),
+            connection: self.connection.or(under.connection),
         }
     }
 
@@ -201,6 +234,7 @@ impl NameplateFile {
             "supply_mva" => self.supply_mva.is_some(),
             "transformer_kva" => self.transformer_kva.is_some(),
             "transformer_z_percent" => self.transformer_z_percent.is_some(),
+            "connection" => self.connection.is_some(),
             _ => false,
         }
     }
@@ -312,15 +346,33 @@ impl Nameplate {
                 name("target_pf")
             ));
         }
+        let three_phase = f.three_phase.unwrap_or(false);
+        let connection = match f.connection.as_deref() {
+            None => None,
+            Some(s) => Some(BankConnection::parse(s).ok_or_else(|| {
+                format!(
+                    "unknown bank connection '{s}': use {}",
+                    BankConnection::NAMES.join(" or ")
+                )
+            })?),
+        };
+        if connection.is_some() && !three_phase {
+            return Err(format!(
+                "{} applies to a three-phase bank only: set {} as well",
+                name("connection"),
+                name("three_phase")
+            ));
+        }
         Ok(Nameplate {
             rated_kvar,
             rated_voltage,
             rated_frequency_hz,
             steps_kvar,
-            three_phase: f.three_phase.unwrap_or(false),
+            three_phase,
             standard,
             supply,
             target_pf,
+            connection,
         })
     }
 }
@@ -377,5 +429,38 @@ mod tests {
         assert!(e.to_string().starts_with("p.toml: line 2: "), "{e}");
         assert!(e.to_string().contains("rated_kvars"), "{e}");
         assert!(!e.to_string().contains('\n'));
+    }
+
+    fn three_phase_plate(connection: &str) -> NameplateFile {
+        NameplateFile {
+            rated_kvar: Some(30.0),
+            rated_voltage: Some(400.0),
+            rated_frequency_hz: Some(50.0),
+            three_phase: Some(true),
+            connection: Some(connection.into()),
+            ..NameplateFile::default()
+        }
+    }
+
+    #[test]
+    fn the_connection_is_read_and_an_unknown_one_refused_with_the_accepted_ones() {
+        let p = Nameplate::resolve(&three_phase_plate("Delta"), &KeyNames::FILE).unwrap();
+        assert_eq!(p.connection, Some(BankConnection::Delta));
+        let p = Nameplate::resolve(&three_phase_plate("star"), &KeyNames::FILE).unwrap();
+        assert_eq!(p.connection, Some(BankConnection::Star));
+        let e = Nameplate::resolve(&three_phase_plate("wye-ish"), &KeyNames::FILE).unwrap_err();
+        assert_eq!(e, "unknown bank connection 'wye-ish': use star or delta");
+        let mut single = three_phase_plate("delta");
+        single.three_phase = None;
+        let e = Nameplate::resolve(&single, &KeyNames::FILE).unwrap_err();
+        assert_eq!(
+            e,
+            "connection applies to a three-phase bank only: set three_phase as well"
+        );
+        // not stated: no connection, never a guess
+        let mut unstated = three_phase_plate("delta");
+        unstated.connection = None;
+        let p = Nameplate::resolve(&unstated, &KeyNames::FILE).unwrap();
+        assert_eq!(p.connection, None);
     }
 }

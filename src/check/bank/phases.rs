@@ -22,7 +22,7 @@
 //!   three-phase unit to 1.08 (from memory). Measured in service, through the supply, this is an
 //!   indication, not the standard's terminal test on a disconnected unit.
 
-use super::{BankSide, BankVerdict, Nameplate, delivery};
+use super::{BankConnection, BankSide, BankVerdict, Nameplate, delivery};
 use crate::check::decision::decide;
 use serde::Serialize;
 
@@ -183,6 +183,13 @@ pub(super) fn balance(before: &[BankSide], after: &[BankSide], plate: &Nameplate
 impl PhaseBalance {
     /// What the balance found, in words, for the bank check's warnings.
     pub fn warnings(&self) -> Vec<String> {
+        self.warnings_for(None)
+    }
+
+    /// [`PhaseBalance::warnings`] for a bank whose connection the nameplate states: two weak
+    /// phases point at a branch only when it does not (a delta's branches are resolved
+    /// themselves, a star has none).
+    pub fn warnings_for(&self, connection: Option<BankConnection>) -> Vec<String> {
         let mut out = Vec::new();
         for (name, p) in self.phases.iter().filter(|(_, p)| p.weak) {
             out.push(format!(
@@ -196,7 +203,7 @@ impl PhaseBalance {
                 p.rated_capacitance_uf
             ));
         }
-        if self.weak_phases.len() == 2 {
+        if self.weak_phases.len() == 2 && connection.is_none() {
             out.push(format!(
                 "phases {} and {} are both weak: on a delta-connected bank that points at the \
                  branch between them",
@@ -240,6 +247,8 @@ mod tests {
             voltage_harmonics: vec![v1, 0.0, 0.0],
             harmonic_angles_deg: vec![0.0; 3],
             warnings: Vec::new(),
+            fundamentals: Default::default(),
+            line_to_line_voltages: false,
         }
     }
 
@@ -253,6 +262,7 @@ mod tests {
             standard: CapacitorStandard::Iec60831,
             supply: None,
             target_pf: 0.95,
+            connection: None,
         }
     }
 

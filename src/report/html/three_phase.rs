@@ -254,3 +254,42 @@ pub(super) fn bank_rows(h: &mut String, b: &PhaseBalance) -> std::fmt::Result {
         ),
     )
 }
+
+/// The rows of a delta-connected bank's branches in the bank section.
+pub(super) fn branch_rows(
+    h: &mut String,
+    d: &crate::check::bank::DeltaBranches,
+) -> std::fmt::Result {
+    use crate::check::bank::branches::hyphenated;
+    for b in &d.branches {
+        row(
+            h,
+            &format!("branch {}", hyphenated(b.name)),
+            &format!(
+                "{}: {}{}",
+                crate::report::bank::branch_figures(b, ";"),
+                b.verdict,
+                if b.weak { ", weak" } else { "" }
+            ),
+        )?;
+    }
+    let weak: Vec<String> = d.weak_branches.iter().map(|n| hyphenated(n)).collect();
+    row(
+        h,
+        "delta branches",
+        &format!(
+            "{}; weak branches: {}; {}{}",
+            crate::report::bank::residual_words(d),
+            if weak.is_empty() {
+                "none".to_string()
+            } else {
+                weak.join(", ")
+            },
+            d.branch_basis,
+            d.branch_inconclusive_because
+                .iter()
+                .map(|w| format!("; inconclusive: {w}"))
+                .collect::<String>()
+        ),
+    )
+}
