@@ -239,8 +239,8 @@ fn line(
     let mut u_r2 = 0.0;
     for (b, a) in moves {
         let f = fit(b, a)?;
-        for k in 0..3 {
-            u_b[k] += (f.b[k] - base.b[k]).powi(2);
+        for (u, (moved, at)) in u_b.iter_mut().zip(f.b.iter().zip(base.b)) {
+            *u += (moved - at).powi(2);
         }
         u_r2 += (0..3)
             .map(|k| (f.residual[k] - base.residual[k]).norm_sqr())
@@ -602,8 +602,8 @@ mod tests {
             i: [0, 1, 2].map(|k| load[k] + bank[k]),
         };
         let f = fit(&before, &after).unwrap();
-        for k in 0..3 {
-            assert!((f.b[k] - y[k]).abs() < 1e-12, "{k}: {} vs {}", f.b[k], y[k]);
+        for (got, want) in f.b.iter().zip(y) {
+            assert!((got - want).abs() < 1e-12, "{got} vs {want}");
         }
         assert!(norm3(&f.residual) < 1e-9);
         // a neutral current (a star point on the neutral) cannot be explained
