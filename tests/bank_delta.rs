@@ -322,9 +322,9 @@ fn a_delta_bank_with_a_weak_branch_names_that_branch() {
     }
 }
 
-/// The table names the branches and the weak one.
+/// The table and the HTML report name the branches and the weak one.
 #[test]
-fn the_table_lists_each_branch_with_its_verdict() {
+fn the_table_and_the_report_list_each_branch_with_its_verdict() {
     let dir = TempDir::new().unwrap();
     let c = rated_branch_farad();
     let load = load_currents();
@@ -332,9 +332,26 @@ fn the_table_lists_each_branch_with_its_verdict() {
     let on = [0, 1, 2].map(|k| load[k] + bank_i[k]);
     let before = write_capture(dir.path(), "off.csv", load, Wiring::FourWire, 0.0, 3);
     let after = write_capture(dir.path(), "on.csv", on, Wiring::FourWire, 0.0, 4);
-    let out = bank(&before, &after, &["--connection", "delta"]);
+    let report = dir.path().join("bank.html");
+    let out = bank(
+        &before,
+        &after,
+        &[
+            "--connection",
+            "delta",
+            "--report",
+            report.to_str().unwrap(),
+        ],
+    );
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(text.contains("delta-connected"), "{text}");
+    // the HTML report's bank section has a row per branch and the fit's residual
+    let html = std::fs::read_to_string(&report).unwrap();
+    assert!(html.contains("<tr><td>branch a-b</td>"), "no branch row");
+    let ca = html.split("<tr><td>branch c-a</td>").nth(1).unwrap();
+    let ca = &ca[..ca.find("</tr>").unwrap()];
+    assert!(ca.ends_with(": fail, weak</td>"), "{ca}");
+    assert!(html.contains("<tr><td>delta branches</td>"));
     let line = |name: &str| {
         text.lines()
             .find(|l| l.contains(&format!("{name}: C ")))
