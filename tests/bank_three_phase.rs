@@ -283,6 +283,13 @@ fn three_phase_captures_with_a_single_phase_nameplate_are_refused() {
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("off.csv"), "{err}");
     assert!(err.contains("--three-phase"), "{err}");
+    // One line in plain words: no run of spaces left inside the sentence.
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(!err.contains("  "), "{err}");
+    assert!(
+        err.contains("say three_phase = true in the nameplate (or --three-phase), or choose one phase with --system single --voltage COL --current COL"),
+        "{err}"
+    );
 }
 
 /// A three-phase before-capture and a single-phase after-capture are refused, naming both.

@@ -284,12 +284,13 @@ fn a_second_run_on_a_summary_in_use_stops_at_once_naming_it() {
         let err = String::from_utf8(o.stderr).unwrap();
         assert_eq!(o.status.code(), Some(2), "{err}");
         assert_eq!(err.lines().count(), 1, "{err}");
-        assert!(
-            err.starts_with(&format!(
-                "error: {}: in use by another tracephase run",
+        assert_eq!(
+            err.trim_end(),
+            format!(
+                "error: {}: in use by another tracephase run writing this summary; wait for it \
+                 to end, or give this run another --out file",
                 out.display()
-            )),
-            "{err}"
+            )
         );
         assert_eq!(std::fs::read(&out).unwrap(), before, "{extra:?}");
     }

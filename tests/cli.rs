@@ -602,7 +602,11 @@ fn an_unclear_preamble_rate_is_refused_showing_how_to_say_it() {
         "two.csv",
         &["Sample rate,5000 Hz", "Sample interval,0.00025"],
     );
-    assert_refused(&[], &f, &["line 2", "two sample rates", "--rate 5000"]);
+    let line = assert_refused(&[], &f, &["line 2", "two sample rates", "--rate 5000"]);
+    assert!(
+        !line.contains("  "),
+        "no run of spaces inside the sentence: {line}"
+    );
 }
 
 #[test]

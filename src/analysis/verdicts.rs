@@ -316,7 +316,9 @@ impl Analysis {
 fn sides(a: &Analysis, which: &str, plate: &Nameplate) -> Result<Vec<BankSide>, String> {
     if a.three_phase.is_some() && !plate.three_phase {
         return Err(format!(
-            "{}: the {which} capture is {} but the nameplate is of a single-phase bank: say              three_phase = true in the nameplate (or --three-phase), or choose one phase with              --system single --voltage COL --current COL",
+            "{}: the {which} capture is {} but the nameplate is of a single-phase bank: say \
+             three_phase = true in the nameplate (or --three-phase), or choose one phase with \
+             --system single --voltage COL --current COL",
             a.path.display(),
             a.system
         ));

@@ -754,7 +754,8 @@ fn lock_summary(p: &Path) -> Result<Option<File>, String> {
     }
     let in_use = || {
         format!(
-            "{}: in use by another tracephase run writing this summary; wait for it to end, or              give this run another --out file",
+            "{}: in use by another tracephase run writing this summary; wait for it to end, or \
+             give this run another --out file",
             p.display()
         )
     };

@@ -148,7 +148,8 @@ fn preamble_rate(lines: &[(u64, Vec<&[u8]>)], decimal_comma: bool) -> PreambleRa
         return PreambleRate::Unclear {
             line: other,
             why: format!(
-                "the preamble states two sample rates, {} Hz (line {line}: '{}') and {} Hz                  (line {other}: '{}')",
+                "the preamble states two sample rates, {} Hz (line {line}: '{}') and {} Hz \
+                 (line {other}: '{}')",
                 short_hz(hz),
                 text(line),
                 short_hz(other_hz),
