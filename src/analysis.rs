@@ -286,6 +286,32 @@ pub(crate) fn phase_delays(capture: &Capture, ps: &condition::PhaseSamples<'_>) 
     (v.map_or(0.0, |t| t.delay_s), i.map_or(0.0, |t| t.delay_s))
 }
 
+/// Bytes an analysis of `capture` asks for beyond the capture itself: a fixed part (FFT plans,
+/// tables, the windows' figures) and a share of the capture's own size: 0.8 of it for a single
+/// phase, 0.6 for a 4-wire capture, 1.7 for a 3-wire capture (its star-point voltages and third
+/// current are made from the lines). tests/memory.rs measures the peak of single-phase, 4-wire
+/// and 3-wire analyses at 10 kHz to 1 MHz (a 4-wire peak varied from 8.7 to 19.7 MB between
+/// runs with how the phases shared the cores) and holds this at or above it, and at most half
+/// the capture's size plus 4 MB above it: it is asked for as a probe
+/// ([`crate::memory::headroom`]), so a figure far above the peak would refuse captures that fit,
+/// one below it would let an analysis start that cannot end.
+pub fn working_memory(capture: &Capture) -> usize {
+    const FIXED: usize = 4_000_000;
+    let channels: usize = capture
+        .voltages
+        .iter()
+        .chain(&capture.currents)
+        .chain(&capture.neutral)
+        .map(|t| t.samples.len().saturating_mul(8))
+        .fold(0, usize::saturating_add);
+    let tenths = match capture.system {
+        System::Single => 8,
+        System::FourWire => 6,
+        System::ThreeWire => 17,
+    };
+    (channels / 10).saturating_mul(tenths).saturating_add(FIXED)
+}
+
 /// Runs the whole pipeline on a loaded capture.
 ///
 /// Each trace's own delay ([`crate::capture::Trace::delay_s`]) is removed as a phase correction:
@@ -293,13 +319,23 @@ pub(crate) fn phase_delays(capture: &Capture, ps: &condition::PhaseSamples<'_>) 
 /// phase's fundamental phasors are turned back by its voltage's delay, so the three-phase figures
 /// compare phasors of one instant.
 pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, AnalysisError> {
+    let _in_hand = crate::memory::in_hand(&capture.path);
     let cli_skew_s = settings.skew_s;
-    condition::scale(&mut capture, settings.v_scale, settings.i_scale);
     let rate = capture.sample_rate_hz;
     let span = capture.span.unwrap_or(Span::whole(capture.len(), rate));
+    let span_s = (!span.is_whole()).then(|| (span.start_s(), span.end_s(rate)));
+    // the working room asked for at once: a refusal is this file's error, not the end of a run
+    if let Err(r) = crate::memory::headroom(working_memory(&capture)) {
+        return Err(AnalysisError {
+            path: capture.path.clone(),
+            span: span_s,
+            source: EstimateError::OutOfMemory { bytes: r.bytes },
+        });
+    }
+    condition::scale(&mut capture, settings.v_scale, settings.i_scale);
     let fail = |source| AnalysisError {
         path: capture.path.clone(),
-        span: (!span.is_whole()).then(|| (span.start_s(), span.end_s(rate))),
+        span: span_s,
         source,
     };
     let mut warnings = std::mem::take(&mut capture.warnings);
@@ -610,6 +646,7 @@ pub fn capture_events(
     settings: &Settings,
     frequency_hz: f64,
 ) -> (Vec<Event>, Vec<DipReference>) {
+    let _in_hand = crate::memory::in_hand(&capture.path);
     condition::scale(&mut capture, settings.v_scale, settings.i_scale);
     let rate = capture.sample_rate_hz;
     let offset_s = capture.span.map_or(0.0, |s| s.start_s());

@@ -42,6 +42,7 @@ pub mod check;
 pub mod cli;
 pub mod condition;
 pub mod estimate;
+pub mod memory;
 pub mod quantity;
 pub mod report;
 pub mod synth;

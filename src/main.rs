@@ -5,8 +5,18 @@ use std::process::ExitCode;
 use tracephase::app;
 use tracephase::cli::{self, Cli, ColorWhen};
 
+// a refused allocation ends the run with one line naming the files in hand, not an abort
+#[global_allocator]
+static ALLOCATOR: tracephase::memory::Guarded = tracephase::memory::Guarded;
+
 fn main() -> ExitCode {
+    tracephase::memory::one_arena();
     let cli = Cli::parse_from(cli::attach_negative_values(std::env::args_os()));
+    // rayon would panic at its first use of a pool it could not start (memory, a thread limit)
+    if let Err(e) = rayon::ThreadPoolBuilder::new().build_global() {
+        eprintln!("error: cannot start the worker threads: {e}; close other programs");
+        return ExitCode::from(app::Outcome::InputErrors.code());
+    }
     let choice = match cli.color {
         ColorWhen::Auto => anstream::ColorChoice::Auto,
         ColorWhen::Always => anstream::ColorChoice::Always,

@@ -611,6 +611,10 @@ fn run(a: &BatchArgs, out: &mut dyn Write, err: &mut dyn Write) -> Result<Outcom
              summary holds the files before it",
             discovery.files[i].path.display()
         ),
+        Stopped::NoThread(e) => format!(
+            "cannot start the batch's threads: {e}; close other programs, or run with fewer \
+             --jobs"
+        ),
     })?;
     progress.finish_and_clear();
     drop(sink);

@@ -21,6 +21,8 @@ pub enum Stopped {
     Take(String),
     /// `work` panicked on the source at this index (a bug: the rest was not processed).
     Panicked(usize),
+    /// The machine would not start one of the run's own threads (memory or a thread limit).
+    NoThread(String),
 }
 
 /// Plans every source with `plan` (in order, on one thread), runs `work` on each job on `pool`
@@ -83,7 +85,8 @@ where
             handed.lock().unwrap_or_else(|e| e.into_inner()).1 = true;
             moved.notify_all();
         };
-        s.spawn(move || {
+        // threads the machine refuses stop the run with that said, not with a panic
+        let planner = std::thread::Builder::new().spawn_scoped(s, move || {
             for (i, src) in sources.iter().enumerate() {
                 {
                     let mut g = handed.lock().unwrap_or_else(|e| e.into_inner());
@@ -99,7 +102,10 @@ where
                 }
             }
         });
-        s.spawn(move || {
+        if let Err(e) = planner {
+            return Err(Stopped::NoThread(e.to_string()));
+        }
+        let workers = std::thread::Builder::new().spawn_scoped(s, move || {
             pool.scope(|ps| {
                 for _ in 0..workers.max(1) {
                     let res_tx = res_tx.clone();
@@ -130,6 +136,11 @@ where
                 }
             });
         });
+        if let Err(e) = workers {
+            // the planner sees the stop and ends; nothing was analysed
+            halt();
+            return Err(Stopped::NoThread(e.to_string()));
+        }
         let mut pending = BTreeMap::new();
         let mut next = 0;
         let mut result = Ok(());

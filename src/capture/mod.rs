@@ -13,6 +13,7 @@ pub mod comtrade;
 mod csv;
 mod error;
 mod pick;
+mod room;
 mod span;
 mod wav;
 
@@ -471,6 +472,7 @@ pub(crate) fn selection(opts: &LoadOptions) -> Selection<'_> {
 /// Loads a capture, sniffing its format from the first bytes, and keeps the span
 /// [`LoadOptions::span`] asks for.
 pub fn load(path: &Path, opts: &LoadOptions) -> Result<Capture, LoadError> {
+    let _in_hand = crate::memory::in_hand(path);
     let capture = load_whole(path, opts)?;
     match &opts.span {
         None => Ok(capture),

@@ -168,7 +168,7 @@ impl Picked {
         let n = usize::try_from(self.frames).map_err(|_| {
             LoadErrorKind::UnsupportedWav("too many samples for this computer".into())
         })?;
-        Ok(self.wanted.iter().map(|_| Vec::with_capacity(n)).collect())
+        super::room::empty_columns(n, self.wanted.len())
     }
 }
 

@@ -72,6 +72,16 @@ pub enum EstimateError {
         /// Frequency found.
         frequency_hz: f64,
     },
+    /// The machine refused the analysis's working memory (see [`crate::memory::headroom`]).
+    #[error(
+        "not enough memory to analyse it: {} MB of working room were refused; close other \
+         programs, or analyse a shorter span (--from/--to) or split the file",
+        .bytes.div_ceil(1_000_000)
+    )]
+    OutOfMemory {
+        /// Bytes asked for.
+        bytes: usize,
+    },
 }
 
 /// Phasors and crossing phase of one trace.

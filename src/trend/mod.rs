@@ -278,6 +278,7 @@ pub fn trend_of(
     settings: &Settings,
     ts: &TrendSettings,
 ) -> Result<Trend, AnalysisError> {
+    let _in_hand = crate::memory::in_hand(&capture.path);
     let fs = capture.sample_rate_hz;
     let fail = |source| AnalysisError {
         path: capture.path.clone(),

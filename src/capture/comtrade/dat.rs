@@ -57,6 +57,12 @@ pub(super) fn read_dat(
     let words = cfg.digital.len().div_ceil(16);
     let mut columns: Vec<Vec<f64>> = vec![Vec::new(); chosen.len()];
     let mut stamps = Vec::new();
+    // room for `n` samples of every chosen channel and their stamps, or the error saying so
+    let room = |columns: &mut Vec<Vec<f64>>, stamps: &mut Vec<f64>, n: usize| {
+        let refused = |k| LoadError::new(dat, None, k);
+        *columns = crate::capture::room::empty_columns(n, chosen.len()).map_err(refused)?;
+        crate::capture::room::reserve(stamps, n, chosen.len() + 1).map_err(refused)
+    };
     let missing = |k: usize, sample: u64| {
         format!(
             "sample {sample} of channel '{}' is marked as missing data",
@@ -67,8 +73,7 @@ pub(super) fn read_dat(
         DataFormat::Ascii => {
             // at least "1,0," per line: the sample count cannot pass a quarter of the size
             let cap = cfg.samples.min(size / 4) as usize;
-            columns.iter_mut().for_each(|c| c.reserve(cap));
-            stamps.reserve(cap);
+            room(&mut columns, &mut stamps, cap)?;
             let reader = BufReader::new(file);
             let mut seen = 0u64;
             for (ln, line) in reader.lines().enumerate() {
@@ -138,8 +143,7 @@ pub(super) fn read_dat(
                 ));
             }
             let n = cfg.samples as usize;
-            columns.iter_mut().for_each(|c| c.reserve(n));
-            stamps.reserve(n);
+            room(&mut columns, &mut stamps, n)?;
             let mut reader = BufReader::with_capacity(1 << 16, file);
             let mut buf = vec![0u8; record];
             for s in 0..n {

@@ -5,9 +5,9 @@
 
 use super::{
     Columns, Layout, MAX_COLUMNS, RowSpec, TimeCheck, Tuning, decimal, estimated_rows, parse_f64,
-    reserve, zeroed_column,
 };
 use crate::capture::error::LoadErrorKind;
+use crate::capture::room::{reserve, zeroed_column};
 use memchr::{memchr, memchr_iter, memrchr};
 use rayon::prelude::*;
 use std::fs::File;
@@ -52,9 +52,8 @@ impl Out<'_> {
             for (spill, &x) in self.spills.iter_mut().zip(row) {
                 // no room to be had: the reference reader tries, and says so if it fails too
                 if spill.len() == spill.capacity() {
-                    spill
-                        .try_reserve(spill.len() / 2 + 1024)
-                        .map_err(|_| GiveUp)?;
+                    let more = spill.len() / 2 + 1024;
+                    crate::memory::fallible(|| spill.try_reserve(more)).map_err(|_| GiveUp)?;
                 }
                 spill.push(x);
             }
@@ -104,6 +103,20 @@ pub(super) fn read(
     }
     let cancel = AtomicBool::new(false);
     let block = tuning.block_bytes.max(1);
+    // each part's read buffer, asked for here so that a refusal is this file's error
+    let mut buffers = Vec::with_capacity(caps.len());
+    for _ in 0..caps.len() {
+        let mut buf: Vec<u8> = Vec::new();
+        crate::memory::fallible(|| buf.try_reserve_exact(block)).map_err(|_| {
+            LoadErrorKind::OutOfMemory {
+                bytes: block as u64,
+                rows: total as u64,
+                columns: width,
+            }
+        })?;
+        buf.resize(block, 0);
+        buffers.push(buf);
+    }
     let results: Vec<Result<Part, GiveUp>> = {
         // shares[c][k]: part k's share of column c, turned into one `Out` per part
         let mut shares: Vec<std::vec::IntoIter<&mut [f64]>> = columns
@@ -118,15 +131,16 @@ pub(super) fn read(
         });
         let last = caps.len() - 1;
         let jobs: Vec<_> = outs
+            .zip(buffers)
             .enumerate()
-            .map(|(k, out)| {
+            .map(|(k, (out, buf))| {
                 // The last part reads on to the end of the file, as the reference reader does.
                 let limit = (k < last).then(|| bounds[k + 1] - bounds[k]);
-                (bounds[k], limit, out)
+                (bounds[k], limit, out, buf)
             })
             .collect();
-        let run = |(start, limit, mut out): (u64, Option<u64>, Out<'_>)| {
-            let r = read_part(path, start, limit, spec, block, &mut out, &cancel);
+        let run = |(start, limit, mut out, buf): (u64, Option<u64>, Out<'_>, Vec<u8>)| {
+            let r = read_part(path, start, limit, spec, buf, &mut out, &cancel);
             if r.is_err() {
                 cancel.store(true, Ordering::Relaxed);
             }
@@ -276,20 +290,20 @@ fn assemble(
     Ok(col)
 }
 
-/// Reads one part (`limit` bytes from `start`, or to the end of the file) into `out`.
+/// Reads one part (`limit` bytes from `start`, or to the end of the file) into `out`, in blocks
+/// the size of `buf` (doubled for a longer line).
 fn read_part(
     path: &Path,
     start: u64,
     limit: Option<u64>,
     spec: &RowSpec,
-    block: usize,
+    mut buf: Vec<u8>,
     out: &mut Out<'_>,
     cancel: &AtomicBool,
 ) -> Result<(), GiveUp> {
     let mut file = File::open(path).map_err(|_| GiveUp)?;
     file.seek(SeekFrom::Start(start)).map_err(|_| GiveUp)?;
     let mut src = file.take(limit.unwrap_or(u64::MAX));
-    let mut buf = vec![0u8; block];
     let mut filled = 0;
     loop {
         if cancel.load(Ordering::Relaxed) {
