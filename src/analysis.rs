@@ -126,6 +126,9 @@ pub struct PhaseAnalysis {
     pub skew_s: f64,
     /// The first cycles of both traces, for plots.
     pub preview: Preview,
+    /// This phase's current was not measured but made from the other lines' by Kirchhoff's
+    /// current law (a 3-wire capture with two clamps): its errors are theirs.
+    pub current_derived: bool,
 }
 
 /// What a three-phase capture gives beyond its phases.
@@ -504,6 +507,7 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             uncertainty,
             skew_s: phase_skew(k),
             preview,
+            current_derived: ps.current_trace.is_none(),
         });
     }
     // the neutral current's own delay, with --skew as for the line currents

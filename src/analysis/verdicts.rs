@@ -48,6 +48,7 @@ impl Analysis {
             warnings: self.warnings.clone(),
             fundamentals: q.fundamentals,
             line_to_line_voltages: self.three_phase.as_ref().is_some_and(|t| t.artificial_star),
+            current_derived: phase.current_derived,
         })
     }
 

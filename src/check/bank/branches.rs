@@ -40,7 +40,8 @@
 //! `u(Q1)/V1` and its voltage phasor by `u(V1)` along each axis, from the capture's own Type A
 //! parts of Q1 and V1 ([`BankSide::u_q_type_a_var`], [`BankSide::u_v1_type_a`]: the spread over
 //! the about-200 ms windows, or the fit noise). The frequency enters `C = B/ω` once. A current
-//! found by Kirchhoff from two clamps is counted as if it had its own clamp (an approximation).
+//! made by Kirchhoff's law from two clamps (a 3-wire capture) has no clamp, phase error or
+//! spread of its own: it is made again from the two after each of their moves.
 //! The residual's expected size is worked out from the same moves, and a residual beyond
 //! k = 2 times it (our rule) makes the branch verdicts `inconclusive`.
 
@@ -134,6 +135,17 @@ impl Phasors {
         Phasors {
             v: [0, 1, 2].map(|k| sides[k].fundamentals.0),
             i: [0, 1, 2].map(|k| sides[k].fundamentals.1),
+        }
+    }
+
+    /// The current of line `derived`, when it was made from the other two by Kirchhoff's
+    /// current law, made again after they moved.
+    fn close(&mut self, derived: Option<usize>) {
+        if let Some(d) = derived {
+            self.i[d] = -(0..3)
+                .filter(|&k| k != d)
+                .map(|k| self.i[k])
+                .sum::<Complex64>();
         }
     }
 
@@ -266,10 +278,16 @@ fn budget_lines(
     let inst = &after[0].instrument;
     let f = after[0].frequency_hz;
     let unsolved = || "the branch equations could not be solved with an input moved".to_string();
+    // a current made from two clamps by Kirchhoff's law follows them: it has no clamp, phase
+    // error or spread of its own
+    let derived = |sides: &[BankSide]| sides.iter().take(3).position(|s| s.current_derived);
+    let (db, da) = (derived(before), derived(after));
     let both = |change: &dyn Fn(&mut Phasors)| {
         let (mut b, mut a) = (*pb, *pa);
         change(&mut b);
         change(&mut a);
+        b.close(db);
+        a.close(da);
         (b, a)
     };
     let mut lines = Vec::new();
@@ -349,6 +367,7 @@ fn budget_lines(
     );
     for (which, sides, is_after) in [("before", before, false), ("after", after, true)] {
         let mut moves = Vec::new();
+        let d = derived(sides);
         for (k, s) in sides.iter().enumerate().take(3) {
             let u_i = s.u_q_type_a_var / s.v1;
             let u_v = s.u_v1_type_a;
@@ -360,10 +379,14 @@ fn budget_lines(
             }
             for step in [Complex64::new(1.0, 0.0), Complex64::i()] {
                 for (on_current, u) in [(true, u_i), (false, u_v)] {
+                    if on_current && d == Some(k) {
+                        continue; // the spread of the two clamps it is made from
+                    }
                     let (mut b, mut a) = (*pb, *pa);
                     let p = if is_after { &mut a } else { &mut b };
                     if on_current {
                         p.i[k] += step * u;
+                        p.close(d);
                     } else {
                         p.v[k] += step * u;
                     }

@@ -82,6 +82,9 @@ pub struct BankSide {
     /// to the artificial star point, and the differences of two phases are the measured
     /// line-to-line voltages.
     pub line_to_line_voltages: bool,
+    /// The current was not measured but made from the other two lines' by Kirchhoff's current
+    /// law (a 3-wire capture with two clamps; of the totals: whether any phase's was).
+    pub current_derived: bool,
 }
 
 impl BankSide {
@@ -130,6 +133,7 @@ impl BankSide {
             warnings,
             fundamentals: first.map_or(Default::default(), |s| s.fundamentals),
             line_to_line_voltages: first.is_some_and(|s| s.line_to_line_voltages),
+            current_derived: phases.iter().any(|s| s.current_derived),
         }
     }
 }
@@ -712,6 +716,7 @@ mod tests {
             warnings: Vec::new(),
             fundamentals: Default::default(),
             line_to_line_voltages: false,
+            current_derived: false,
         }
     }
 

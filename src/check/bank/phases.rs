@@ -249,6 +249,7 @@ mod tests {
             warnings: Vec::new(),
             fundamentals: Default::default(),
             line_to_line_voltages: false,
+            current_derived: false,
         }
     }
 
