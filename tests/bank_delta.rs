@@ -250,6 +250,20 @@ fn bank_json(before: &Path, after: &Path, extra: &[&str]) -> (i32, BankJson) {
     (out.status.code().unwrap(), r)
 }
 
+/// The delta bank with branch a-b at 80 % of its rated capacitance, captured off and on in
+/// `dir` (the two captures start at different instants, so their phasors' references differ):
+/// the branches' true capacitances, then the before- and after-capture.
+fn weak_ab_bank(dir: &Path, wiring: Wiring) -> ([f64; 3], PathBuf, PathBuf) {
+    let c = rated_branch_farad();
+    let truth = [0.8 * c, c, c];
+    let load = load_currents();
+    let bank_i = delta_currents(truth);
+    let on = [0, 1, 2].map(|k| load[k] + bank_i[k]);
+    let before = write_capture(dir, "off.csv", load, wiring, 0.0017, 11);
+    let after = write_capture(dir, "on.csv", on, wiring, 0.0123, 21);
+    (truth, before, after)
+}
+
 /// The captures' noise (70 dB below each channel, 5 000 samples) moves a fitted phasor by about
 /// 10^(−70/20)·√(2/N) ≈ 6e-6 of its size; ΔI is the difference of two line currents of similar
 /// size, so each resolved B is good to some 1e-5. 0.1 % is a hundred times that, and well inside
@@ -264,13 +278,7 @@ fn a_delta_bank_with_a_weak_branch_names_that_branch() {
     for (wiring, label) in [(Wiring::FourWire, "4-wire"), (Wiring::ThreeWire, "3-wire")] {
         let dir = TempDir::new().unwrap();
         let c = rated_branch_farad();
-        let truth = [0.8 * c, c, c];
-        let load = load_currents();
-        let bank_i = delta_currents(truth);
-        let on = [0, 1, 2].map(|k| load[k] + bank_i[k]);
-        // the two captures start at different instants: their phasors' references differ
-        let before = write_capture(dir.path(), "off.csv", load, wiring, 0.0017, 11);
-        let after = write_capture(dir.path(), "on.csv", on, wiring, 0.0123, 21);
+        let (truth, before, after) = weak_ab_bank(dir.path(), wiring);
         let (code, r) = bank_json(&before, &after, &["--connection", "delta"]);
         // the whole bank delivers 28 of 30 kvar, 93.3 % ± about 2.4 %: that straddles the
         // band's 95 %, so the bank as a whole is inconclusive; its branches are not
@@ -593,14 +601,7 @@ fn with_clamp_off(path: &Path, col: usize, factor: f64, name: &str) -> PathBuf {
 #[test]
 fn a_current_made_from_two_clamps_carries_their_errors_not_its_own() {
     let dir = TempDir::new().unwrap();
-    let c = rated_branch_farad();
-    let truth = [0.8 * c, c, c];
-    let load = load_currents();
-    let bank_i = delta_currents(truth);
-    let on = [0, 1, 2].map(|k| load[k] + bank_i[k]);
-    let wiring = Wiring::TwoClamps;
-    let before = write_capture(dir.path(), "off.csv", load, wiring, 0.0017, 11);
-    let after = write_capture(dir.path(), "on.csv", on, wiring, 0.0123, 21);
+    let (_, before, after) = weak_ab_bank(dir.path(), Wiring::TwoClamps);
     let only_clamps = [
         "--connection",
         "delta",
