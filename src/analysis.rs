@@ -354,38 +354,6 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         skew_s: phase_skew(0),
         ..*settings
     };
-    // the first phase finds the frequency; the others are fitted at it, so every phasor refers
-    // to the same instant and the same frequency
-    let mut estimates = Vec::with_capacity(samples.len());
-    // a phase a that carries no current at all: the frequency comes from two voltages
-    let flat = |y: &[f64]| y.first().is_some_and(|&f| y.iter().all(|&x| x == f));
-    let mut first_hz = None;
-    if many && flat(&samples[0].current) {
-        let e = estimate::estimate(
-            &samples[0].voltage,
-            &samples[1].voltage,
-            rate,
-            settings.harmonics,
-        )
-        .map_err(fail)?;
-        first_hz = Some(e.frequency_hz);
-    }
-    let phase_estimate = |k: usize, known: Option<f64>| {
-        let ps = &samples[k];
-        let est = estimate::estimate_at(&ps.voltage, &ps.current, rate, settings.harmonics, known)
-            .map_err(fail)?;
-        let q = quantity::quantities(
-            &ps.voltage,
-            &ps.current,
-            rate,
-            &est,
-            &QuantitySettings {
-                skew_s: phase_skew(k),
-                harmonics: settings.harmonics,
-            },
-        );
-        Ok::<_, AnalysisError>((est, q))
-    };
     // clipping and resolution: once per trace as loaded
     let traces: Vec<(&crate::capture::Trace, Trace)> = capture
         .voltages
@@ -399,42 +367,76 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             condition::few_levels(&t.samples),
         )
     };
-    // the first phase (or the two voltages) gives the frequency while the traces are scanned
-    // for clipping, which needs no frequency (each trace a task: the other core takes them
-    // whenever the first phase's work leaves it free)
-    let (first, checks): (_, Vec<(Option<f64>, Option<usize>)>) = rayon::join(
-        || phase_estimate(0, first_hz),
+    // The first phase finds the frequency (from its two voltages when phase a carries no
+    // current at all) while the traces are scanned for clipping, which needs no frequency.
+    // Every phase is then fitted at that frequency, so every phasor refers to the same instant
+    // and the same frequency.
+    let flat = |y: &[f64]| y.first().is_some_and(|&f| y.iter().all(|&x| x == f));
+    let no_current_on_a = many && flat(&samples[0].current);
+    let (found, checks): (_, Vec<(Option<f64>, Option<usize>)>) = rayon::join(
+        || {
+            let (x, y) = if no_current_on_a {
+                (&samples[0].voltage, &samples[1].voltage)
+            } else {
+                (&samples[0].voltage, &samples[0].current)
+            };
+            estimate::frequency(x, y, rate, settings.harmonics)
+        },
         || traces.par_iter().map(|(t, _)| scan(t)).collect(),
     );
-    let first = first?;
-    let known = Some(first.0.frequency_hz);
-    estimates.push(first);
-    // the other phases are fitted at that frequency side by side, and the events, which need
-    // only the samples and the frequency, are looked for alongside (two cores when free),
-    // results in phase order
-    let frequency_hz = estimates[0].1.frequency_hz;
-    let (rest, (events, dip_references)): (Vec<Result<(Estimate, Quantities), AnalysisError>>, _) =
-        rayon::join(
-            || {
-                (1..samples.len())
-                    .into_par_iter()
-                    .map(|k| phase_estimate(k, known))
-                    .collect()
-            },
-            || {
-                record_events(
-                    &samples,
-                    rate,
-                    frequency_hz,
-                    span.start_s(),
-                    capture.system,
-                    settings.declared_voltage_v,
-                )
+    let found = found.map_err(fail)?;
+    let frequency_hz = found.hz;
+    // phase k's fit: at the frequency found on its own traces (phase a's), or given
+    let phase_estimate = |k: usize, found: Option<estimate::Frequency<'_>>| {
+        let ps = &samples[k];
+        let (v, i) = (&ps.voltage, &ps.current);
+        let est = match found {
+            Some(found) => estimate::estimate_found(v, i, rate, settings.harmonics, found),
+            None => estimate::estimate_at(v, i, rate, settings.harmonics, Some(frequency_hz)),
+        }
+        .map_err(fail)?;
+        let q = quantity::quantities(
+            v,
+            i,
+            rate,
+            &est,
+            &QuantitySettings {
+                skew_s: phase_skew(k),
+                harmonics: settings.harmonics,
             },
         );
-    for r in rest {
-        estimates.push(r?);
-    }
+        Ok::<_, AnalysisError>((est, q))
+    };
+    let first_found = (!no_current_on_a).then_some(found);
+    // The phases are fitted side by side, and the events, which need only the samples and the
+    // frequency, are looked for alongside (two cores when free), results in phase order.
+    let (estimates, (events, dip_references)) = rayon::join(
+        || {
+            let (first, rest): (_, Vec<_>) = rayon::join(
+                || phase_estimate(0, first_found),
+                || {
+                    (1..samples.len())
+                        .into_par_iter()
+                        .map(|k| phase_estimate(k, None))
+                        .collect()
+                },
+            );
+            std::iter::once(first)
+                .chain(rest)
+                .collect::<Result<Vec<_>, _>>()
+        },
+        || {
+            record_events(
+                &samples,
+                rate,
+                frequency_hz,
+                span.start_s(),
+                capture.system,
+                settings.declared_voltage_v,
+            )
+        },
+    );
+    let estimates = estimates?;
     for ((t, kind), (clip, levels)) in traces.iter().zip(checks) {
         let on = |w: Warning| match (many, t.place) {
             (true, Place::Phase(p)) => Warning::OnPhase {

@@ -20,6 +20,7 @@ pub mod zero_crossing;
 use crate::condition::{block_average_gain, decimate, whole_cycles};
 use crate::warning::Trace;
 use rustfft::num_complex::Complex64;
+use std::borrow::Cow;
 use std::f64::consts::{PI, SQRT_2};
 use std::ops::Range;
 pub use zero_crossing::CrossingPhase;
@@ -252,9 +253,85 @@ pub fn estimate_at(
     wanted_order: usize,
     known_hz: Option<f64>,
 ) -> Result<Estimate, EstimateError> {
+    match known_hz {
+        Some(f) => {
+            check_traces(v, i, true)?;
+            estimate_found(v, i, fs, wanted_order, Frequency::given(f))
+        }
+        None => {
+            let found = frequency(v, i, fs, wanted_order)?;
+            estimate_found(v, i, fs, wanted_order, found)
+        }
+    }
+}
+
+/// The fundamental frequency of `v` and `i` (of `v` when it has one, else of `i`), found as
+/// [`estimate`] finds it, for [`estimate_found`] to fit at: a three-phase capture's first phase
+/// gives the frequency every phase is fitted at, and the other phases need not wait for its fit.
+pub fn frequency<'a>(
+    v: &'a [f64],
+    i: &'a [f64],
+    fs: f64,
+    wanted_order: usize,
+) -> Result<Frequency<'a>, EstimateError> {
+    check_traces(v, i, false)?;
+    let (coarse_hz, source) = match frequency::coarse(v, fs) {
+        Some(f) => (f, Trace::Voltage),
+        None => (
+            frequency::coarse(i, fs).ok_or(EstimateError::NoPeriodicSignal)?,
+            Trace::Current,
+        ),
+    };
+    let (order, decimation) = order_and_decimation(fs, coarse_hz, wanted_order)?;
+    let y = if source == Trace::Voltage { v } else { i };
+    let yd = decimate(y, decimation);
+    let refined = frequency::refine(&yd, fs / decimation as f64, coarse_hz, order);
+    Ok(Frequency {
+        hz: refined.hz,
+        coarse_hz,
+        source,
+        refined: Some(refined),
+        decimated: Some(yd),
+    })
+}
+
+/// A fundamental frequency to fit at: given, or found by [`frequency`] (with what its
+/// uncertainty follows from, and the decimated trace it was refined on, which the fit reuses).
+#[derive(Debug, Clone)]
+pub struct Frequency<'a> {
+    /// Frequency, Hz.
+    pub hz: f64,
+    /// The spectrum's estimate, which sets the fitted order and the decimation (the frequency
+    /// itself when it was given).
+    coarse_hz: f64,
+    /// The trace it was found on.
+    source: Trace,
+    /// The refinement, when it was found here.
+    refined: Option<frequency::Refined>,
+    /// The source trace, decimated for the refinement.
+    decimated: Option<Cow<'a, [f64]>>,
+}
+
+impl Frequency<'_> {
+    /// A frequency known from elsewhere (another phase's of the same record).
+    pub fn given(hz: f64) -> Self {
+        Frequency {
+            hz,
+            coarse_hz: hz,
+            source: Trace::Voltage,
+            refined: None,
+            decimated: None,
+        }
+    }
+}
+
+/// Refuses traces that cannot be analysed: too short, flat (a flat current is no current when
+/// the frequency is `known`, a phase that carries no load), or out of the arithmetic's range.
+fn check_traces(v: &[f64], i: &[f64], known: bool) -> Result<(), EstimateError> {
     if v.len() < MIN_SAMPLES {
         return Err(EstimateError::TooShort(v.len()));
     }
+    let known_hz = known.then_some(0.0);
     for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
         let flat = y
             .first()
@@ -270,43 +347,61 @@ pub fn estimate_at(
             return Err(EstimateError::OutOfRange(t, peak));
         }
     }
-    let (coarse_hz, source) = match known_hz {
-        Some(f) => (f, Trace::Voltage),
-        None => match frequency::coarse(v, fs) {
-            Some(f) => (f, Trace::Voltage),
-            None => (
-                frequency::coarse(i, fs).ok_or(EstimateError::NoPeriodicSignal)?,
-                Trace::Current,
-            ),
-        },
-    };
-    let order_limit = (NYQUIST_SHARE * fs / 2.0 / coarse_hz).floor() as usize;
+    Ok(())
+}
+
+/// The harmonic order a record at `fs` can carry near `hz` (at most the wanted one, at least
+/// [`MIN_FIT_ORDER`] where the rate allows), the limit itself, and the block-average factor
+/// that keeps every fitted harmonic well below the reduced rate.
+fn order_and_decimation(
+    fs: f64,
+    hz: f64,
+    wanted_order: usize,
+) -> Result<(usize, usize), EstimateError> {
+    let order_limit = order_limit(fs, hz)?;
+    let order = order_limit.min(wanted_order.max(MIN_FIT_ORDER));
+    let decimation = ((fs / (OVERSAMPLE_KEEP * 2.0 * order as f64 * hz)).floor() as usize).max(1);
+    Ok((order, decimation))
+}
+
+/// The highest order below [`NYQUIST_SHARE`] of the Nyquist frequency.
+fn order_limit(fs: f64, hz: f64) -> Result<usize, EstimateError> {
+    let order_limit = (NYQUIST_SHARE * fs / 2.0 / hz).floor() as usize;
     if order_limit < 1 {
         return Err(EstimateError::RateTooLow {
             rate_hz: fs,
-            frequency_hz: coarse_hz,
+            frequency_hz: hz,
         });
     }
-    let order = order_limit.min(wanted_order.max(MIN_FIT_ORDER));
-    let decimation =
-        ((fs / (OVERSAMPLE_KEEP * 2.0 * order as f64 * coarse_hz)).floor() as usize).max(1);
-    // The two traces are independent until the angle: each gets its own thread.
-    let (vd, id) = both(|| decimate(v, decimation), || decimate(i, decimation));
+    Ok(order_limit)
+}
+
+/// [`estimate`] at a frequency found by [`frequency`] on these traces, or given (the traces
+/// then checked by the caller as [`estimate_at`] checks them).
+pub fn estimate_found(
+    v: &[f64],
+    i: &[f64],
+    fs: f64,
+    wanted_order: usize,
+    found: Frequency<'_>,
+) -> Result<Estimate, EstimateError> {
+    let Frequency {
+        hz: f,
+        coarse_hz,
+        source,
+        refined,
+        decimated,
+    } = found;
+    let order_limit = order_limit(fs, coarse_hz)?;
+    let (order, decimation) = order_and_decimation(fs, coarse_hz, wanted_order)?;
+    // The two traces are independent until the angle: each gets its own thread (the one the
+    // frequency was refined on is decimated already).
+    let (vd, id) = match (decimated, source) {
+        (Some(yd), Trace::Voltage) => (yd, decimate(i, decimation)),
+        (Some(yd), Trace::Current) => (decimate(v, decimation), yd),
+        (None, _) => both(|| decimate(v, decimation), || decimate(i, decimation)),
+    };
     let fsd = fs / decimation as f64;
-    let refined = match known_hz {
-        Some(_) => None,
-        None => Some(frequency::refine(
-            if source == Trace::Voltage { &vd } else { &id },
-            fsd,
-            coarse_hz,
-            order,
-        )),
-    };
-    let f = match (known_hz, refined) {
-        (Some(f), _) => f,
-        (None, Some(r)) => r.hz,
-        (None, None) => coarse_hz,
-    };
     let cycles = v.len() as f64 * f / fs;
     if !(cycles >= 2.0) {
         return Err(EstimateError::TooFewCycles {
