@@ -10,6 +10,8 @@
 //! removed per harmonic as phase corrections ([`crate::quantity`] within a phase,
 //! [`crate::analysis::analyze`] across phases), which is exact for any fraction of a sample.
 
+mod scan;
+
 use crate::capture::{Capture, Phase, Place, System};
 use std::borrow::Cow;
 use std::f64::consts::PI;
@@ -210,31 +212,10 @@ pub fn whole_cycles(len: usize, samples_per_cycle: f64) -> (usize, usize) {
 /// `acos(1 − q/A)/π` of each cycle; a clipped one for much longer. The step q is the gap between
 /// the extreme value and the next distinct value below (above) it.
 pub fn clipping(y: &[f64]) -> Option<f64> {
-    // One pass: the extremes, how often each occurs, and the nearest distinct value inside each.
-    // A new maximum makes the old one the largest value below it (every earlier sample was at
-    // most the old maximum), and likewise for the minimum.
-    let (mut hi, mut n_hi, mut below_hi) = (f64::NEG_INFINITY, 0usize, f64::NEG_INFINITY);
-    let (mut lo, mut n_lo, mut above_lo) = (f64::INFINITY, 0usize, f64::INFINITY);
-    for &x in y {
-        if x > hi {
-            below_hi = hi;
-            hi = x;
-            n_hi = 1;
-        } else if x == hi {
-            n_hi += 1;
-        } else if x > below_hi {
-            below_hi = x;
-        }
-        if x < lo {
-            above_lo = lo;
-            lo = x;
-            n_lo = 1;
-        } else if x == lo {
-            n_lo += 1;
-        } else if x < above_lo {
-            above_lo = x;
-        }
-    }
+    // Two vectorised passes: the extremes, then how often each occurs and the nearest distinct
+    // value inside each (a one-pass scan with branches took about 3 ns a sample).
+    let (hi, lo) = scan::extremes(y);
+    let (n_hi, below_hi, n_lo, above_lo) = scan::next_to_extremes(y, hi, lo);
     let amplitude = (hi - lo) / 2.0;
     if !(amplitude > 0.0) {
         return None;

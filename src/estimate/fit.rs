@@ -229,11 +229,20 @@ impl Basis {
 
     /// Fits one record; `None` when the normal equations are singular.
     pub fn fit(&mut self, y: &[f64]) -> Option<HarmonicFit> {
+        if y.len() < 2 * self.order + 2 {
+            return None;
+        }
+        self.prepare(y.len(), self.order);
+        self.fit_shared(y)
+    }
+
+    /// [`Basis::fit`] on a basis shared between threads: the same result, the factors for
+    /// `y`'s length taken from those [`Basis::prepare`] made (or made for this fit alone).
+    pub fn fit_shared(&self, y: &[f64]) -> Option<HarmonicFit> {
         let (n, order) = (y.len(), self.order);
         if n < 2 * order + 2 {
             return None;
         }
-        self.prepare(n, order);
         let (whole, _) = self.project_many(&[y], &[]).pop()?;
         self.solve_projection(n, order, whole, dot(y, y))
     }
