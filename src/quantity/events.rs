@@ -326,12 +326,30 @@ fn cycle_phasors(v: &[f64], i: &[f64], a: usize, b: usize, omega: f64) -> (Compl
     (vp, ip)
 }
 
+/// The median of the finite values of `x` (NaN when there are none).
 fn median(x: &[f64]) -> f64 {
+    // the few cycles either side of a step (most calls) sorted on the stack, not the heap
+    const SMALL: usize = 16;
+    if x.len() <= SMALL {
+        let mut buf = [0.0f64; SMALL];
+        let mut n = 0;
+        for &v in x.iter().filter(|v| v.is_finite()) {
+            buf[n] = v;
+            n += 1;
+        }
+        return median_of_finite(&mut buf[..n]);
+    }
     let mut s: Vec<f64> = x.iter().copied().filter(|v| v.is_finite()).collect();
+    median_of_finite(&mut s)
+}
+
+/// The median of `s`, which it sorts (NaN when empty).
+fn median_of_finite(s: &mut [f64]) -> f64 {
     if s.is_empty() {
         return f64::NAN;
     }
-    s.sort_by(f64::total_cmp);
+    // values equal under total_cmp are the same bits: which of them lands where cannot matter
+    s.sort_unstable_by(f64::total_cmp);
     let m = s.len() / 2;
     if s.len() % 2 == 1 {
         s[m]
