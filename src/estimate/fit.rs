@@ -433,14 +433,26 @@ impl Basis {
             };
             let len = BLOCK.min(edge - n0);
             let padded = len.div_ceil(4) * 4;
-            for (chunk, y) in chunks.iter_mut().zip(ys) {
-                chunk[..len].copy_from_slice(&y[n0..n0 + len]);
-                chunk[len..padded].fill(0.0);
+            // a chunk of whole groups of four is read where it lies; a shorter one is copied
+            // and padded with zeros (the sums are the same either way)
+            let direct = len == padded;
+            if !direct {
+                for (chunk, y) in chunks.iter_mut().zip(ys) {
+                    chunk[..len].copy_from_slice(&y[n0..n0 + len]);
+                    chunk[len..padded].fill(0.0);
+                }
             }
-            for (ch, sm) in chunks.chunks_exact(2).zip(sums.chunks_exact_mut(2)) {
-                if let ([x, z], [a, b]) = (ch, sm) {
+            let chunk = |k: usize| -> &[f64] {
+                if direct {
+                    &ys[k][n0..n0 + len]
+                } else {
+                    &chunks[k][..padded]
+                }
+            };
+            for (pair, sm) in sums.chunks_exact_mut(2).enumerate() {
+                if let [a, b] = sm {
                     table_sums_pair(
-                        [&x[..padded], &z[..padded]],
+                        [chunk(2 * pair), chunk(2 * pair + 1)],
                         tcos,
                         tsin,
                         BLOCK,
@@ -452,7 +464,7 @@ impl Basis {
             if ys.len() % 2 == 1 {
                 let k = ys.len() - 1;
                 let (c, s) = &mut sums[k];
-                table_sums(&chunks[k][..padded], tcos, tsin, BLOCK, c, s);
+                table_sums(chunk(k), tcos, tsin, BLOCK, c, s);
             }
             // Σ y e^{jhθ(start+m)} = e^{jhθ·start} (c + js). The turn e^{jhθ·start} is carried
             // from chunk to chunk by one multiplication per harmonic (independent, so they run
