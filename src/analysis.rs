@@ -405,11 +405,16 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
                 harmonics: settings.harmonics,
             },
         );
-        Ok::<_, AnalysisError>((est, q))
+        // its uncertainty and preview in the same task: they need nothing of the other phases
+        let uncertainty =
+            uncertainty::uncertainty(v, i, &est, &q, phase_skew(k), &settings.uncertainty);
+        let preview = Preview::new(v, i, rate, q.frequency_hz);
+        Ok::<_, AnalysisError>((est, q, uncertainty, preview))
     };
     let first_found = (!no_current_on_a).then_some(found);
-    // The phases are fitted side by side, and the events, which need only the samples and the
-    // frequency, are looked for alongside (two cores when free), results in phase order.
+    // The phases are fitted (with their quantities, uncertainty and preview) side by side, and
+    // the events, which need only the samples and the frequency, are looked for alongside (two
+    // cores when free), results in phase order.
     let (estimates, (events, dip_references)) = rayon::join(
         || {
             let (first, rest): (_, Vec<_>) = rayon::join(
@@ -462,27 +467,9 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             }));
         }
     }
-    // each phase's uncertainty and preview, side by side
-    let extras: Vec<(Uncertainty, Preview)> = samples
-        .par_iter()
-        .zip(&estimates)
-        .enumerate()
-        .map(|(k, (ps, (estimate, quantities)))| {
-            let uncertainty = uncertainty::uncertainty(
-                &ps.voltage,
-                &ps.current,
-                estimate,
-                quantities,
-                phase_skew(k),
-                &settings.uncertainty,
-            );
-            let preview = Preview::new(&ps.voltage, &ps.current, rate, quantities.frequency_hz);
-            (uncertainty, preview)
-        })
-        .collect();
     let mut phases = Vec::with_capacity(samples.len());
-    for (k, ((ps, (estimate, mut quantities)), (uncertainty, preview))) in
-        samples.iter().zip(estimates).zip(extras).enumerate()
+    for (k, (ps, (estimate, mut quantities, uncertainty, preview))) in
+        samples.iter().zip(estimates).enumerate()
     {
         for w in &quantities.warnings {
             warnings.push(if many {
