@@ -255,7 +255,7 @@ pub fn estimate_at(
 ) -> Result<Estimate, EstimateError> {
     match known_hz {
         Some(f) => {
-            check_traces(v, i, true)?;
+            check_traces(v, i, known_hz)?;
             estimate_found(v, i, fs, wanted_order, Frequency::given(f))
         }
         None => {
@@ -274,7 +274,7 @@ pub fn frequency<'a>(
     fs: f64,
     wanted_order: usize,
 ) -> Result<Frequency<'a>, EstimateError> {
-    check_traces(v, i, false)?;
+    check_traces(v, i, None)?;
     let (coarse_hz, source) = match frequency::coarse(v, fs) {
         Some(f) => (f, Trace::Voltage),
         None => (
@@ -282,7 +282,7 @@ pub fn frequency<'a>(
             Trace::Current,
         ),
     };
-    let (order, decimation) = order_and_decimation(fs, coarse_hz, wanted_order)?;
+    let (_, order, decimation) = order_and_decimation(fs, coarse_hz, wanted_order)?;
     let y = if source == Trace::Voltage { v } else { i };
     let yd = decimate(y, decimation);
     let refined = frequency::refine(&yd, fs / decimation as f64, coarse_hz, order);
@@ -326,12 +326,12 @@ impl Frequency<'_> {
 }
 
 /// Refuses traces that cannot be analysed: too short, flat (a flat current is no current when
-/// the frequency is `known`, a phase that carries no load), or out of the arithmetic's range.
-fn check_traces(v: &[f64], i: &[f64], known: bool) -> Result<(), EstimateError> {
+/// the frequency is known, `known_hz`: a phase that carries no load), or out of the
+/// arithmetic's range.
+fn check_traces(v: &[f64], i: &[f64], known_hz: Option<f64>) -> Result<(), EstimateError> {
     if v.len() < MIN_SAMPLES {
         return Err(EstimateError::TooShort(v.len()));
     }
-    let known_hz = known.then_some(0.0);
     for (y, t) in [(v, Trace::Voltage), (i, Trace::Current)] {
         let flat = y
             .first()
@@ -350,18 +350,18 @@ fn check_traces(v: &[f64], i: &[f64], known: bool) -> Result<(), EstimateError> 
     Ok(())
 }
 
-/// The harmonic order a record at `fs` can carry near `hz` (at most the wanted one, at least
-/// [`MIN_FIT_ORDER`] where the rate allows), the limit itself, and the block-average factor
-/// that keeps every fitted harmonic well below the reduced rate.
+/// The highest order a record at `fs` can carry near `hz` (see [`order_limit`]), the order to
+/// fit (at most the wanted one, at least [`MIN_FIT_ORDER`] where the rate allows), and the
+/// block-average factor that keeps every fitted harmonic well below the reduced rate.
 fn order_and_decimation(
     fs: f64,
     hz: f64,
     wanted_order: usize,
-) -> Result<(usize, usize), EstimateError> {
+) -> Result<(usize, usize, usize), EstimateError> {
     let order_limit = order_limit(fs, hz)?;
     let order = order_limit.min(wanted_order.max(MIN_FIT_ORDER));
     let decimation = ((fs / (OVERSAMPLE_KEEP * 2.0 * order as f64 * hz)).floor() as usize).max(1);
-    Ok((order, decimation))
+    Ok((order_limit, order, decimation))
 }
 
 /// The highest order below [`NYQUIST_SHARE`] of the Nyquist frequency.
@@ -392,8 +392,7 @@ pub fn estimate_found(
         refined,
         decimated,
     } = found;
-    let order_limit = order_limit(fs, coarse_hz)?;
-    let (order, decimation) = order_and_decimation(fs, coarse_hz, wanted_order)?;
+    let (order_limit, order, decimation) = order_and_decimation(fs, coarse_hz, wanted_order)?;
     // The two traces are independent until the angle: each gets its own thread (the one the
     // frequency was refined on is decimated already).
     let (vd, id) = match (decimated, source) {
