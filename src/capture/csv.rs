@@ -1078,6 +1078,7 @@ pub(crate) fn decimal(s: &[u8]) -> Option<(f64, usize)> {
 
 /// The fast reader (see its module note).
 pub(crate) mod datetime;
+mod digits;
 mod fast;
 
 #[cfg(test)]
@@ -1326,6 +1327,45 @@ mod tests {
             let (fast, reference) = both_readers(f.path(), tiny(parts, block));
             let reference = reference.unwrap();
             assert_eq!((reference.data[0][3], reference.data[1][3]), (6.25, 3.5));
+            assert_eq!(
+                fast.as_ref(),
+                Some(&reference),
+                "{parts} parts, block {block}"
+            );
+        }
+    }
+
+    /// The line walk reads plain rows eight bytes at a time and sends any other row to the cell
+    /// reader: rows of both kinds in one part, a skipped column, columns past the last one
+    /// wanted, blank lines and a last line without its newline all come out as the csv crate
+    /// reads them.
+    #[test]
+    fn plain_and_other_rows_mixed_are_read_as_the_csv_reader_reads_them() {
+        let mut text = String::from("time,v,note,i,spare,more\n");
+        for k in 0..400 {
+            let t = format!("{}.25", 100 + k);
+            let row = match k % 9 {
+                0 => format!("{t},-{k}.25,x,+0.5,1,2"),
+                1 => format!("{t},123456789.5,x,-.5,1,2"), // nine digits before the point
+                2 => format!("{t},1.5e2,x,7.,1,2"),        // an exponent
+                3 => format!("{t},12.5 ,x, 0.125,1,2"),    // a space after, one before
+                4 => format!("{t},0.123456789,x,1,1,2"),   // nine after it
+                5 => format!("{t},{k},,{k}.0625"),         // ends at the last wanted column
+                _ => format!("{t},{k}.5,note {k},-{k},,"),
+            };
+            text.push_str(&row);
+            text.push_str(if k % 50 == 3 { "\n\n" } else { "\n" });
+        }
+        text.pop(); // no newline after the last row
+        let f = temp_csv(text.as_bytes());
+        for (parts, block) in TUNINGS {
+            let (fast, reference) = both_readers(f.path(), tiny(parts, block));
+            let reference = reference.unwrap();
+            assert_eq!(reference.rows(), 400);
+            assert_eq!(
+                (reference.data[0][1], reference.data[1][1]),
+                (123456789.5, -0.5)
+            );
             assert_eq!(
                 fast.as_ref(),
                 Some(&reference),
