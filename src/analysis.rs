@@ -361,19 +361,20 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         .map(|t| (t, Trace::Voltage))
         .chain(capture.currents.iter().map(|t| (t, Trace::Current)))
         .collect();
+    // the clipping check's passes (judged once the frequency is known) and the levels
     let scan = |t: &crate::capture::Trace| {
         (
-            condition::clipping(&t.samples),
+            condition::tops(&t.samples),
             condition::few_levels(&t.samples),
         )
     };
     // The first phase finds the frequency (from its two voltages when phase a carries no
-    // current at all) while the traces are scanned for clipping, which needs no frequency.
+    // current at all) while the traces are scanned for their tops, which need no frequency.
     // Every phase is then fitted at that frequency, so every phasor refers to the same instant
     // and the same frequency.
     let flat = |y: &[f64]| y.first().is_some_and(|&f| y.iter().all(|&x| x == f));
     let no_current_on_a = many && flat(&samples[0].current);
-    let (found, checks): (_, Vec<(Option<f64>, Option<usize>)>) = rayon::join(
+    let (found, checks): (_, Vec<(condition::Tops, Option<usize>)>) = rayon::join(
         || {
             let (x, y) = if no_current_on_a {
                 (&samples[0].voltage, &samples[1].voltage)
@@ -442,7 +443,8 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
         },
     );
     let estimates = estimates?;
-    for ((t, kind), (clip, levels)) in traces.iter().zip(checks) {
+    for ((t, kind), (tops, levels)) in traces.iter().zip(checks) {
+        let clip = condition::clipping(&t.samples, &tops, rate / frequency_hz);
         let on = |w: Warning| match (many, t.place) {
             (true, Place::Phase(p)) => Warning::OnPhase {
                 phase: phase_letter(p),
