@@ -22,7 +22,7 @@
 //!   three-phase unit to 1.08 (from memory). Measured in service, through the supply, this is an
 //!   indication, not the standard's terminal test on a disconnected unit.
 
-use super::{BankConnection, BankSide, BankVerdict, Nameplate, delivery};
+use super::{BankConnection, BankSide, BankVerdict, Nameplate, budget, delivery};
 use crate::check::decision::decide;
 use serde::Serialize;
 
@@ -119,7 +119,12 @@ pub(super) fn balance(before: &[BankSide], after: &[BankSide], plate: &Nameplate
     let rated_uf = 1e6 * 1000.0 * plate.rated_kvar / (omega_rated * plate.rated_voltage.powi(2));
     let phase = |k: usize| {
         let (b, a) = (&before[k], &after[k]);
-        let d = delivery(b, a, plate);
+        let mut d = delivery(b, a, plate);
+        if b.current_derived || a.current_derived {
+            // no clamp of its own: the two it is made from, each once (see the budget)
+            let terms = budget::kirchhoff_current_terms(before, after, k, d.scale, d.expected);
+            d.budget = d.budget.with_current_terms(terms);
+        }
         let u_ratio = d.budget.ratio_expanded_uncertainty;
         let verdict = if d.ratio.is_finite() {
             BankVerdict::from(decide(d.ratio, u_ratio, low, high).verdict)
