@@ -71,7 +71,7 @@ pub fn ratio_budget(
     let mut terms = Vec::new();
     let u_i = rect(inst.i_ratio_percent / 100.0);
     terms.push(BudgetTerm {
-        term: "current probe ratio",
+        term: OWN_CURRENT_PROBE_TERMS[0],
         source: format!(
             "±{} % of reading, rectangular, the same in both captures",
             inst.i_ratio_percent
@@ -95,7 +95,7 @@ pub fn ratio_budget(
     let dp1_kw = scale * (before.p1_w - after.p1_w) / 1000.0;
     let u_phase_kvar = dp1_kw.abs() * u_delta_deg.to_radians();
     terms.push(BudgetTerm {
-        term: "probe phase error and skew",
+        term: OWN_CURRENT_PROBE_TERMS[1],
         source: format!(
             "±{}° and ±{} s of skew, rectangular, the same in both captures: moves delivered by \
              (P1 before − P1 after)·δ = {:.3} kW·δ",
