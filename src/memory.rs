@@ -249,8 +249,38 @@ fn give_up(bytes: usize) -> ! {
 
 /// The `tracephase` binary's global allocator: the system's, with a refused request outside
 /// [`fallible`] ending the process with one line naming the files in hand (exit code 2) instead
-/// of an abort.
+/// of an abort, and a large block's pages asked for as huge pages ([`advise_huge_pages`]).
 pub struct Guarded;
+
+/// Blocks of at least this many bytes get [`advise_huge_pages`]: a capture's columns, its
+/// decimated copies and the spectrum's buffers, not the many small ones.
+pub const HUGE_PAGE_MIN_BYTES: usize = 4 << 20;
+
+/// Asks Linux to back the 2 MiB-aligned inside of a fresh block of `bytes` at `ptr` with
+/// transparent huge pages when it is first written (`madvise(MADV_HUGEPAGE)`; where the machine
+/// leaves huge pages to such advice, the common setting, a block is otherwise faulted in
+/// 4 KiB at a time). Advice only: nothing is touched or promised, a refusal is ignored, and
+/// elsewhere this does nothing. Filling a 2-million-row capture's columns took about 8 000
+/// page faults; on the end-to-end benchmark every block with huge pages saved about 15 ms of
+/// CPU in 255 (DEVELOPERS.md).
+#[inline]
+pub fn advise_huge_pages(ptr: *mut u8, bytes: usize) {
+    #[cfg(target_os = "linux")]
+    if bytes >= HUGE_PAGE_MIN_BYTES && !ptr.is_null() {
+        const HUGE: usize = 2 << 20;
+        let start = (ptr as usize).next_multiple_of(HUGE);
+        let end = (ptr as usize + bytes) / HUGE * HUGE;
+        if end > start {
+            // SAFETY: [start, end) lies inside the live block the allocator just gave; the
+            // advice changes how its pages are backed, never their contents or the mapping.
+            unsafe {
+                libc::madvise(start as *mut libc::c_void, end - start, libc::MADV_HUGEPAGE);
+            }
+        }
+    }
+    #[cfg(not(target_os = "linux"))]
+    let _ = (ptr, bytes);
+}
 
 /// A null from the system allocator: returned inside [`fallible`], the end otherwise.
 #[inline]
@@ -270,6 +300,7 @@ unsafe impl GlobalAlloc for Guarded {
         if p.is_null() {
             refused(layout.size());
         }
+        advise_huge_pages(p, layout.size());
         p
     }
 
@@ -280,6 +311,7 @@ unsafe impl GlobalAlloc for Guarded {
         if p.is_null() {
             refused(layout.size());
         }
+        advise_huge_pages(p, layout.size());
         p
     }
 
@@ -296,6 +328,7 @@ unsafe impl GlobalAlloc for Guarded {
         if p.is_null() {
             refused(new_size);
         }
+        advise_huge_pages(p, new_size);
         p
     }
 }
