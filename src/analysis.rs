@@ -225,13 +225,7 @@ impl Preview {
     fn new(v: &[f64], i: &[f64], rate_hz: f64, frequency_hz: f64) -> Self {
         let n = ((PREVIEW_CYCLES * rate_hz / frequency_hz).ceil() as usize).min(v.len());
         let stride = n.div_ceil(PREVIEW_POINTS).max(1);
-        let range = |y: &[f64]| {
-            y.iter()
-                .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| {
-                    (lo.min(x), hi.max(x))
-                })
-        };
-        let (vr, ir) = (range(v), range(i));
+        let (vr, ir) = (condition::range(v), condition::range(i));
         Preview {
             time_s: (0..n).step_by(stride).map(|k| k as f64 / rate_hz).collect(),
             voltage: v[..n].iter().step_by(stride).copied().collect(),
@@ -396,20 +390,26 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
             None => estimate::estimate_at(v, i, rate, settings.harmonics, Some(frequency_hz)),
         }
         .map_err(fail)?;
-        let q = quantity::quantities(
-            v,
-            i,
-            rate,
-            &est,
-            &QuantitySettings {
-                skew_s: phase_skew(k),
-                harmonics: settings.harmonics,
+        // its quantities, uncertainty and preview in the same task: they need nothing of the
+        // other phases (the preview beside the other two: two cores when free)
+        let ((q, uncertainty), preview) = rayon::join(
+            || {
+                let q = quantity::quantities(
+                    v,
+                    i,
+                    rate,
+                    &est,
+                    &QuantitySettings {
+                        skew_s: phase_skew(k),
+                        harmonics: settings.harmonics,
+                    },
+                );
+                let u =
+                    uncertainty::uncertainty(v, i, &est, &q, phase_skew(k), &settings.uncertainty);
+                (q, u)
             },
+            || Preview::new(v, i, rate, est.frequency_hz),
         );
-        // its uncertainty and preview in the same task: they need nothing of the other phases
-        let uncertainty =
-            uncertainty::uncertainty(v, i, &est, &q, phase_skew(k), &settings.uncertainty);
-        let preview = Preview::new(v, i, rate, q.frequency_hz);
         Ok::<_, AnalysisError>((est, q, uncertainty, preview))
     };
     let first_found = (!no_current_on_a).then_some(found);

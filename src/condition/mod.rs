@@ -165,11 +165,31 @@ pub fn decimate(y: &[f64], factor: usize) -> Cow<'_, [f64]> {
         return Cow::Borrowed(y);
     }
     let inv = 1.0 / factor as f64;
-    Cow::Owned(
-        y.chunks_exact(factor)
-            .map(|c| c.iter().sum::<f64>() * inv)
-            .collect(),
-    )
+    // Four blocks summed side by side, each in sample order from −0.0 as `Iterator::sum` takes
+    // it (the same bits): one block's sum is a chain of dependent additions, which alone ran
+    // at about 1.7 ns a sample here.
+    let mut out = Vec::with_capacity(y.len() / factor);
+    let mut groups = y.chunks_exact(4 * factor);
+    for g in &mut groups {
+        let (a, rest) = g.split_at(factor);
+        let (b, rest) = rest.split_at(factor);
+        let (c, d) = rest.split_at(factor);
+        let mut s = [-0.0f64; 4];
+        for (((&a, &b), &c), &d) in a.iter().zip(b).zip(c).zip(d) {
+            s[0] += a;
+            s[1] += b;
+            s[2] += c;
+            s[3] += d;
+        }
+        out.extend(s.map(|x| x * inv));
+    }
+    out.extend(
+        groups
+            .remainder()
+            .chunks_exact(factor)
+            .map(|c| c.iter().sum::<f64>() * inv),
+    );
+    Cow::Owned(out)
 }
 
 /// Gain of a `factor`-sample block average for a sinusoid at `omega` rad/sample (input rate),
@@ -202,6 +222,20 @@ pub fn whole_cycles(len: usize, samples_per_cycle: f64) -> (usize, usize) {
     let cycles = ((len as f64 + WHOLE_CYCLE_SLACK) / samples_per_cycle).floor() as usize;
     let span = ((cycles as f64 * samples_per_cycle).round() as usize).min(len);
     (cycles, span)
+}
+
+/// The smallest and the largest sample of `y` (+∞ and −∞ for none; NaN is passed over, as
+/// `f64::min` and `f64::max` pass it over), by the clipping check's vectorised pass: a fold of
+/// `f64::min` cannot be vectorised and took about 1 ns a sample.
+pub fn range(y: &[f64]) -> (f64, f64) {
+    let (hi, lo) = scan::extremes(y);
+    (lo, hi)
+}
+
+/// The largest magnitude in `y` (0 for none; NaN is passed over), as `range` finds it.
+pub fn peak_magnitude(y: &[f64]) -> f64 {
+    let (lo, hi) = range(y);
+    hi.max(-lo).max(0.0)
 }
 
 /// A trace's extremes, how many samples sit on each, and the nearest distinct value inside
@@ -527,6 +561,33 @@ mod tests {
             let t = (m * d) as f64 + (d as f64 - 1.0) / 2.0;
             assert!((v - g * (omega * t + 0.3).cos()).abs() < 1e-12);
         }
+    }
+
+    /// The side-by-side block sums are the plain ones to the bit, for any length and factor
+    /// (a partial block at the end dropped, as before).
+    #[test]
+    fn decimation_gives_the_plain_block_means_bit_for_bit() {
+        let y: Vec<f64> = (0..1000)
+            .map(|n| (n as f64 * 0.731).sin() * 1e3 + (n % 7) as f64 * 1e-9)
+            .collect();
+        for len in [0, 1, 5, 31, 32, 33, 199, 1000] {
+            for factor in 2..=13 {
+                let inv = 1.0 / factor as f64;
+                let plain: Vec<f64> = y[..len]
+                    .chunks_exact(factor)
+                    .map(|c| c.iter().sum::<f64>() * inv)
+                    .collect();
+                let got = decimate(&y[..len], factor);
+                let bits = |x: &[f64]| x.iter().map(|v| v.to_bits()).collect::<Vec<_>>();
+                assert_eq!(bits(&got), bits(&plain), "len {len}, factor {factor}");
+            }
+        }
+        // a block of negative zeros keeps its sign, as `sum` keeps it
+        assert!(
+            decimate(&[-0.0; 16], 2)
+                .iter()
+                .all(|x| x.is_sign_negative())
+        );
     }
 
     /// A factor of 1 hands back the samples themselves, borrowed, not a copy of them.

@@ -342,7 +342,7 @@ fn check_traces(v: &[f64], i: &[f64], known_hz: Option<f64>) -> Result<(), Estim
         if flat {
             return Err(EstimateError::FlatTrace(t, y[0]));
         }
-        let peak = y.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        let peak = crate::condition::peak_magnitude(y);
         if !(MIN_MAGNITUDE..=MAX_MAGNITUDE).contains(&peak) {
             return Err(EstimateError::OutOfRange(t, peak));
         }
