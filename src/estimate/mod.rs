@@ -283,17 +283,35 @@ pub fn frequency<'a>(
         ),
     };
     let (_, order, decimation) = order_and_decimation(fs, coarse_hz, wanted_order)?;
-    let y = if source == Trace::Voltage { v } else { i };
-    let yd = decimate(y, decimation);
-    let refined = frequency::refine(&yd, fs / decimation as f64, coarse_hz, order);
+    let (y, other) = if source == Trace::Voltage {
+        (v, i)
+    } else {
+        (i, v)
+    };
+    // the other trace decimated for the fit while this one is refined (two cores when free)
+    let ((yd, refined), other_d) = both(
+        || {
+            let yd = decimate(y, decimation);
+            let refined = frequency::refine(&yd, fs / decimation as f64, coarse_hz, order);
+            (yd, refined)
+        },
+        || decimate(other, decimation),
+    );
     Ok(Frequency {
         hz: refined.hz,
         coarse_hz,
         source,
         refined: Some(refined),
-        decimated: Some(yd),
+        decimated: Some(if source == Trace::Voltage {
+            (yd, other_d)
+        } else {
+            (other_d, yd)
+        }),
     })
 }
+
+/// A voltage and a current decimated for the fit.
+type Decimated<'a> = (Cow<'a, [f64]>, Cow<'a, [f64]>);
 
 /// A fundamental frequency to fit at: given, or found by [`frequency`] (with what its
 /// uncertainty follows from, and the decimated trace it was refined on, which the fit reuses).
@@ -308,8 +326,9 @@ pub struct Frequency<'a> {
     source: Trace,
     /// The refinement, when it was found here.
     refined: Option<frequency::Refined>,
-    /// The source trace, decimated for the refinement.
-    decimated: Option<Cow<'a, [f64]>>,
+    /// The voltage and the current decimated as the fit needs them: the source for the
+    /// refinement, the other beside it.
+    decimated: Option<Decimated<'a>>,
 }
 
 impl Frequency<'_> {
@@ -393,12 +412,11 @@ pub fn estimate_found(
         decimated,
     } = found;
     let (order_limit, order, decimation) = order_and_decimation(fs, coarse_hz, wanted_order)?;
-    // The two traces are independent until the angle: each gets its own thread (the one the
-    // frequency was refined on is decimated already).
-    let (vd, id) = match (decimated, source) {
-        (Some(yd), Trace::Voltage) => (yd, decimate(i, decimation)),
-        (Some(yd), Trace::Current) => (decimate(v, decimation), yd),
-        (None, _) => both(|| decimate(v, decimation), || decimate(i, decimation)),
+    // The two traces are independent until the angle: each gets its own thread (both are
+    // decimated already when the frequency was found here).
+    let (vd, id) = match decimated {
+        Some(pair) => pair,
+        None => both(|| decimate(v, decimation), || decimate(i, decimation)),
     };
     let fsd = fs / decimation as f64;
     let cycles = v.len() as f64 * f / fs;
