@@ -944,6 +944,7 @@ struct TimeCheck {
 }
 
 impl TimeCheck {
+    #[inline]
     fn push(&mut self, t: f64) -> Result<(), LoadErrorKind> {
         if self.n > 0 {
             let dt = t - self.last;
@@ -957,8 +958,14 @@ impl TimeCheck {
                 self.min_dt = dt;
                 self.max_dt = dt;
             } else {
-                self.min_dt = self.min_dt.min(dt);
-                self.max_dt = self.max_dt.max(dt);
+                // as `f64::min` and `f64::max` for any dt that passed the check above, in
+                // fewer instructions (this runs once a row)
+                if dt < self.min_dt {
+                    self.min_dt = dt;
+                }
+                if dt > self.max_dt {
+                    self.max_dt = dt;
+                }
             }
         } else {
             self.first = t;

@@ -59,6 +59,39 @@ fn value_of(t: u64, n: u32) -> u64 {
         >> 32
 }
 
+/// The unsigned decimal at `s[at]` when its digits and its point all lie in `word` (the eight
+/// bytes from there, `int_len` digits then the point, as [`digit_run`] found them) and the
+/// byte after its last digit is not a digit: its value and length. The point is taken out by
+/// moving the digits after it down one byte, so all of them are read by one [`value_of`]: the
+/// same integer mantissa as the two runs' `int·10^k + frac`, divided by the same power of ten.
+#[inline(always)]
+fn in_one_word(s: &[u8], at: usize, word: u64, int_len: u32, t: u64) -> Option<(f64, usize)> {
+    if int_len >= 8 || (word >> (8 * int_len)) as u8 != b'.' {
+        return None;
+    }
+    let not_digit = (t.wrapping_add(ONES * 0x76) | t) & (ONES * 0x80);
+    // the first byte after the point that is not a digit (8: none in this word)
+    let past_point = not_digit & u64::MAX.checked_shl(8 * int_len + 8).unwrap_or(0);
+    let end = past_point.trailing_zeros() / 8;
+    if end == 8 && s.get(at + 8).is_some_and(u8::is_ascii_digit) {
+        return None; // more digits than the word holds
+    }
+    let digits = end - 1;
+    if digits == 0 {
+        return None; // a point alone
+    }
+    let below = (1u64 << (8 * int_len)) - 1;
+    let joined = (t & below) | ((t >> 8) & !below);
+    let frac_len = end - 1 - int_len;
+    let x = value_of(joined, digits) as i64 as f64;
+    let x = if frac_len > 0 {
+        x / POW10[frac_len as usize]
+    } else {
+        x
+    };
+    Some((x, end as usize))
+}
+
 /// The plain decimal starting at `s[at]`, and the offset of the first byte after it; `None` for
 /// anything outside the subset in the module note (the byte after it is not looked at).
 #[inline]
@@ -66,7 +99,11 @@ pub(super) fn plain_decimal(s: &[u8], at: usize) -> Option<(f64, usize)> {
     let first = *s.get(at)?;
     let neg = first == b'-';
     let int_at = at + usize::from(neg || first == b'+');
-    let (int_len, int_digits) = digit_run(load8(s, int_at));
+    let word = load8(s, int_at);
+    let (int_len, int_digits) = digit_run(word);
+    if let Some((x, len)) = in_one_word(s, int_at, word, int_len, int_digits) {
+        return Some((if neg { -x } else { x }, int_at + len));
+    }
     let mut end = int_at + int_len as usize;
     let (frac_len, frac_digits) = if s.get(end) == Some(&b'.') {
         let (n, d) = digit_run(load8(s, end + 1));
@@ -82,7 +119,8 @@ pub(super) fn plain_decimal(s: &[u8], at: usize) -> Option<(f64, usize)> {
     }
     let m = value_of(int_digits, int_len) * POW10_INT[frac_len as usize]
         + value_of(frac_digits, frac_len);
-    let x = m as f64;
+    // m < 10^15: exact, and one instruction as a signed integer (an unsigned one takes several)
+    let x = m as i64 as f64;
     let x = if frac_len > 0 {
         x / POW10[frac_len as usize]
     } else {
@@ -107,6 +145,12 @@ mod tests {
             (b"5.", 5.0, 2),
             (b"1234567.1234567", 1234567.1234567, 15),
             (b"0", 0.0, 1),
+            // the whole number in the first word, with what ends it inside or just past it
+            (b"0.000001,", 1e-6, 8),
+            (b"-152.85\n", -152.85, 7),
+            (b"1234567.", 1234567.0, 8),
+            (b"123456.7", 123456.7, 8),
+            (b".1234567", 0.1234567, 8),
         ] {
             assert_eq!(plain_decimal(s, 0), Some((x, end)), "{}", s.escape_ascii());
         }

@@ -42,7 +42,7 @@ struct Part {
 }
 
 impl Out<'_> {
-    #[inline]
+    #[inline(always)]
     fn push(&mut self, t: f64, row: &[f64], timed: bool) -> Result<(), GiveUp> {
         if timed {
             self.time.push(t).map_err(|_| GiveUp)?;
