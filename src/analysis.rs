@@ -222,10 +222,19 @@ pub const PREVIEW_CYCLES: f64 = 3.0;
 pub const PREVIEW_POINTS: usize = 2000;
 
 impl Preview {
-    fn new(v: &[f64], i: &[f64], rate_hz: f64, frequency_hz: f64) -> Self {
+    /// `ranges`: the traces' smallest and largest samples where already known (as
+    /// [`condition::range`] gives them).
+    fn new(
+        v: &[f64],
+        i: &[f64],
+        rate_hz: f64,
+        frequency_hz: f64,
+        ranges: [Option<(f64, f64)>; 2],
+    ) -> Self {
         let n = ((PREVIEW_CYCLES * rate_hz / frequency_hz).ceil() as usize).min(v.len());
         let stride = n.div_ceil(PREVIEW_POINTS).max(1);
-        let (vr, ir) = (condition::range(v), condition::range(i));
+        let vr = ranges[0].unwrap_or_else(|| condition::range(v));
+        let ir = ranges[1].unwrap_or_else(|| condition::range(i));
         Preview {
             time_s: (0..n).step_by(stride).map(|k| k as f64 / rate_hz).collect(),
             voltage: v[..n].iter().step_by(stride).copied().collect(),
@@ -381,6 +390,15 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
     );
     let found = found.map_err(fail)?;
     let frequency_hz = found.hz;
+    // the range of a phase's trace that is a trace as loaded (not one derived from others):
+    // its tops scan's, with no further pass over the samples
+    let known_range = |y: &[f64]| {
+        traces
+            .iter()
+            .zip(&checks)
+            .find(|((t, _), _)| std::ptr::eq(t.samples.as_slice(), y))
+            .map(|(_, (tops, _))| tops.range())
+    };
     // phase k's fit: at the frequency found on its own traces (phase a's), or given
     let phase_estimate = |k: usize, found: Option<estimate::Frequency<'_>>| {
         let ps = &samples[k];
@@ -408,7 +426,10 @@ pub fn analyze(mut capture: Capture, settings: &Settings) -> Result<Analysis, An
                     uncertainty::uncertainty(v, i, &est, &q, phase_skew(k), &settings.uncertainty);
                 (q, u)
             },
-            || Preview::new(v, i, rate, est.frequency_hz),
+            || {
+                let ranges = [known_range(v), known_range(i)];
+                Preview::new(v, i, rate, est.frequency_hz, ranges)
+            },
         );
         Ok::<_, AnalysisError>((est, q, uncertainty, preview))
     };

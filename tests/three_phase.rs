@@ -849,3 +849,45 @@ fn the_power_triangle_of_a_three_phase_capture_is_the_systems() {
     );
     assert!(triangle::plot(&a).unwrap().contains("SU1"));
 }
+
+/// Each phase's preview keeps the smallest and largest sample of its voltage and current (the
+/// waveform plot shades flat tops from them), held to a plain fold over the per-phase samples:
+/// taken from the clipping scan where the phase's trace is one loaded from the file (4-wire),
+/// and found afresh where it is derived (a 3-wire capture's star voltages, its missing
+/// current).
+#[test]
+fn each_phase_preview_keeps_its_own_traces_extremes() {
+    let dir = TempDir::new().unwrap();
+    let phi = 0.8f64.acos().to_degrees();
+    let three_wire = vec![
+        col("Vab", 400.0, 30.0),
+        col("Vcb", 400.0, 90.0),
+        col("Ia", 10.0, -phi),
+        col("Ic", 10.0, 120.0 - phi),
+    ];
+    for (name, cols) in [
+        ("four-wire.csv", balanced(230.0, 10.0, 30.0)),
+        ("three-wire.csv", three_wire),
+    ] {
+        let path = write_csv(dir.path(), name, &cols, 10.0, Some(40.0));
+        let opts = LoadOptions::default();
+        let capture = capture::load(&path, &opts).unwrap();
+        let plain = |y: &[f64]| {
+            let lo = y.iter().copied().fold(f64::INFINITY, f64::min);
+            let hi = y.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+            (lo, hi)
+        };
+        let expected: Vec<_> = tracephase::condition::per_phase(&capture)
+            .iter()
+            .map(|ps| {
+                let ((vl, vh), (il, ih)) = (plain(&ps.voltage), plain(&ps.current));
+                (vl, vh, il, ih)
+            })
+            .collect();
+        let a = load_and_analyze(&path, &opts);
+        assert_eq!(a.phases.len(), 3, "{name}");
+        for (p, e) in a.phases.iter().zip(&expected) {
+            assert_eq!(p.preview.extremes, *e, "{name}, phase {:?}", p.phase);
+        }
+    }
+}

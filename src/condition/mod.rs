@@ -251,6 +251,13 @@ pub struct Tops {
     above_lo: f64,
 }
 
+impl Tops {
+    /// The trace's smallest and largest sample, as [`range`] gives them.
+    pub fn range(&self) -> (f64, f64) {
+        (self.lo, self.hi)
+    }
+}
+
 /// The [`Tops`] of a trace.
 pub fn tops(y: &[f64]) -> Tops {
     let (hi, lo) = scan::extremes(y);
