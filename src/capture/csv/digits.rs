@@ -85,7 +85,7 @@ fn in_one_word(s: &[u8], at: usize, word: u64, int_len: u32, t: u64) -> Option<(
     let frac_len = end - 1 - int_len;
     let x = value_of(joined, digits) as i64 as f64;
     let x = if frac_len > 0 {
-        x / POW10[frac_len as usize]
+        x / POW10[(frac_len & 7) as usize] // frac_len < 8: the mask only spares a bounds check
     } else {
         x
     };

@@ -19,6 +19,10 @@ use std::io::{ErrorKind, Read, Seek, SeekFrom};
 use std::path::Path;
 use std::sync::atomic::{AtomicBool, Ordering};
 
+/// Slots for the cells of a row, one for every value of the `u8` that names a used column
+/// (at most [`MAX_COLUMNS`] + 1 are used).
+const CELL_SLOTS: usize = 256;
+
 /// A part met something only the reference reader handles (or could not be read).
 #[derive(Debug)]
 struct GiveUp;
@@ -62,6 +66,31 @@ impl Out<'_> {
                 spill.push(x);
             }
         }
+        Ok(())
+    }
+
+    /// [`Out::push`] of the cells `pick` names, straight from where the row's cells were
+    /// stored (no copy of the row first).
+    #[inline(always)]
+    fn push_picked(&mut self, cells: &[f64; CELL_SLOTS], spec: &RowSpec) -> Result<(), GiveUp> {
+        let n = self.n;
+        if n >= self.cols.first().map_or(0, |c| c.len()) {
+            // past this part's share: through the spill buffers
+            let mut row = [0.0; MAX_COLUMNS];
+            for (slot, &k) in row.iter_mut().zip(&spec.pick) {
+                *slot = cells[usize::from(k)];
+            }
+            let t = spec.pick_time.map_or(0.0, |k| cells[usize::from(k)]);
+            return self.push(t, &row[..spec.pick.len()], spec.time_col.is_some());
+        }
+        if spec.time_col.is_some() {
+            let t = spec.pick_time.map_or(0.0, |k| cells[usize::from(k)]);
+            self.time.push(t).map_err(|_| GiveUp)?;
+        }
+        for (col, &k) in self.cols.iter_mut().zip(&spec.pick) {
+            col[n] = cells[usize::from(k)];
+        }
+        self.n = n + 1;
         Ok(())
     }
 
@@ -359,17 +388,13 @@ fn read_part(
 /// The lines of `chunk` (which holds no CR), each read by [`quick_row`] when it can be and by
 /// [`row`] otherwise: the same values either way, with no search for each line's end first.
 fn lines(chunk: &[u8], spec: &RowSpec, out: &mut Out<'_>) -> Result<(), GiveUp> {
-    let mut cells = [0.0; MAX_COLUMNS + 1];
-    let mut picked = [0.0; MAX_COLUMNS];
+    // indexed by a `u8`: no bounds check where a cell is stored or picked
+    let mut cells = [0.0; CELL_SLOTS];
     let mut at = 0;
     while at < chunk.len() {
         match quick_row(chunk, at, spec, &mut cells) {
             Some(next) => {
-                for (slot, &k) in picked.iter_mut().zip(&spec.pick) {
-                    *slot = cells[usize::from(k)];
-                }
-                let t = spec.pick_time.map_or(0.0, |k| cells[usize::from(k)]);
-                out.push(t, &picked[..spec.pick.len()], spec.time_col.is_some())?;
+                out.push_picked(&cells, spec)?;
                 at = next;
             }
             None => {
@@ -390,7 +415,7 @@ fn quick_row(
     chunk: &[u8],
     mut at: usize,
     spec: &RowSpec,
-    cells: &mut [f64; MAX_COLUMNS + 1],
+    cells: &mut [f64; CELL_SLOTS],
 ) -> Option<usize> {
     let delimiter = spec.delimiter;
     let last = spec.plan.len().checked_sub(1)?;
@@ -402,7 +427,7 @@ fn quick_row(
             }
             Some(k) => {
                 let (x, end) = digits::plain_decimal(chunk, at)?;
-                *cells.get_mut(usize::from(k))? = x;
+                cells[usize::from(k)] = x;
                 end
             }
         };
