@@ -342,7 +342,7 @@ pub fn save_analyses(
 }
 
 /// A batch report: its capture sections were written one by one, in order, into the file
-/// `sections` as the captures were analysed (by [`capture_html`]); `digests` and `rows` describe
+/// `sections` as the captures were analysed (by [`crate::report::html::capture_html`]); `digests` and `rows` describe
 /// the same captures for the file list and the summary table.
 pub fn save_spooled(
     path: &Path,

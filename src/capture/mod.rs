@@ -88,7 +88,7 @@ impl fmt::Display for ChannelSel {
 #[derive(Debug, Clone, Default)]
 pub struct LoadOptions {
     /// The voltage channel; default: the one channel in volts or named like a voltage (see
-    /// [`pick_channels`]).
+    /// `pick::pick_channels`).
     pub voltage: Option<ChannelSel>,
     /// The current channel; default: the one channel in amperes or named like a current.
     pub current: Option<ChannelSel>,

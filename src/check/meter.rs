@@ -18,8 +18,8 @@
 //!   power (or V, I) measured at all there is nothing to compare: the check is inconclusive and
 //!   its error is NaN (null in JSON).
 //! - **Limits.** P: the class's active limit at the measured |PF|
-//!   ([`AccuracyClass::active_limit_percent`]). Q: the reactive limit at the measured |sin φ|
-//!   ([`AccuracyClass::reactive_limit_percent`]). S: the active limit at the measured |PF| (our
+//!   ([`AccuracyClass::limit`]). Q: the reactive class's limit at the measured |sin φ|
+//!   (the same [`AccuracyClass::limit`]). S: the active limit at the measured |PF| (our
 //!   rule). PF: the active limit, in percent of reading (our rule, common practice). V and I: the
 //!   classes set no limit for them; the active limit at unity PF is used (our rule: V and I feed
 //!   the energy figure that limit holds).

@@ -313,7 +313,7 @@ pub fn frequency<'a>(
 /// A voltage and a current decimated for the fit.
 type Decimated<'a> = (Cow<'a, [f64]>, Cow<'a, [f64]>);
 
-/// A fundamental frequency to fit at: given, or found by [`frequency`] (with what its
+/// A fundamental frequency to fit at: given, or found by [`frequency()`] (with what its
 /// uncertainty follows from, and the decimated trace it was refined on, which the fit reuses).
 #[derive(Debug, Clone)]
 pub struct Frequency<'a> {
@@ -395,7 +395,7 @@ fn order_limit(fs: f64, hz: f64) -> Result<usize, EstimateError> {
     Ok(order_limit)
 }
 
-/// [`estimate`] at a frequency found by [`frequency`] on these traces, or given (the traces
+/// [`estimate`] at a frequency found by [`frequency()`] on these traces, or given (the traces
 /// then checked by the caller as [`estimate_at`] checks them).
 pub fn estimate_found(
     v: &[f64],

@@ -3,7 +3,7 @@
 //! versions of the same sums elsewhere.
 //!
 //! - [`dot`]: Σ a·b.
-//! - [`table_sums`]: Σ_m y[m]·C[h][m] and Σ_m y[m]·S[h][m] for every row h of a cosine and a sine
+//! - [`table_sums`]: `Σ_m y[m]·C[h][m]` and `Σ_m y[m]·S[h][m]` for every row h of a cosine and a sine
 //!   table, four rows at a time so that each sample is loaded once per four rows and eight
 //!   independent sums keep the multiply-add units busy.
 //! - [`table_sums_pair`]: the same sums of two chunks (a phase's voltage and current) against

@@ -82,7 +82,7 @@ const INTERPOLATION_CHECKED_UP_TO: f64 = 512.0;
 const OFFSETS: usize = 4;
 
 /// How far the crossing detector's interpolation between samples moves this trace's crossing
-/// phase at `per_cycle` samples per cycle, radians, one signed value for each of [`OFFSETS`]
+/// phase at `per_cycle` samples per cycle, radians, one signed value for each of `OFFSETS`
 /// sub-sample starting points: the detector run on the fitted series sampled that way, against
 /// the same series at 2048 points per cycle. Harmonics no larger than `floor` (RMS) are left
 /// out of the series: fitted noise, whose curvature the detector averages away over the cycles

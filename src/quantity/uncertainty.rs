@@ -27,7 +27,7 @@
 //!   default 5 % is what IEC 61000-4-7 class I allows for harmonics, from memory): the
 //!   distortion ratio moves by the same share, u = THD·limit/√3.
 //!
-//! The frequency's Type A part is that of the estimator used ([`crate::estimate::frequency`]):
+//! The frequency's Type A part is that of the estimator used ([`crate::estimate::frequency()`]):
 //! the phase slope across sub-records, each sub-record's phase with the noise of its own length,
 //! never below the Cramér-Rao bound of the whole record.
 

@@ -76,7 +76,7 @@ pub fn write(
     write_with(out, r, plate, before, after, None, format)
 }
 
-/// [`write`], with the switching of a `bank --capture`.
+/// [`write()`], with the switching of a `bank --capture`.
 pub fn write_with(
     out: &mut dyn Write,
     r: &BankReport,

@@ -13,7 +13,7 @@
 //!   first window: of the frequency found on the record's first second), rounded to whole
 //!   samples;
 //! - each window's own frequency is measured by the phase slope of the fundamental between its
-//!   two halves (the method of [`crate::estimate::frequency`]), and the window is fitted at it.
+//!   two halves (the method of [`crate::estimate::frequency()`]), and the window is fitted at it.
 //!
 //! The standard re-synchronises the windows to each 10-minute clock tick; a capture carries no
 //! clock we could trust to that, so ours run from the first sample to the end. A last part

@@ -23,7 +23,7 @@
 //! Sample rates: one rate; none, with the rate from the time stamps and `timemult`; or several,
 //! each with its last sample (`samp,endsamp`). A record with several rates is a run of
 //! [`super::RateSegment`]s; the capture holds the one part a span lies in, or the longest, with
-//! its place in the record as its [`super::Span`] ([`super::span::choose_segment`]).
+//! its place in the record as its [`super::Span`] (`span::choose_segment`).
 //!
 //! Each channel's skew (the time after the time stamp its sample was taken) becomes its trace's
 //! delay ([`super::Trace::delay_s`]), which the analysis removes channel by channel.

@@ -1,7 +1,7 @@
 //! A delta-connected bank branch by branch: the capacitance between each pair of lines (a-b,
 //! b-c, c-a), resolved from the fundamental phasors of the captures before and after switching.
 //!
-//! The star-equivalent figures of [`super::phases`] cannot say which branch of a delta is weak:
+//! The star-equivalent figures of `super::phases` cannot say which branch of a delta is weak:
 //! a weak branch draws on two lines and makes two phases look weak. With the load unchanged
 //! between the captures, the bank's own line currents are `ΔI_x = I_x(after) − I_x(before)`,
 //! each capture's phasors first referred to its own phase-a voltage (the two captures are taken

@@ -226,7 +226,7 @@ const MIN_ORDERS_SHOWN: usize = 15;
 pub const SHOWN_FROM_PERCENT: f64 = 0.05;
 
 /// The highest order drawn: two past the last order where either trace reaches
-/// [`SHOWN_FROM_PERCENT`], at least [`MIN_ORDERS_SHOWN`], at most the analysed order.
+/// [`SHOWN_FROM_PERCENT`], at least `MIN_ORDERS_SHOWN`, at most the analysed order.
 pub fn last_shown_order(a: &Analysis) -> usize {
     let q = &a.quantities;
     let last = q
