@@ -41,10 +41,16 @@ fn load8(s: &[u8], at: usize) -> u64 {
 #[inline(always)]
 fn digit_run(x: u64) -> (u32, u64) {
     let t = x ^ (ONES * u64::from(b'0'));
+    (not_digits(t).trailing_zeros() / 8, t)
+}
+
+/// The top bit of each byte of `t` (bytes with `'0'` taken off) that is not a digit; past the
+/// first such byte the marks may be wrong.
+#[inline(always)]
+fn not_digits(t: u64) -> u64 {
     // A byte above 9 gets its top bit set by adding 0x76; a byte with the top bit already set is
     // caught by `| t`. A carry out of a non-digit byte can only disturb the bytes after it.
-    let not_digit = (t.wrapping_add(ONES * 0x76) | t) & (ONES * 0x80);
-    (not_digit.trailing_zeros() / 8, t)
+    (t.wrapping_add(ONES * 0x76) | t) & (ONES * 0x80)
 }
 
 /// The value of the first `n` (0 to 8) digits held in `t` (as [`digit_run`] gives them).
@@ -69,9 +75,9 @@ fn in_one_word(s: &[u8], at: usize, word: u64, int_len: u32, t: u64) -> Option<(
     if int_len >= 8 || (word >> (8 * int_len)) as u8 != b'.' {
         return None;
     }
-    let not_digit = (t.wrapping_add(ONES * 0x76) | t) & (ONES * 0x80);
-    // the first byte after the point that is not a digit (8: none in this word)
-    let past_point = not_digit & u64::MAX.checked_shl(8 * int_len + 8).unwrap_or(0);
+    // the first byte after the point that is not a digit (8: none in this word); the point's
+    // own byte sends no carry on (0x2E ^ 0x30 = 0x1E, plus 0x76 stays below 0x100)
+    let past_point = not_digits(t) & u64::MAX.checked_shl(8 * int_len + 8).unwrap_or(0);
     let end = past_point.trailing_zeros() / 8;
     if end == 8 && s.get(at + 8).is_some_and(u8::is_ascii_digit) {
         return None; // more digits than the word holds
